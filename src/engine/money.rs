@@ -1,0 +1,250 @@
+//! Currencies, their minor units, and rounding to them.
+
+use std::fmt;
+
+use rust_decimal::{Decimal, RoundingStrategy};
+
+/// A currency Residue knows, with its ISO 4217 minor-unit exponent.
+///
+/// The exponents are those of the ISO 4217 list (from memory of the published
+/// table): two decimals for most currencies, none for JPY, KRW, ISK and CLP,
+/// three for the dinars of Kuwait, Bahrain, Jordan and Tunisia and the rial of Oman.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct Currency {
+    code: &'static str,
+    minor_units: u32,
+}
+
+const CURRENCIES: &[Currency] = &[
+    Currency {
+        code: "USD",
+        minor_units: 2,
+    },
+    Currency {
+        code: "EUR",
+        minor_units: 2,
+    },
+    Currency {
+        code: "GBP",
+        minor_units: 2,
+    },
+    Currency {
+        code: "CAD",
+        minor_units: 2,
+    },
+    Currency {
+        code: "AUD",
+        minor_units: 2,
+    },
+    Currency {
+        code: "NZD",
+        minor_units: 2,
+    },
+    Currency {
+        code: "CHF",
+        minor_units: 2,
+    },
+    Currency {
+        code: "SEK",
+        minor_units: 2,
+    },
+    Currency {
+        code: "NOK",
+        minor_units: 2,
+    },
+    Currency {
+        code: "DKK",
+        minor_units: 2,
+    },
+    Currency {
+        code: "MXN",
+        minor_units: 2,
+    },
+    Currency {
+        code: "INR",
+        minor_units: 2,
+    },
+    Currency {
+        code: "ZAR",
+        minor_units: 2,
+    },
+    Currency {
+        code: "JPY",
+        minor_units: 0,
+    },
+    Currency {
+        code: "KRW",
+        minor_units: 0,
+    },
+    Currency {
+        code: "ISK",
+        minor_units: 0,
+    },
+    Currency {
+        code: "CLP",
+        minor_units: 0,
+    },
+    Currency {
+        code: "KWD",
+        minor_units: 3,
+    },
+    Currency {
+        code: "BHD",
+        minor_units: 3,
+    },
+    Currency {
+        code: "JOD",
+        minor_units: 3,
+    },
+    Currency {
+        code: "OMR",
+        minor_units: 3,
+    },
+    Currency {
+        code: "TND",
+        minor_units: 3,
+    },
+];
+
+impl Currency {
+    pub const USD: Currency = CURRENCIES[0];
+
+    /// The currency with this ISO 4217 code (upper case).
+    ///
+    /// # Errors
+    /// `None` for a code Residue does not know.
+    pub fn parse(code: &str) -> Option<Currency> {
+        CURRENCIES.iter().copied().find(|c| c.code == code)
+    }
+
+    /// Every known currency code.
+    pub fn codes() -> impl Iterator<Item = &'static str> {
+        CURRENCIES.iter().map(|c| c.code)
+    }
+
+    pub fn code(&self) -> &'static str {
+        self.code
+    }
+
+    /// Digits after the decimal point (the ISO 4217 exponent).
+    pub fn minor_units(&self) -> u32 {
+        self.minor_units
+    }
+
+    /// One minor unit (0.01 for USD, 1 for JPY, 0.001 for KWD).
+    pub fn minor_unit(&self) -> Decimal {
+        Decimal::new(1, self.minor_units)
+    }
+
+    /// Rounds to the minor unit with an explicit rule.
+    pub fn round(&self, amount: Decimal, rule: RoundingStrategy) -> Decimal {
+        let mut r = amount.round_dp_with_strategy(self.minor_units, rule);
+        r.rescale(self.minor_units);
+        r
+    }
+
+    /// True when `amount` has no more decimals than the currency allows.
+    pub fn fits(&self, amount: Decimal) -> bool {
+        amount.normalize().scale() <= self.minor_units
+    }
+
+    /// The amount as text with exactly the currency's decimals ("1110.21", "1234", "0.125").
+    pub fn format(&self, amount: Decimal) -> String {
+        self.round(amount, RoundingStrategy::MidpointAwayFromZero)
+            .to_string()
+    }
+}
+
+impl fmt::Display for Currency {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.code)
+    }
+}
+
+/// How the posted payment is rounded to the minor unit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum PaymentRounding {
+    /// To the nearest minor unit, halves away from zero.
+    #[default]
+    Nearest,
+    /// Up to the next minor unit, so the regular payments never fall short.
+    Up,
+}
+
+impl PaymentRounding {
+    pub fn strategy(self) -> RoundingStrategy {
+        match self {
+            PaymentRounding::Nearest => RoundingStrategy::MidpointAwayFromZero,
+            PaymentRounding::Up => RoundingStrategy::AwayFromZero,
+        }
+    }
+}
+
+/// How each period's interest is rounded to the minor unit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum InterestRounding {
+    /// Halves away from zero (common practice, no source).
+    #[default]
+    HalfUp,
+    /// Halves to the even minor unit.
+    HalfEven,
+}
+
+impl InterestRounding {
+    pub fn strategy(self) -> RoundingStrategy {
+        match self {
+            InterestRounding::HalfUp => RoundingStrategy::MidpointAwayFromZero,
+            InterestRounding::HalfEven => RoundingStrategy::MidpointNearestEven,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn d(s: &str) -> Decimal {
+        s.parse().unwrap()
+    }
+
+    #[test]
+    fn minor_units_follow_iso_4217() {
+        // ISO 4217 exponents (from memory of the published list).
+        assert_eq!(Currency::parse("USD").unwrap().minor_units(), 2);
+        assert_eq!(Currency::parse("JPY").unwrap().minor_units(), 0);
+        assert_eq!(Currency::parse("KWD").unwrap().minor_units(), 3);
+        assert!(Currency::parse("XYZ").is_none());
+        assert!(Currency::parse("usd").is_none());
+    }
+
+    #[test]
+    fn formatting_keeps_exactly_the_minor_units() {
+        let usd = Currency::USD;
+        assert_eq!(usd.format(d("1110.2")), "1110.20");
+        assert_eq!(usd.format(d("5")), "5.00");
+        assert_eq!(Currency::parse("JPY").unwrap().format(d("1234")), "1234");
+        assert_eq!(Currency::parse("KWD").unwrap().format(d("0.1")), "0.100");
+    }
+
+    #[test]
+    fn rounding_rules_differ_only_at_halves_and_for_up() {
+        let usd = Currency::USD;
+        assert_eq!(
+            usd.round(d("0.125"), InterestRounding::HalfUp.strategy()),
+            d("0.13")
+        );
+        assert_eq!(
+            usd.round(d("0.125"), InterestRounding::HalfEven.strategy()),
+            d("0.12")
+        );
+        assert_eq!(
+            usd.round(d("599.5505"), PaymentRounding::Nearest.strategy()),
+            d("599.55")
+        );
+        assert_eq!(
+            usd.round(d("599.5505"), PaymentRounding::Up.strategy()),
+            d("599.56")
+        );
+        assert!(usd.fits(d("1.50")) && usd.fits(d("1.500")) && !usd.fits(d("1.505")));
+    }
+}
