@@ -6,6 +6,8 @@
 //! therefore agree with exact rational stepping to about 1e-22 relative to the
 //! size of the terms, and money is always rounded with an explicit rule.
 
+pub mod apr;
+pub mod apy;
 pub mod error;
 pub mod ledger;
 pub mod loan;

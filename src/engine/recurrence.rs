@@ -201,6 +201,12 @@ impl Recurrence {
                 }
             }
         }
+        // Order for reading: z = 0 first, then the others from the largest down.
+        common.sort_by(|p, q| match (p.at.is_zero(), q.at.is_zero()) {
+            (true, false) => std::cmp::Ordering::Less,
+            (false, true) => std::cmp::Ordering::Greater,
+            _ => q.at.cmp(&p.at),
+        });
         let mut numerator = Poly::default();
         for (n, poles) in &terms {
             let mut lifted = n.clone();

@@ -1,0 +1,368 @@
+//! Reading request fields from a JSON object or a query string into typed values.
+//!
+//! Parse, don't validate: each reader turns one field into a domain value or
+//! records a [`FieldError`] naming it, so a request reports every bad field at
+//! once. Fields never read are unknown: [`Fields::finish`] refuses them, so a
+//! mistyped name cannot be silently ignored.
+
+use rust_decimal::Decimal;
+
+use super::json::Json;
+use super::problem::FieldError;
+
+/// Where the fields come from.
+#[derive(Debug, Clone, Copy)]
+pub enum Source<'a> {
+    /// The members of a JSON object, with the JSON Pointer of that object.
+    Json {
+        members: &'a [(String, Json)],
+        pointer: &'a str,
+    },
+    /// Query parameters, in order, possibly repeated.
+    Query(&'a [(String, String)]),
+}
+
+/// One field's raw value.
+#[derive(Debug, Clone, Copy)]
+pub enum Raw<'a> {
+    Text(&'a str),
+    Json(&'a Json),
+}
+
+/// Reads fields from a source, collecting errors and remembering what was read.
+#[derive(Debug)]
+pub struct Fields<'a> {
+    source: Source<'a>,
+    read: Vec<&'static str>,
+    /// Accept "250,000" and "6.5%" as a person types them (pages, not the API).
+    pub lenient: bool,
+    pub errors: Vec<FieldError>,
+}
+
+/// The most characters a single value may have.
+const MAX_VALUE_LENGTH: usize = 200;
+
+impl<'a> Fields<'a> {
+    pub fn new(source: Source<'a>) -> Self {
+        Self {
+            source,
+            read: Vec::new(),
+            lenient: false,
+            errors: Vec::new(),
+        }
+    }
+
+    /// The pointer of a field: "/name" in JSON (under the object's pointer), "name" in a query.
+    pub fn pointer(&self, name: &str) -> String {
+        match self.source {
+            Source::Json { pointer, .. } => format!("{pointer}/{name}"),
+            Source::Query(_) => name.to_string(),
+        }
+    }
+
+    /// Records an error on a field.
+    pub fn error(&mut self, name: &str, message: impl Into<String>) {
+        let pointer = self.pointer(name);
+        self.errors.push(FieldError {
+            pointer,
+            message: message.into(),
+        });
+    }
+
+    /// True when the field is present (and marks it read).
+    pub fn has(&mut self, name: &'static str) -> bool {
+        self.raw(name).is_some()
+    }
+
+    /// The field's raw value, if present; a repeated query parameter is an error.
+    pub fn raw(&mut self, name: &'static str) -> Option<Raw<'a>> {
+        if !self.read.contains(&name) {
+            self.read.push(name);
+        }
+        match self.source {
+            Source::Json { members, .. } => members
+                .iter()
+                .find(|(k, _)| k == name)
+                .map(|(_, v)| Raw::Json(v)),
+            Source::Query(pairs) => {
+                let mut found = pairs.iter().filter(|(k, _)| k == name);
+                let first = found.next()?;
+                if found.next().is_some() {
+                    self.error(name, "is given more than once");
+                    return None;
+                }
+                if first.1.is_empty() {
+                    // An empty form field means "not given".
+                    return None;
+                }
+                Some(Raw::Text(first.1.as_str()))
+            }
+        }
+    }
+
+    /// The field as text (a JSON string, or a query value).
+    pub fn text(&mut self, name: &'static str) -> Option<&'a str> {
+        match self.raw(name)? {
+            Raw::Text(t) => Some(t),
+            Raw::Json(Json::String(s)) => Some(s.as_str()),
+            Raw::Json(other) => {
+                self.error(name, format!("must be a string, not {}", other.kind()));
+                None
+            }
+        }
+    }
+
+    /// A decimal number given as a JSON number or a string of plain decimal digits.
+    pub fn decimal(&mut self, name: &'static str) -> Option<Decimal> {
+        let text = match self.raw(name)? {
+            Raw::Text(t) => t,
+            Raw::Json(Json::Number(n)) => n.as_str(),
+            Raw::Json(Json::String(s)) => s.as_str(),
+            Raw::Json(other) => {
+                self.error(name, format!("must be a number, not {}", other.kind()));
+                return None;
+            }
+        };
+        match parse_decimal(text, self.lenient) {
+            Ok(d) => Some(d),
+            Err(message) => {
+                self.error(name, message);
+                None
+            }
+        }
+    }
+
+    /// A whole number from 0 to `max`.
+    pub fn count(&mut self, name: &'static str, max: u32) -> Option<u32> {
+        let d = self.decimal(name)?;
+        if d.fract() != Decimal::ZERO
+            || d.is_sign_negative() && !d.is_zero()
+            || d > Decimal::from(max)
+        {
+            self.error(name, format!("must be a whole number from 0 to {max}"));
+            return None;
+        }
+        rust_decimal::prelude::ToPrimitive::to_u32(&d)
+    }
+
+    /// One of a fixed set of names.
+    pub fn choice<T>(
+        &mut self,
+        name: &'static str,
+        parse: impl Fn(&str) -> Option<T>,
+        allowed: &[&str],
+    ) -> Option<T> {
+        let text = self.text(name)?;
+        match parse(text) {
+            Some(v) => Some(v),
+            None => {
+                self.error(name, format!("must be one of: {}", allowed.join(", ")));
+                None
+            }
+        }
+    }
+
+    /// Refuses every field that was not read, and returns the collected errors.
+    ///
+    /// # Errors
+    /// All field errors, unknown fields included.
+    pub fn finish(mut self) -> Result<(), Vec<FieldError>> {
+        let unknown: Vec<String> = match self.source {
+            Source::Json { members, .. } => members
+                .iter()
+                .map(|(k, _)| k.clone())
+                .filter(|k| !self.read.contains(&k.as_str()))
+                .collect(),
+            Source::Query(pairs) => {
+                let mut names: Vec<String> = Vec::new();
+                for (k, _) in pairs {
+                    if !self.read.contains(&k.as_str()) && !names.contains(k) {
+                        names.push(k.clone());
+                    }
+                }
+                names
+            }
+        };
+        for name in unknown {
+            let shown: String = name.chars().take(60).collect();
+            let pointer = match self.source {
+                Source::Json { pointer, .. } => format!("{pointer}/{}", escape_pointer(&shown)),
+                Source::Query(_) => shown,
+            };
+            self.errors.push(FieldError {
+                pointer,
+                message: "is not a known field".into(),
+            });
+        }
+        if self.errors.is_empty() {
+            Ok(())
+        } else {
+            Err(self.errors)
+        }
+    }
+}
+
+/// Escapes a member name for a JSON Pointer (RFC 6901: ~ as ~0, / as ~1).
+pub fn escape_pointer(name: &str) -> String {
+    name.replace('~', "~0").replace('/', "~1")
+}
+
+/// Parses decimal text exactly: an optional minus, digits, an optional point and
+/// digits, optionally an exponent (e.g. from a JSON encoder). Nothing is rounded:
+/// a value that needs more than 28 significant digits is refused.
+///
+/// With `lenient`, thousands separators ("250,000"), surrounding spaces, a
+/// trailing "%" and a leading currency sign are removed first.
+///
+/// # Errors
+/// A message for a person, naming what is wrong.
+pub fn parse_decimal(text: &str, lenient: bool) -> Result<Decimal, String> {
+    let owned;
+    let mut t = text;
+    if lenient {
+        let trimmed = t
+            .trim()
+            .trim_end_matches('%')
+            .trim_start_matches(['$', '€', '£'])
+            .trim();
+        owned = trimmed.replace([',', ' ', '\u{a0}', '_'], "");
+        t = &owned;
+    }
+    if t.len() > MAX_VALUE_LENGTH {
+        return Err("is too long to be a number".into());
+    }
+    if t.is_empty() {
+        return Err("must be a number, not empty".into());
+    }
+    let (mantissa, exponent) = match t.find(['e', 'E']) {
+        Some(at) => (&t[..at], Some(&t[at + 1..])),
+        None => (t, None),
+    };
+    let body = mantissa.strip_prefix('-').unwrap_or(mantissa);
+    let (int, frac) = match body.split_once('.') {
+        Some((i, f)) => (i, Some(f)),
+        None => (body, None),
+    };
+    let digits_ok = |s: &str| !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit());
+    if !digits_ok(int) || frac.is_some_and(|f| !digits_ok(f)) {
+        if t.contains(',') {
+            return Err("must be a plain number without thousands separators, e.g. 250000".into());
+        }
+        if t.eq_ignore_ascii_case("nan") || t.to_ascii_lowercase().contains("inf") {
+            return Err("must be a finite number".into());
+        }
+        return Err(format!(
+            "must be a number written with digits, e.g. 1250.50, not \"{}\"",
+            shorten(text)
+        ));
+    }
+    let value = match exponent {
+        None => Decimal::from_str_exact(t)
+            .map_err(|_| "has more than 28 significant digits".to_string())?,
+        Some(e) => {
+            let e_digits = e.strip_prefix(['-', '+']).unwrap_or(e);
+            if !digits_ok(e_digits) || e_digits.len() > 3 {
+                return Err("has an exponent out of range".into());
+            }
+            let exp: i32 = e
+                .parse()
+                .map_err(|_| "has an exponent out of range".to_string())?;
+            scale_exact(
+                Decimal::from_str_exact(mantissa)
+                    .map_err(|_| "has more than 28 significant digits".to_string())?,
+                exp,
+            )
+            .ok_or_else(|| "is too large or too small for exact decimal arithmetic".to_string())?
+        }
+    };
+    Ok(value)
+}
+
+/// m × 10^exp exactly, or `None` when it cannot be held in 28 digits.
+fn scale_exact(m: Decimal, exp: i32) -> Option<Decimal> {
+    let m = m.normalize();
+    if exp >= 0 {
+        let mut v = m;
+        for _ in 0..exp {
+            v = v.checked_mul(Decimal::TEN)?;
+        }
+        Some(v)
+    } else {
+        let scale = m.scale() + exp.unsigned_abs();
+        if scale > 28 {
+            return None;
+        }
+        Some(Decimal::from_i128_with_scale(m.mantissa(), scale))
+    }
+}
+
+fn shorten(s: &str) -> String {
+    let mut out: String = s.chars().filter(|c| !c.is_control()).take(24).collect();
+    if s.chars().count() > 24 {
+        out.push('…');
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn d(s: &str) -> Decimal {
+        s.parse().unwrap()
+    }
+
+    #[test]
+    fn plain_decimals_parse_exactly() {
+        assert_eq!(parse_decimal("0.1", false).unwrap(), d("0.1"));
+        assert_eq!(parse_decimal("-12.50", false).unwrap(), d("-12.50"));
+        assert_eq!(parse_decimal("6.375e0", false).unwrap(), d("6.375"));
+        assert_eq!(parse_decimal("25e3", false).unwrap(), d("25000"));
+        assert_eq!(parse_decimal("5e-3", false).unwrap(), d("0.005"));
+    }
+
+    #[test]
+    fn bad_numbers_are_refused_with_reasons() {
+        for bad in [
+            "",
+            "1,000",
+            "NaN",
+            "Infinity",
+            "1e400",
+            "1e-400",
+            "+5",
+            "١٢",
+            "1.2.3",
+            "12345678901234567890123456789",
+        ] {
+            assert!(parse_decimal(bad, false).is_err(), "{bad}");
+        }
+        assert!(parse_decimal("1,000", false)
+            .unwrap_err()
+            .contains("thousands"));
+    }
+
+    #[test]
+    fn lenient_reading_takes_what_a_person_types() {
+        assert_eq!(parse_decimal("250,000", true).unwrap(), d("250000"));
+        assert_eq!(parse_decimal(" 6.5% ", true).unwrap(), d("6.5"));
+        assert_eq!(parse_decimal("$1,250.00", true).unwrap(), d("1250.00"));
+    }
+
+    #[test]
+    fn unknown_and_repeated_query_fields_are_errors() {
+        let pairs = vec![
+            ("principal".to_string(), "1".to_string()),
+            ("princpal".to_string(), "2".to_string()),
+            ("x".to_string(), "1".to_string()),
+            ("x".to_string(), "2".to_string()),
+        ];
+        let mut f = Fields::new(Source::Query(&pairs));
+        assert_eq!(f.decimal("principal"), Some(d("1")));
+        assert_eq!(f.decimal("x"), None);
+        let errors = f.finish().unwrap_err();
+        assert_eq!(errors.len(), 2);
+        assert_eq!(errors[0].pointer, "x");
+        assert_eq!(errors[1].pointer, "princpal");
+    }
+}

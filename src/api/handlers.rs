@@ -1,0 +1,185 @@
+//! HTTP handlers and extractors of the API: each one reads, calls the engine, writes.
+
+use axum::body::Bytes;
+use axum::extract::{FromRequest, RawQuery, Request, State};
+use axum::http::{header, HeaderMap, HeaderValue};
+use axum::response::{IntoResponse, Response};
+use axum::Json as JsonResponse;
+use serde::Serialize;
+
+use super::fields::{Fields, Source};
+use super::json::{self, Json};
+use super::loans::{loan_terms_from, schedule_csv, LoanScheduleDto};
+use super::problem::{ApiError, FieldError, ProblemKind};
+use super::recurrence;
+use crate::engine::schedule::schedule;
+use crate::server::AppState;
+
+/// A request body that is a JSON object, read within the size limit.
+pub struct JsonBody(pub Json);
+
+impl FromRequest<AppState> for JsonBody {
+    type Rejection = ApiError;
+
+    async fn from_request(req: Request, state: &AppState) -> Result<Self, Self::Rejection> {
+        let content_type = req
+            .headers()
+            .get(header::CONTENT_TYPE)
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or("");
+        let essence = content_type
+            .split(';')
+            .next()
+            .unwrap_or("")
+            .trim()
+            .to_ascii_lowercase();
+        if essence != "application/json"
+            && !(essence.starts_with("application/") && essence.ends_with("+json"))
+        {
+            return Err(ApiError::new(
+                ProblemKind::UnsupportedMediaType,
+                format!(
+                    "send the body as application/json (it came as \"{}\")",
+                    content_type.chars().take(60).collect::<String>()
+                ),
+            ));
+        }
+        let limit = state.config.max_body_bytes;
+        let bytes = axum::body::to_bytes(req.into_body(), limit)
+            .await
+            .map_err(|_| {
+                ApiError::new(
+                    ProblemKind::TooLarge,
+                    format!("the body may be at most {limit} bytes"),
+                )
+            })?;
+        parse_object(&bytes).map(JsonBody)
+    }
+}
+
+/// Parses a body that must be a JSON object.
+///
+/// # Errors
+/// Malformed JSON (400), or a value that is not an object (422).
+pub fn parse_object(bytes: &Bytes) -> Result<Json, ApiError> {
+    let v =
+        json::parse(bytes).map_err(|e| ApiError::new(ProblemKind::MalformedJson, e.to_string()))?;
+    if !matches!(v, Json::Object(_)) {
+        return Err(ApiError::fields(vec![FieldError {
+            pointer: String::new(),
+            message: format!("the body must be a JSON object, not {}", v.kind()),
+        }]));
+    }
+    Ok(v)
+}
+
+/// Query parameters in order.
+///
+/// # Errors
+/// A query string that is not valid percent-encoded UTF-8.
+pub fn query_pairs(q: Option<&str>) -> Result<Vec<(String, String)>, ApiError> {
+    let q = q.unwrap_or("");
+    if q.len() > 16 * 1024 {
+        return Err(ApiError::new(
+            ProblemKind::MalformedQuery,
+            "the query string is longer than 16 KiB",
+        ));
+    }
+    let pairs: Vec<(String, String)> = form_urlencoded::parse(q.as_bytes()).into_owned().collect();
+    if let Some((k, _)) = pairs
+        .iter()
+        .find(|(k, v)| k.contains('\u{fffd}') || v.contains('\u{fffd}'))
+    {
+        return Err(ApiError::new(
+            ProblemKind::MalformedQuery,
+            format!(
+                "the parameter \"{}\" is not valid UTF-8 once percent-decoded",
+                k.chars().take(40).collect::<String>()
+            ),
+        ));
+    }
+    Ok(pairs)
+}
+
+/// A JSON answer with the right media type.
+pub fn json_answer<T: Serialize>(value: &T) -> Response {
+    JsonResponse(value).into_response()
+}
+
+/// A CSV answer (RFC 4180), offered as a download with a file name.
+pub fn csv_answer(body: String, filename: &str) -> Response {
+    let mut r = body.into_response();
+    r.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("text/csv; charset=utf-8; header=present"),
+    );
+    if let Ok(v) = HeaderValue::from_str(&format!("inline; filename=\"{filename}\"")) {
+        r.headers_mut().insert(header::CONTENT_DISPOSITION, v);
+    }
+    r
+}
+
+/// True when the client asks for CSV before JSON.
+pub fn wants_csv(headers: &HeaderMap) -> bool {
+    let accept = headers
+        .get(header::ACCEPT)
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("");
+    let csv = accept.find("text/csv");
+    let json = accept.find("application/json");
+    match (csv, json) {
+        (Some(c), Some(j)) => c < j,
+        (Some(_), None) => true,
+        _ => false,
+    }
+}
+
+fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
+    let terms = loan_terms_from(fields)?;
+    let s = schedule(&terms).map_err(|e| ApiError::from_engine(e, ""))?;
+    Ok(if csv {
+        csv_answer(schedule_csv(&s), "schedule.csv")
+    } else {
+        json_answer(&LoanScheduleDto::from_schedule(&s))
+    })
+}
+
+/// `POST /api/v1/loans/schedule`
+pub async fn schedule_post(
+    headers: HeaderMap,
+    JsonBody(body): JsonBody,
+) -> Result<Response, ApiError> {
+    let Json::Object(members) = &body else {
+        unreachable!("parse_object checks")
+    };
+    loan_answer(
+        Fields::new(Source::Json {
+            members,
+            pointer: "",
+        }),
+        wants_csv(&headers),
+    )
+}
+
+/// `GET /api/v1/loans/schedule?…`
+pub async fn schedule_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+    let pairs = query_pairs(q.as_deref())?;
+    loan_answer(Fields::new(Source::Query(&pairs)), wants_csv(&headers))
+}
+
+/// `GET /api/v1/loans/schedule.csv?…`
+pub async fn schedule_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+    let pairs = query_pairs(q.as_deref())?;
+    loan_answer(Fields::new(Source::Query(&pairs)), true)
+}
+
+/// `POST /api/v1/recurrence`
+pub async fn recurrence_post(JsonBody(body): JsonBody) -> Result<Response, ApiError> {
+    let (r, ks) = recurrence::read_recurrence(&body)?;
+    Ok(json_answer(&recurrence::answer(&r, &ks)?))
+}
+
+/// `GET /healthz`
+pub async fn healthz(State(_): State<AppState>) -> Response {
+    json_answer(&serde_json::json!({"status": "ok"}))
+}

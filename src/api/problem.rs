@@ -1,0 +1,206 @@
+//! Problem details (RFC 9457): the one error type of the interface.
+//!
+//! Every failure of a request becomes an [`ApiError`]; its single
+//! `IntoResponse` decides the status, the stable `type` URI and the public
+//! message. Internal errors answer with a generic message only.
+
+use axum::http::{header, HeaderValue, StatusCode};
+use axum::response::{IntoResponse, Response};
+use serde::Serialize;
+
+use crate::engine::{EngineError, ErrorKind};
+
+/// One bad field: a JSON Pointer into the body (or the query parameter's name) and why.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct FieldError {
+    pub pointer: String,
+    pub message: String,
+}
+
+/// The kinds of problem, each with a stable type URI documented in the API guide.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ProblemKind {
+    MalformedJson,
+    MalformedQuery,
+    InvalidFields,
+    NoSolution,
+    Overflow,
+    UnsupportedMediaType,
+    TooLarge,
+    NotFound,
+    MethodNotAllowed,
+    NotAcceptable,
+    Overloaded,
+    Timeout,
+    Internal,
+}
+
+impl ProblemKind {
+    pub const ALL: [ProblemKind; 13] = [
+        ProblemKind::MalformedJson,
+        ProblemKind::MalformedQuery,
+        ProblemKind::InvalidFields,
+        ProblemKind::NoSolution,
+        ProblemKind::Overflow,
+        ProblemKind::UnsupportedMediaType,
+        ProblemKind::TooLarge,
+        ProblemKind::NotFound,
+        ProblemKind::MethodNotAllowed,
+        ProblemKind::NotAcceptable,
+        ProblemKind::Overloaded,
+        ProblemKind::Timeout,
+        ProblemKind::Internal,
+    ];
+
+    /// The short name that ends the type URI.
+    pub fn slug(self) -> &'static str {
+        match self {
+            ProblemKind::MalformedJson => "malformed-json",
+            ProblemKind::MalformedQuery => "malformed-query",
+            ProblemKind::InvalidFields => "invalid-fields",
+            ProblemKind::NoSolution => "no-solution",
+            ProblemKind::Overflow => "overflow",
+            ProblemKind::UnsupportedMediaType => "unsupported-media-type",
+            ProblemKind::TooLarge => "too-large",
+            ProblemKind::NotFound => "not-found",
+            ProblemKind::MethodNotAllowed => "method-not-allowed",
+            ProblemKind::NotAcceptable => "not-acceptable",
+            ProblemKind::Overloaded => "overloaded",
+            ProblemKind::Timeout => "timeout",
+            ProblemKind::Internal => "internal",
+        }
+    }
+
+    /// The type URI: a reference to the guide's section on this problem.
+    pub fn type_uri(self) -> String {
+        format!("/api#problem-{}", self.slug())
+    }
+
+    pub fn status(self) -> StatusCode {
+        match self {
+            ProblemKind::MalformedJson | ProblemKind::MalformedQuery => StatusCode::BAD_REQUEST,
+            ProblemKind::InvalidFields | ProblemKind::NoSolution | ProblemKind::Overflow => {
+                StatusCode::UNPROCESSABLE_ENTITY
+            }
+            ProblemKind::UnsupportedMediaType => StatusCode::UNSUPPORTED_MEDIA_TYPE,
+            ProblemKind::TooLarge => StatusCode::PAYLOAD_TOO_LARGE,
+            ProblemKind::NotFound => StatusCode::NOT_FOUND,
+            ProblemKind::MethodNotAllowed => StatusCode::METHOD_NOT_ALLOWED,
+            ProblemKind::NotAcceptable => StatusCode::NOT_ACCEPTABLE,
+            ProblemKind::Overloaded | ProblemKind::Timeout => StatusCode::SERVICE_UNAVAILABLE,
+            ProblemKind::Internal => StatusCode::INTERNAL_SERVER_ERROR,
+        }
+    }
+
+    pub fn title(self) -> &'static str {
+        match self {
+            ProblemKind::MalformedJson => "The body is not valid JSON",
+            ProblemKind::MalformedQuery => "The query string cannot be read",
+            ProblemKind::InvalidFields => "Some fields are missing or invalid",
+            ProblemKind::NoSolution => "These terms have no solution",
+            ProblemKind::Overflow => "A figure leaves the range of exact decimal arithmetic",
+            ProblemKind::UnsupportedMediaType => "The body must be JSON",
+            ProblemKind::TooLarge => "The body is too large",
+            ProblemKind::NotFound => "Nothing is here",
+            ProblemKind::MethodNotAllowed => "This method is not allowed here",
+            ProblemKind::NotAcceptable => "No representation matches the Accept header",
+            ProblemKind::Overloaded => "The service is busy",
+            ProblemKind::Timeout => "The request took too long",
+            ProblemKind::Internal => "Something went wrong inside the service",
+        }
+    }
+}
+
+/// A request's failure, ready to be answered as problem details.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ApiError {
+    pub kind: ProblemKind,
+    pub detail: String,
+    pub errors: Vec<FieldError>,
+}
+
+/// The problem-details document.
+#[derive(Debug, Serialize)]
+pub struct Problem {
+    #[serde(rename = "type")]
+    pub type_uri: String,
+    pub title: &'static str,
+    pub status: u16,
+    pub detail: String,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub errors: Vec<FieldError>,
+}
+
+impl ApiError {
+    pub fn new(kind: ProblemKind, detail: impl Into<String>) -> Self {
+        Self {
+            kind,
+            detail: detail.into(),
+            errors: vec![],
+        }
+    }
+
+    /// Field errors found while reading a request.
+    pub fn fields(errors: Vec<FieldError>) -> Self {
+        let detail = match errors.as_slice() {
+            [one] => format!("{}: {}", one.pointer, one.message),
+            many => format!("{} fields need attention", many.len()),
+        };
+        Self {
+            kind: ProblemKind::InvalidFields,
+            detail,
+            errors,
+        }
+    }
+
+    /// An engine error, pointed at its field. `prefix` is the JSON Pointer of the
+    /// object the field belongs to ("" at the top, or a query string's "").
+    pub fn from_engine(e: EngineError, prefix: &str) -> Self {
+        let kind = match e.kind {
+            ErrorKind::OutOfRange => ProblemKind::InvalidFields,
+            ErrorKind::NoSolution => ProblemKind::NoSolution,
+            ErrorKind::Overflow => ProblemKind::Overflow,
+        };
+        let errors = e
+            .field
+            .map(|f| {
+                vec![FieldError {
+                    pointer: format!("{prefix}{f}"),
+                    message: e.message.clone(),
+                }]
+            })
+            .unwrap_or_default();
+        Self {
+            kind,
+            detail: e.to_string(),
+            errors,
+        }
+    }
+
+    pub fn problem(&self) -> Problem {
+        Problem {
+            type_uri: self.kind.type_uri(),
+            title: self.kind.title(),
+            status: self.kind.status().as_u16(),
+            detail: self.detail.clone(),
+            errors: self.errors.clone(),
+        }
+    }
+}
+
+impl IntoResponse for ApiError {
+    fn into_response(self) -> Response {
+        let status = self.kind.status();
+        let body = serde_json::to_vec(&self.problem()).unwrap_or_default();
+        let mut response = (status, body).into_response();
+        let headers = response.headers_mut();
+        headers.insert(
+            header::CONTENT_TYPE,
+            HeaderValue::from_static("application/problem+json"),
+        );
+        if matches!(self.kind, ProblemKind::Overloaded | ProblemKind::Timeout) {
+            headers.insert(header::RETRY_AFTER, HeaderValue::from_static("1"));
+        }
+        response
+    }
+}

@@ -1,0 +1,202 @@
+//! The router, its middleware (limits, timeouts, headers, logs) and graceful shutdown.
+
+use std::net::SocketAddr;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::Arc;
+use std::time::{Duration, Instant};
+
+use axum::extract::{Request, State};
+use axum::http::{header, HeaderValue, Method};
+use axum::middleware::{self, Next};
+use axum::response::{IntoResponse, Response};
+use axum::routing::{get, post};
+use axum::Router;
+use tokio::net::TcpListener;
+use tokio::sync::Semaphore;
+
+use crate::api::handlers;
+use crate::api::problem::{ApiError, ProblemKind};
+use crate::web;
+
+/// Limits and addresses, from flags or environment variables (see `main.rs`).
+#[derive(Debug, Clone)]
+pub struct Config {
+    pub addr: SocketAddr,
+    /// The largest request body accepted.
+    pub max_body_bytes: usize,
+    /// Requests computed at once; more are answered 503 with Retry-After.
+    pub max_in_flight: usize,
+    /// The longest a request may take before it is answered 503.
+    pub request_timeout: Duration,
+}
+
+impl Default for Config {
+    fn default() -> Self {
+        Self {
+            addr: SocketAddr::from(([127, 0, 0, 1], 8080)),
+            max_body_bytes: 1024 * 1024,
+            max_in_flight: 64,
+            request_timeout: Duration::from_secs(10),
+        }
+    }
+}
+
+/// What every handler shares.
+#[derive(Debug, Clone)]
+pub struct AppState {
+    pub config: Arc<Config>,
+    in_flight: Arc<Semaphore>,
+    next_request_id: Arc<AtomicU64>,
+}
+
+impl AppState {
+    pub fn new(config: Config) -> Self {
+        let permits = config.max_in_flight.max(1);
+        Self {
+            config: Arc::new(config),
+            in_flight: Arc::new(Semaphore::new(permits)),
+            next_request_id: Arc::new(AtomicU64::new(1)),
+        }
+    }
+}
+
+/// The whole application as one router (tests drive it without a socket).
+pub fn app(state: AppState) -> Router {
+    let api = Router::new()
+        .route(
+            "/api/v1/loans/schedule",
+            get(handlers::schedule_get).post(handlers::schedule_post),
+        )
+        .route(
+            "/api/v1/loans/schedule.csv",
+            get(handlers::schedule_get_csv),
+        )
+        .route("/api/v1/recurrence", post(handlers::recurrence_post))
+        .merge(web::routes())
+        .method_not_allowed_fallback(method_not_allowed)
+        .fallback(not_found)
+        .layer(middleware::from_fn_with_state(
+            state.clone(),
+            limit_and_time,
+        ))
+        .route("/healthz", get(handlers::healthz));
+    api.layer(middleware::from_fn_with_state(
+        state.clone(),
+        log_and_secure,
+    ))
+    .with_state(state)
+}
+
+async fn not_found() -> ApiError {
+    ApiError::new(
+        ProblemKind::NotFound,
+        "no page or operation has this address",
+    )
+}
+
+async fn method_not_allowed(method: Method) -> ApiError {
+    ApiError::new(
+        ProblemKind::MethodNotAllowed,
+        format!("{method} is not allowed at this address"),
+    )
+}
+
+/// Refuses work beyond the in-flight limit (503, Retry-After) and bounds each request's time.
+async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next) -> Response {
+    let Ok(_permit) = state.in_flight.clone().try_acquire_owned() else {
+        return ApiError::new(
+            ProblemKind::Overloaded,
+            "too many requests are being computed; try again in a moment",
+        )
+        .into_response();
+    };
+    match tokio::time::timeout(state.config.request_timeout, next.run(req)).await {
+        Ok(response) => response,
+        Err(_) => ApiError::new(
+            ProblemKind::Timeout,
+            format!(
+                "the request took longer than {} s",
+                state.config.request_timeout.as_secs_f64()
+            ),
+        )
+        .into_response(),
+    }
+}
+
+/// Security headers on every answer; one log line per request with its id.
+async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next) -> Response {
+    let id = state.next_request_id.fetch_add(1, Ordering::Relaxed);
+    let method = req.method().clone();
+    let path = req.uri().path().to_string();
+    let started = Instant::now();
+    let mut response = next.run(req).await;
+    let h = response.headers_mut();
+    h.insert(
+        header::CONTENT_SECURITY_POLICY,
+        HeaderValue::from_static(
+            "default-src 'none'; style-src 'self'; img-src 'self' data:; script-src 'self'; form-action 'self'; base-uri 'none'; frame-ancestors 'none'",
+        ),
+    );
+    h.insert(
+        header::X_CONTENT_TYPE_OPTIONS,
+        HeaderValue::from_static("nosniff"),
+    );
+    h.insert(
+        header::REFERRER_POLICY,
+        HeaderValue::from_static("no-referrer"),
+    );
+    h.insert(header::X_FRAME_OPTIONS, HeaderValue::from_static("DENY"));
+    if let Ok(v) = HeaderValue::from_str(&id.to_string()) {
+        h.insert("x-request-id", v);
+    }
+    let status = response.status().as_u16();
+    if status >= 500 {
+        tracing::warn!(request_id = id, %method, path, status, micros = started.elapsed().as_micros() as u64, "request");
+    } else {
+        tracing::info!(request_id = id, %method, path, status, micros = started.elapsed().as_micros() as u64, "request");
+    }
+    response
+}
+
+/// Binds the listener (port 0 picks a free one) and returns it with its address.
+///
+/// # Errors
+/// The address cannot be bound.
+pub async fn bind(addr: SocketAddr) -> std::io::Result<(TcpListener, SocketAddr)> {
+    let listener = TcpListener::bind(addr).await?;
+    let local = listener.local_addr()?;
+    Ok((listener, local))
+}
+
+/// Serves until SIGTERM or Ctrl-C, then finishes the requests in flight and returns.
+///
+/// # Errors
+/// The server fails to run.
+pub async fn serve(listener: TcpListener, config: Config) -> std::io::Result<()> {
+    let app = app(AppState::new(config));
+    axum::serve(listener, app)
+        .with_graceful_shutdown(shutdown_signal())
+        .await
+}
+
+async fn shutdown_signal() {
+    let ctrl_c = async {
+        let _ = tokio::signal::ctrl_c().await;
+    };
+    #[cfg(unix)]
+    let term = async {
+        match tokio::signal::unix::signal(tokio::signal::unix::SignalKind::terminate()) {
+            Ok(mut s) => {
+                s.recv().await;
+            }
+            Err(_) => std::future::pending::<()>().await,
+        }
+    };
+    #[cfg(not(unix))]
+    let term = std::future::pending::<()>();
+    tokio::select! {
+        () = ctrl_c => {},
+        () = term => {},
+    }
+    tracing::info!("shutting down: finishing requests in flight");
+}

@@ -1,0 +1,47 @@
+//! HTML pages, server-rendered from the same engine results as the API.
+
+use askama::Template;
+use axum::http::header;
+use axum::response::{Html, IntoResponse, Response};
+use axum::routing::get;
+use axum::Router;
+
+use crate::engine::schedule::CAUTION;
+use crate::server::AppState;
+
+/// The home page.
+#[derive(Template)]
+#[template(path = "home.html")]
+pub struct HomePage {
+    pub caution: &'static str,
+}
+
+fn render<T: Template>(page: &T) -> Response {
+    match page.render() {
+        Ok(html) => Html(html).into_response(),
+        Err(_) => crate::api::problem::ApiError::new(
+            crate::api::problem::ProblemKind::Internal,
+            "the page could not be rendered",
+        )
+        .into_response(),
+    }
+}
+
+async fn home() -> Response {
+    render(&HomePage { caution: CAUTION })
+}
+
+async fn stylesheet() -> Response {
+    (
+        [(header::CONTENT_TYPE, "text/css; charset=utf-8")],
+        include_str!("../../static/residue.css"),
+    )
+        .into_response()
+}
+
+/// The page routes.
+pub fn routes() -> Router<AppState> {
+    Router::new()
+        .route("/", get(home))
+        .route("/static/residue.css", get(stylesheet))
+}
