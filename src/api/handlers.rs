@@ -135,8 +135,9 @@ pub fn wants_csv(headers: &HeaderMap) -> bool {
 }
 
 fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
+    let prefix = fields.pointer("");
     let terms = loan_terms_from(fields)?;
-    let s = schedule(&terms).map_err(|e| ApiError::from_engine(e, ""))?;
+    let s = schedule(&terms).map_err(|e| ApiError::from_engine(e, &prefix))?;
     Ok(if csv {
         csv_answer(schedule_csv(&s), "schedule.csv")
     } else {

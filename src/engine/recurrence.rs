@@ -225,7 +225,41 @@ impl Recurrence {
         };
         let mut reduced = transform.clone();
         let cancelled = reduced.cancel_common_factors()?;
-        let fractions = reduced.partial_fractions()?;
+        // The fractions are found term by term and summed pole by pole: each
+        // term's numerator is a single constant or monomial, whereas the expanded
+        // common numerator cancels digits when evaluated near its poles.
+        let mut fractions: Vec<PoleFractions> = reduced
+            .poles
+            .iter()
+            .map(|p| PoleFractions {
+                pole: p.at,
+                multiplicity: p.multiplicity,
+                coefficients: vec![Decimal::ZERO; p.multiplicity as usize],
+            })
+            .collect();
+        for (n, poles) in &terms {
+            let mut term = Rational {
+                numerator: n.clone(),
+                poles: poles.clone(),
+            };
+            term.cancel_common_factors()?;
+            for f in term.partial_fractions()? {
+                // A power the common form cancelled sums to zero here too (up to rounding): drop it.
+                let Some(target) = fractions.iter_mut().find(|t| t.pole == f.pole) else {
+                    continue;
+                };
+                for (j, c) in f
+                    .coefficients
+                    .iter()
+                    .enumerate()
+                    .take(target.coefficients.len())
+                {
+                    target.coefficients[j] = target.coefficients[j]
+                        .checked_add(*c)
+                        .or_overflow("a partial-fraction coefficient")?;
+                }
+            }
+        }
         let closed_form = ClosedForm::from_fractions(&fractions)?;
         Ok(Solution {
             recurrence: self.clone(),

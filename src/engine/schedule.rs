@@ -194,8 +194,11 @@ pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
             (posted, n, Some(derivation))
         }
         LoanTerm::Payment(p) => {
-            let n = term_for_payment(terms.principal, i, p)?;
-            (p, n, None)
+            // The closed form's term checks that the payment repays at all; the
+            // posted ledger, whose rounded interest may need a payment or two
+            // more, then runs until it is repaid.
+            term_for_payment(terms.principal, i, p)?;
+            (p, MAX_PAYMENTS, None)
         }
     };
     if payment <= Decimal::ZERO {
@@ -239,7 +242,13 @@ pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
     };
     let number_of_payments = ledger.rows.len() as u32;
     let final_payment = ledger.rows.last().map_or(Decimal::ZERO, |r| r.payment);
-    if number_of_payments < max_payments {
+    if matches!(terms.term, LoanTerm::Payment(_)) && final_payment > payment {
+        return Err(EngineError::no_solution(
+            Some("payment"),
+            format!("with interest posted to the minor unit, the payment needs more than {MAX_PAYMENTS} payments to repay the loan"),
+        ));
+    }
+    if number_of_payments < max_payments && matches!(terms.term, LoanTerm::Payments(_)) {
         notes.push(format!(
             "The rounded payment repays the loan after {number_of_payments} payments, {} fewer than the term.",
             max_payments - number_of_payments
