@@ -1,1 +1,103 @@
-fn main() {}
+//! Criterion benchmarks of the engine's hot paths. Run: `cargo bench --bench engine`.
+//! The figures measured on the project's 2-core machine are in the README.
+
+use std::hint::black_box;
+
+use criterion::{criterion_group, criterion_main, Criterion};
+use residue::engine::ledger::{post_level, reconcile};
+use residue::engine::loan::{payment_for_term, rate_for_payment, solve_balance};
+use residue::engine::money::{Currency, InterestRounding, PaymentRounding};
+use residue::engine::rate::{AnnualRate, Frequency};
+use residue::engine::recurrence::{Input, Recurrence};
+use residue::engine::schedule::{schedule, LoanTerm, LoanTerms};
+use rust_decimal::Decimal;
+
+fn d(s: &str) -> Decimal {
+    s.parse().unwrap()
+}
+
+fn benches(c: &mut Criterion) {
+    let i = d("7.125") / d("1200");
+    let principal = d("250000");
+    let payment = Currency::USD.round(
+        payment_for_term(principal, i, 360).unwrap(),
+        PaymentRounding::Nearest.strategy(),
+    );
+    let solution = solve_balance(principal, i, payment).unwrap();
+    let cf = solution.closed_form.clone();
+
+    for k in [360u32, 1000, 6000] {
+        c.bench_function(&format!("closed_form_balance_at_k_{k}"), |b| {
+            b.iter(|| cf.eval(black_box(k)).unwrap())
+        });
+    }
+    let long_payment = payment_for_term(principal, d("0.002"), 6000).unwrap();
+    let long = Recurrence {
+        a: d("1.002"),
+        x0: principal,
+        inputs: vec![Input::Step {
+            amount: -long_payment,
+        }],
+    };
+    let long_cf = long.solve().unwrap().closed_form;
+    c.bench_function("closed_form_balance_at_k_6000_long_loan", |b| {
+        b.iter(|| long_cf.eval(black_box(6000)).unwrap())
+    });
+    c.bench_function("stepping_balance_to_k_6000_long_loan", |b| {
+        b.iter(|| long.step(black_box(6000)).unwrap()[6000])
+    });
+    c.bench_function("solve_recurrence_level_loan", |b| {
+        b.iter(|| solve_balance(black_box(principal), i, payment).unwrap())
+    });
+    c.bench_function("payment_for_term_360", |b| {
+        b.iter(|| payment_for_term(black_box(principal), i, 360).unwrap())
+    });
+    c.bench_function("rate_for_payment_360", |b| {
+        b.iter(|| rate_for_payment(black_box(principal), payment, 360).unwrap())
+    });
+    c.bench_function("posted_ledger_360", |b| {
+        b.iter(|| {
+            post_level(
+                black_box(principal),
+                i,
+                payment,
+                360,
+                Currency::USD,
+                InterestRounding::HalfUp,
+            )
+            .unwrap()
+        })
+    });
+    let ledger = post_level(
+        principal,
+        i,
+        payment,
+        360,
+        Currency::USD,
+        InterestRounding::HalfUp,
+    )
+    .unwrap();
+    c.bench_function("reconcile_360", |b| {
+        b.iter(|| reconcile(black_box(&ledger), &cf, Decimal::ONE + i, Currency::USD).unwrap())
+    });
+    let terms = LoanTerms {
+        principal,
+        currency: Currency::USD,
+        rate: AnnualRate::from_percent(d("7.125")).unwrap(),
+        payment_frequency: Frequency::Monthly,
+        compounding: None,
+        term: LoanTerm::Payments(360),
+        payment_rounding: PaymentRounding::Nearest,
+        interest_rounding: InterestRounding::HalfUp,
+    };
+    c.bench_function("loan_schedule_job_360", |b| {
+        b.iter(|| schedule(black_box(&terms)).unwrap())
+    });
+}
+
+criterion_group! {
+    name = engine;
+    config = Criterion::default().sample_size(30).measurement_time(std::time::Duration::from_secs(2)).warm_up_time(std::time::Duration::from_millis(500));
+    targets = benches
+}
+criterion_main!(engine);

@@ -875,7 +875,8 @@ pub enum UnitPeriodRule {
 pub struct DatedAprResult {
     pub apr: AprResult,
     pub unit_period: UnitPeriod,
-    pub rule: UnitPeriodRule,
+    /// The rule of (b)(4) that chose the unit-period; `None` when the caller gave it.
+    pub rule: Option<UnitPeriodRule>,
     /// The first advance's date: the start of the term.
     pub start: Date,
     /// Each advance, in the order given, placed in unit-periods (count 1).
@@ -1063,12 +1064,11 @@ pub fn apr_from_dates(advances: &[DatedFlow], payments: &[DatedFlow]) -> Result<
     let payment_dates: Vec<Date> = payments.iter().map(|f| f.date).collect();
     let (unit, rule) = find_unit_period(&advance_dates, &payment_dates)?;
     let mut result = apr_from_dates_with_unit(advances, payments, unit)?;
-    result.rule = rule;
+    result.rule = Some(rule);
     Ok(result)
 }
 
-/// As [`apr_from_dates`], with the unit-period given (the rule reported is
-/// [`UnitPeriodRule::MostFrequentCommonPeriod`] only as a placeholder: the caller chose it).
+/// As [`apr_from_dates`], with the unit-period given rather than found (`rule` is `None`).
 ///
 /// # Errors
 /// As [`solve_apr`], or a payment before the first advance.
@@ -1108,7 +1108,7 @@ pub fn apr_from_dates_with_unit(
     Ok(DatedAprResult {
         apr,
         unit_period: unit,
-        rule: UnitPeriodRule::MostFrequentCommonPeriod,
+        rule: None,
         start,
         advances: placed_advances,
         payments: placed_payments,
@@ -1119,7 +1119,7 @@ pub fn apr_from_dates_with_unit(
 /// the solver sums them in closed form.
 fn into_runs(flows: &[UnitFlow]) -> Vec<UnitFlow> {
     let mut sorted: Vec<UnitFlow> = flows.to_vec();
-    sorted.sort_by(|a, b| (a.periods, a.fraction).cmp(&(b.periods, b.fraction)));
+    sorted.sort_by_key(|a| (a.periods, a.fraction));
     let mut runs: Vec<UnitFlow> = Vec::with_capacity(sorted.len());
     for flow in sorted {
         if let Some(last) = runs.last_mut() {
@@ -1386,7 +1386,7 @@ pub fn solve_aprc(drawdowns: &[DatedFlow], repayments: &[DatedFlow]) -> Result<D
             .map(|flow| {
                 Ok(YearFlow {
                     amount: flow.amount,
-                    years: years_between(start, flow.date, basis, field)?,
+                    years: years_from(start, flow.date, basis, field)?,
                 })
             })
             .collect()
@@ -1406,7 +1406,12 @@ pub fn solve_aprc(drawdowns: &[DatedFlow], repayments: &[DatedFlow]) -> Result<D
 ///
 /// # Errors
 /// `date` before `start`, or a date off the calendar.
-pub fn years_between(
+pub fn years_between(start: Date, date: Date, basis: AprcTimeBasis) -> Result<Decimal> {
+    years_from(start, date, basis, "repayments")
+}
+
+/// [`years_between`], errors naming `field`.
+fn years_from(
     start: Date,
     date: Date,
     basis: AprcTimeBasis,
@@ -1439,4 +1444,912 @@ pub fn years_between(
                 / Decimal::from(year_days)
         }
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::error::ErrorKind;
+    use crate::engine::loan::payment_for_term;
+    use crate::engine::rate::nth_root;
+    use jiff::civil::date;
+
+    fn d(s: &str) -> Decimal {
+        s.parse().unwrap()
+    }
+
+    fn close(x: Decimal, want: &str, tolerance: &str) {
+        assert!(
+            (x - d(want)).abs() < d(tolerance),
+            "{x} is not within {tolerance} of {want}"
+        );
+    }
+
+    fn advance(amount: &str) -> Vec<UnitFlow> {
+        vec![UnitFlow::single(d(amount), 0, Decimal::ZERO)]
+    }
+
+    fn flow(amount: &str, on: Date) -> DatedFlow {
+        DatedFlow {
+            amount: d(amount),
+            date: on,
+        }
+    }
+
+    fn series(amount: &str, count: u32, first: Date, frequency: Frequency) -> Vec<DatedFlow> {
+        PaymentSeries {
+            amount: d(amount),
+            count,
+            first_date: first,
+            frequency,
+        }
+        .flows()
+        .unwrap()
+    }
+
+    /// (G(i), G'(i)) summed flow by flow, every run expanded: the reference for the closed form.
+    fn equation_by_loop(advances: &[UnitFlow], payments: &[UnitFlow], i: Decimal) -> Decimal {
+        let mut g = Decimal::ZERO;
+        for (flows, sign) in [(payments, Decimal::ONE), (advances, Decimal::NEGATIVE_ONE)] {
+            for f in flows {
+                for m in 0..f.count {
+                    let t = f.periods + m;
+                    g += sign * f.amount
+                        / ((Decimal::ONE + f.fraction * i) * (Decimal::ONE + i).powi(i64::from(t)));
+                }
+            }
+        }
+        g
+    }
+
+    // Reference rates below: Python's decimal module at 50 digits, bisecting the
+    // same equation of (b)(8) (the figure after "i =" in each comment).
+
+    #[test]
+    fn appendix_j_c_1_i_monthly_payments_from_unit_flows() {
+        // 12 CFR 1026 Appendix J (c)(1)(i): $5,000 advanced 1-10-78; 24 monthly
+        // payments of $230 from 2-10-78: 9.69 %. i = 0.0080714233852339729075831461
+        let r = solve_apr(
+            &advance("5000"),
+            &[UnitFlow::run(d("230"), 1, Decimal::ZERO, 24)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.0080714233852339729075831461", "1e-20");
+        close(r.apr_percent, "9.6857080622807674890997753103", "1e-18");
+        assert_eq!(r.apr_percent_rounded, d("9.69"));
+        assert_eq!(r.unit_periods_per_year, d("12"));
+        // From the binary estimate, Newton's method needs only a few decimal steps.
+        assert!(r.iterations <= 4, "{} steps", r.iterations);
+    }
+
+    #[test]
+    fn appendix_j_c_1_i_monthly_payments_from_dates() {
+        // 12 CFR 1026 Appendix J (c)(1)(i): 9.69 %.
+        let r = apr_from_dates(
+            &[flow("5000", date(1978, 1, 10))],
+            &series("230", 24, date(1978, 2, 10), Frequency::Monthly),
+        )
+        .unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Month);
+        assert_eq!(r.rule, Some(UnitPeriodRule::MostFrequentCommonPeriod));
+        assert_eq!((r.payments[0].periods, r.payments[0].fraction), (1, d("0")));
+        assert_eq!(
+            (r.payments[23].periods, r.payments[23].fraction),
+            (24, d("0"))
+        );
+        close(
+            r.apr.periodic_rate,
+            "0.0080714233852339729075831461",
+            "1e-20",
+        );
+        assert_eq!(r.apr.apr_percent_rounded, d("9.69"));
+    }
+
+    #[test]
+    fn appendix_j_c_1_ii_odd_first_period_from_unit_flows() {
+        // 12 CFR 1026 Appendix J (c)(1)(ii): $6,000 advanced 2-10-78; 36 monthly
+        // payments of $200 from 4-1-78 (t = 1, f = 19/30): 11.82 %.
+        // i = 0.0098470902423550229128265613
+        let f = Decimal::from(19) / Decimal::from(30);
+        let r = solve_apr(
+            &advance("6000"),
+            &[UnitFlow::run(d("200"), 1, f, 36)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.0098470902423550229128265613", "1e-20");
+        close(r.apr_percent, "11.816508290826027495391873613", "1e-18");
+        assert_eq!(r.apr_percent_rounded, d("11.82"));
+    }
+
+    #[test]
+    fn appendix_j_c_1_ii_odd_first_period_from_dates() {
+        // 12 CFR 1026 Appendix J (c)(1)(ii): 11.82 %, first payment at t = 1, f = 19/30
+        // (one month back from 4-1-78 is 3-1-78; 2-10-78 to 3-1-78 is 19 days).
+        let r = apr_from_dates(
+            &[flow("6000", date(1978, 2, 10))],
+            &series("200", 36, date(1978, 4, 1), Frequency::Monthly),
+        )
+        .unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Month);
+        let f = Decimal::from(19) / Decimal::from(30);
+        assert_eq!((r.payments[0].periods, r.payments[0].fraction), (1, f));
+        assert_eq!((r.payments[35].periods, r.payments[35].fraction), (36, f));
+        close(
+            r.apr.periodic_rate,
+            "0.0098470902423550229128265613",
+            "1e-20",
+        );
+        assert_eq!(r.apr.apr_percent_rounded, d("11.82"));
+    }
+
+    #[test]
+    fn appendix_j_c_1_iii_semimonthly_from_unit_flows() {
+        // 12 CFR 1026 Appendix J (c)(1)(iii): $5,000 advanced 2-23-78; 24 semimonthly
+        // payments of $219.17 on the 1st and 16th from 3-1-78 (t = 0, f = 6/15): 10.34 %.
+        // i = 0.0043074595463029554736780516
+        let r = solve_apr(
+            &advance("5000"),
+            &[UnitFlow::run(d("219.17"), 0, d("0.4"), 24)],
+            UnitPeriod::Semimonth,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.0043074595463029554736780516", "1e-20");
+        close(r.apr_percent, "10.337902911127093136827323786", "1e-18");
+        assert_eq!(r.apr_percent_rounded, d("10.34"));
+        assert_eq!(r.unit_periods_per_year, d("24"));
+    }
+
+    #[test]
+    fn appendix_j_c_1_iii_semimonthly_from_dates() {
+        // 12 CFR 1026 Appendix J (c)(1)(iii): 10.34 %; 2-23-78 to 3-1-78 is 6 days: t = 0, f = 6/15.
+        let payments = series("219.17", 24, date(1978, 3, 1), Frequency::Semimonthly);
+        assert_eq!(payments[1].date, date(1978, 3, 16));
+        assert_eq!(payments[23].date, date(1979, 2, 16));
+        let r = apr_from_dates(&[flow("5000", date(1978, 2, 23))], &payments).unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Semimonth);
+        for (k, p) in r.payments.iter().enumerate() {
+            assert_eq!((p.periods, p.fraction), (k as u32, d("0.4")), "payment {k}");
+        }
+        close(
+            r.apr.periodic_rate,
+            "0.0043074595463029554736780516",
+            "1e-20",
+        );
+        assert_eq!(r.apr.apr_percent_rounded, d("10.34"));
+    }
+
+    #[test]
+    fn appendix_j_c_2_i_irregular_first_payment() {
+        // 12 CFR 1026 Appendix J (c)(2)(i): $5,000 advanced 1-10-78; $250 on 2-10-78,
+        // then 23 monthly payments of $230: 10.08 %. i = 0.0084024083559892373993428240
+        let r = solve_apr(
+            &advance("5000"),
+            &[
+                UnitFlow::single(d("250"), 1, Decimal::ZERO),
+                UnitFlow::run(d("230"), 2, Decimal::ZERO, 23),
+            ],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.0084024083559892373993428240", "1e-20");
+        assert_eq!(r.apr_percent_rounded, d("10.08"));
+
+        let mut payments = vec![flow("250", date(1978, 2, 10))];
+        payments.extend(series("230", 23, date(1978, 3, 10), Frequency::Monthly));
+        let dated = apr_from_dates(&[flow("5000", date(1978, 1, 10))], &payments).unwrap();
+        assert_eq!(dated.unit_period, UnitPeriod::Month);
+        close(
+            dated.apr.periodic_rate,
+            "0.0084024083559892373993428240",
+            "1e-20",
+        );
+        assert_eq!(dated.apr.apr_percent_rounded, d("10.08"));
+    }
+
+    #[test]
+    fn appendix_j_c_3_i_irregular_final_payment() {
+        // 12 CFR 1026 Appendix J (c)(3)(i): $5,000 advanced 1-10-78; 23 monthly payments
+        // of $230 from 2-10-78 and a final $280: 10.50 %. i = 0.0087503907148883816406389480
+        let r = solve_apr(
+            &advance("5000"),
+            &[
+                UnitFlow::run(d("230"), 1, Decimal::ZERO, 23),
+                UnitFlow::single(d("280"), 24, Decimal::ZERO),
+            ],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.0087503907148883816406389480", "1e-20");
+        assert_eq!(r.apr_percent_rounded, d("10.50"));
+
+        let mut payments = series("230", 23, date(1978, 2, 10), Frequency::Monthly);
+        payments.push(flow("280", date(1980, 1, 10)));
+        let dated = apr_from_dates(&[flow("5000", date(1978, 1, 10))], &payments).unwrap();
+        assert_eq!(dated.unit_period, UnitPeriod::Month);
+        assert_eq!(dated.payments[23].periods, 24);
+        close(
+            dated.apr.periodic_rate,
+            "0.0087503907148883816406389480",
+            "1e-20",
+        );
+        assert_eq!(dated.apr.apr_percent_rounded, d("10.50"));
+    }
+
+    #[test]
+    fn appendix_j_c_5_i_single_advance_single_payment() {
+        // 12 CFR 1026 Appendix J (c)(5)(i): $1,000 advanced 1-3-78; one payment of $1,080
+        // on 9-15-78: 255 days, a unit-period of 255 days, 365/255 per year: 11.45 %.
+        // i = 0.08 exactly; APR = 8 × 365/255 = 11.450980392156862745098039216 %.
+        let r = solve_apr(
+            &advance("1000"),
+            &[UnitFlow::single(d("1080"), 1, Decimal::ZERO)],
+            UnitPeriod::Days(255),
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.08", "1e-24");
+        close(r.apr_percent, "11.450980392156862745098039216", "1e-20");
+        assert_eq!(r.apr_percent_rounded, d("11.45"));
+
+        let dated = apr_from_dates(
+            &[flow("1000", date(1978, 1, 3))],
+            &[flow("1080", date(1978, 9, 15))],
+        )
+        .unwrap();
+        assert_eq!(dated.unit_period, UnitPeriod::Days(255));
+        assert_eq!(dated.rule, Some(UnitPeriodRule::SingleAdvanceSinglePayment));
+        assert_eq!(
+            (dated.payments[0].periods, dated.payments[0].fraction),
+            (1, d("0"))
+        );
+        close(
+            dated.apr.unit_periods_per_year,
+            "1.4313725490196078431372549020",
+            "1e-27",
+        );
+        assert_eq!(dated.apr.apr_percent_rounded, d("11.45"));
+    }
+
+    #[test]
+    fn a_level_loan_without_fees_has_its_note_rate_as_apr() {
+        // 100,000 at 6 % nominal, 360 monthly payments, the exact (unrounded) payment:
+        // the APR is the note rate.
+        let payment = payment_for_term(d("100000"), d("0.005"), 360).unwrap();
+        let r = solve_apr(
+            &advance("100000"),
+            &[UnitFlow::run(payment, 1, Decimal::ZERO, 360)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.005", "1e-20");
+        close(r.apr_percent, "6", "1e-17");
+        assert_eq!(r.apr_percent_rounded, d("6.00"));
+        // The payment rounded to the cent (599.55) falls just short:
+        // i = 0.0049999931931192170393239771 (mpmath, 50 digits).
+        let rounded = solve_apr(
+            &advance("100000"),
+            &[UnitFlow::run(d("599.55"), 1, Decimal::ZERO, 360)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(
+            rounded.periodic_rate,
+            "0.0049999931931192170393239771",
+            "1e-20",
+        );
+        assert_eq!(rounded.apr_percent_rounded, d("6.00"));
+    }
+
+    #[test]
+    fn a_run_in_closed_form_agrees_with_the_flows_one_by_one() {
+        let run = [UnitFlow::run(d("599.55"), 1, d("0.25"), 360)];
+        let singles: Vec<UnitFlow> = (1..=360)
+            .map(|t| UnitFlow::single(d("599.55"), t, d("0.25")))
+            .collect();
+        let a = solve_apr(&advance("100000"), &run, UnitPeriod::Month).unwrap();
+        let b = solve_apr(&advance("100000"), &singles, UnitPeriod::Month).unwrap();
+        close(a.periodic_rate - b.periodic_rate, "0", "1e-22");
+        // And the root found leaves the equation, summed term by term, at nothing.
+        let g = equation_by_loop(&advance("100000"), &run, a.periodic_rate);
+        close(g, "0", "1e-18");
+        // Dated flows are joined into runs the same way.
+        assert_eq!(into_runs(&singles), run.to_vec());
+    }
+
+    #[test]
+    fn the_closed_form_slope_matches_a_difference_quotient() {
+        for (rate, n) in [
+            ("0.004", 360u32),
+            ("0.3", 24),
+            ("0.0000004", 120),
+            ("0", 12),
+        ] {
+            let i = d(rate);
+            let v = Decimal::ONE / (Decimal::ONE + i);
+            let (_, ds) = annuity_factor(i, v, n).unwrap();
+            let h = d("1e-12");
+            let (s_plus, _) =
+                annuity_factor(i + h, Decimal::ONE / (Decimal::ONE + i + h), n).unwrap();
+            let (s_minus, _) = if i.is_zero() {
+                (Decimal::from(n), Decimal::ZERO)
+            } else {
+                annuity_factor(i - h, Decimal::ONE / (Decimal::ONE + i - h), n).unwrap()
+            };
+            let quotient = if i.is_zero() {
+                (s_plus - s_minus) / h
+            } else {
+                (s_plus - s_minus) / (h * Decimal::TWO)
+            };
+            let tolerance = ds.abs() * d("1e-6") + d("1e-6");
+            assert!(
+                (quotient - ds).abs() < tolerance,
+                "{rate}, {n}: {quotient} vs {ds}"
+            );
+        }
+    }
+
+    #[test]
+    fn a_tiny_finance_charge_is_solved_term_by_term() {
+        // 36,000 repaid by 360 monthly payments of 100.0001: i = 5.5401643684964510793687931e-9
+        // (mpmath, 50 digits), below the closed form's cancellation threshold.
+        let r = solve_apr(
+            &advance("36000"),
+            &[UnitFlow::run(d("100.0001"), 1, Decimal::ZERO, 360)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.0000000055401643684964510794", "1e-22");
+        assert_eq!(r.apr_percent_rounded, d("0.00"));
+    }
+
+    #[test]
+    fn payments_equal_to_the_advances_give_zero() {
+        let r = solve_apr(
+            &advance("1200"),
+            &[UnitFlow::run(d("100"), 1, Decimal::ZERO, 12)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        assert_eq!(r.periodic_rate, Decimal::ZERO);
+        assert_eq!(r.apr_percent_rounded, d("0"));
+        assert_eq!(r.iterations, 0);
+    }
+
+    #[test]
+    fn several_advances_balance_the_equation() {
+        // 1,000 at the start and 1,000 three months later; 24 monthly payments of 95.
+        // i = 0.012296459350978073825535978294 (mpmath, 50 digits).
+        let r = solve_apr(
+            &[
+                UnitFlow::single(d("1000"), 0, Decimal::ZERO),
+                UnitFlow::single(d("1000"), 3, Decimal::ZERO),
+            ],
+            &[UnitFlow::run(d("95"), 1, Decimal::ZERO, 24)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "0.012296459350978073825535978", "1e-20");
+        assert_eq!(r.apr_percent_rounded, d("14.76"));
+    }
+
+    #[test]
+    fn a_very_high_rate_is_bracketed() {
+        // 100 borrowed, 115 repaid 14 days later: a 14-day unit-period, i = 0.15,
+        // APR = 15 × 365/14 = 391.0714…%.
+        let r = apr_from_dates(
+            &[flow("100", date(2026, 3, 2))],
+            &[flow("115", date(2026, 3, 16))],
+        )
+        .unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Days(14));
+        close(r.apr.periodic_rate, "0.15", "1e-24");
+        assert_eq!(r.apr.apr_percent_rounded, d("391.07"));
+        // A rate of 5,000 % a month still converges.
+        let r = solve_apr(
+            &advance("100"),
+            &[UnitFlow::single(d("5100"), 1, Decimal::ZERO)],
+            UnitPeriod::Month,
+        )
+        .unwrap();
+        close(r.periodic_rate, "50", "1e-20");
+    }
+
+    #[test]
+    fn single_payments_over_whole_months_or_beyond_a_year() {
+        // 3 whole months: the unit-period is the term, 4 a year ((b)(5)(vi)).
+        let r = apr_from_dates(
+            &[flow("1000", date(2026, 1, 31))],
+            &[flow("1030", date(2026, 4, 30))],
+        )
+        .unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Quarter);
+        close(r.apr.apr_percent, "12", "1e-20");
+        // Two years: the unit-period is capped at a year, t = 2.
+        let r = apr_from_dates(
+            &[flow("1000", date(2026, 1, 15))],
+            &[flow("1210", date(2028, 1, 15))],
+        )
+        .unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Year);
+        assert_eq!((r.payments[0].periods, r.payments[0].fraction), (2, d("0")));
+        close(r.apr.apr_percent, "10", "1e-20");
+    }
+
+    #[test]
+    fn refusals() {
+        let pay = [UnitFlow::run(d("100"), 1, Decimal::ZERO, 12)];
+        let kind = |r: Result<AprResult>| r.unwrap_err();
+        let e = kind(solve_apr(&[], &pay, UnitPeriod::Month));
+        assert_eq!((e.kind, e.field), (ErrorKind::OutOfRange, Some("advances")));
+        let e = kind(solve_apr(&advance("1000"), &[], UnitPeriod::Month));
+        assert_eq!((e.kind, e.field), (ErrorKind::OutOfRange, Some("payments")));
+        let e = kind(solve_apr(&advance("-1"), &pay, UnitPeriod::Month));
+        assert_eq!(e.field, Some("advances"));
+        let e = kind(solve_apr(
+            &advance("1000"),
+            &[UnitFlow::run(d("100"), 1, Decimal::ONE, 12)],
+            UnitPeriod::Month,
+        ));
+        assert_eq!((e.kind, e.field), (ErrorKind::OutOfRange, Some("payments")));
+        let e = kind(solve_apr(
+            &advance("1000"),
+            &[UnitFlow::run(d("100"), 1, Decimal::ZERO, 0)],
+            UnitPeriod::Month,
+        ));
+        assert_eq!(e.field, Some("payments"));
+        let e = kind(solve_apr(&advance("1000"), &pay, UnitPeriod::Months(0)));
+        assert_eq!(e.field, Some("unit_period"));
+        let e = kind(solve_apr(&advance("1000"), &pay, UnitPeriod::Weeks(53)));
+        assert_eq!(e.field, Some("unit_period"));
+        let e = kind(solve_apr(
+            &advance("1000"),
+            &[UnitFlow::run(d("100"), MAX_UNIT_PERIODS, Decimal::ZERO, 12)],
+            UnitPeriod::Day,
+        ));
+        assert_eq!(e.field, Some("payments"));
+        // Payments short of the advances: the APR would be negative.
+        let e = kind(solve_apr(&advance("1201"), &pay, UnitPeriod::Month));
+        assert_eq!((e.kind, e.field), (ErrorKind::NoSolution, Some("payments")));
+        // A payment at the start larger than the advance: no rate balances.
+        let e = kind(solve_apr(
+            &advance("100"),
+            &[
+                UnitFlow::single(d("150"), 0, Decimal::ZERO),
+                UnitFlow::single(d("10"), 1, Decimal::ZERO),
+            ],
+            UnitPeriod::Month,
+        ));
+        assert_eq!(e.kind, ErrorKind::NoSolution);
+        // Dated: a payment before the advance; every flow on one day.
+        let e = apr_from_dates(
+            &[flow("100", date(2026, 3, 2))],
+            &[flow("110", date(2026, 3, 1))],
+        )
+        .unwrap_err();
+        assert_eq!((e.kind, e.field), (ErrorKind::OutOfRange, Some("payments")));
+        let e = apr_from_dates(
+            &[flow("100", date(2026, 3, 2))],
+            &[flow("110", date(2026, 3, 2))],
+        )
+        .unwrap_err();
+        assert_eq!(e.kind, ErrorKind::NoSolution);
+    }
+
+    #[test]
+    fn unit_periods_per_year() {
+        assert_eq!(UnitPeriod::Month.per_year(), d("12"));
+        assert_eq!(UnitPeriod::Semimonth.per_year(), d("24"));
+        assert_eq!(UnitPeriod::Week.per_year(), d("52"));
+        assert_eq!(UnitPeriod::Weeks(2).per_year(), d("26"));
+        assert_eq!(UnitPeriod::Weeks(4).per_year(), d("13"));
+        assert_eq!(UnitPeriod::Months(2).per_year(), d("6"));
+        assert_eq!(UnitPeriod::Quarter.per_year(), d("4"));
+        assert_eq!(UnitPeriod::Months(3).per_year(), d("4"));
+        assert_eq!(UnitPeriod::Year.per_year(), d("1"));
+        assert_eq!(UnitPeriod::Day.per_year(), d("365"));
+        assert_eq!(UnitPeriod::Days(5).per_year(), d("73"));
+        assert_eq!(UnitPeriod::Months(0).per_year(), d("0"));
+        assert_eq!(UnitPeriod::Months(3).canonical(), UnitPeriod::Quarter);
+        assert_eq!(UnitPeriod::Days(7).canonical(), UnitPeriod::Days(7));
+        assert_eq!(UnitPeriod::Weeks(2).to_string(), "2 weeks");
+    }
+
+    #[test]
+    fn months_are_counted_back_with_the_month_end_rules() {
+        let m = |a: Date, b: Date| {
+            let (months, days, _) = months_back(a, b, "payments").unwrap();
+            (months, days)
+        };
+        // 12 CFR 1026 Appendix J (c)(1)(ii): 2-10-78 to 4-1-78 is 1 month and 19 days.
+        assert_eq!(m(date(1978, 2, 10), date(1978, 4, 1)), (1, 19));
+        // Last day to last day; the 30th to the last day of February.
+        assert_eq!(m(date(2026, 1, 31), date(2026, 4, 30)), (3, 0));
+        assert_eq!(m(date(2026, 1, 30), date(2026, 2, 28)), (1, 0));
+        assert_eq!(m(date(2026, 1, 30), date(2026, 4, 30)), (3, 0));
+        assert_eq!(m(date(2026, 2, 28), date(2026, 5, 31)), (3, 0));
+        assert_eq!(m(date(2024, 1, 29), date(2024, 2, 29)), (1, 0));
+        // A payment on the 30th counts back to the last day of February.
+        assert_eq!(m(date(2026, 2, 20), date(2026, 3, 30)), (1, 8));
+        assert_eq!(m(date(2026, 1, 15), date(2026, 3, 31)), (2, 16));
+        assert_eq!(m(date(2026, 3, 5), date(2026, 3, 20)), (0, 15));
+        // 30 remaining days in a month unit are a whole unit-period: (1 + 1·i) = (1 + i).
+        assert_eq!(m(date(2026, 1, 1), date(2026, 3, 31)), (2, 30));
+        assert_eq!(
+            unit_periods_between(date(2026, 1, 1), date(2026, 3, 31), UnitPeriod::Month).unwrap(),
+            (3, d("0"))
+        );
+    }
+
+    #[test]
+    fn unit_periods_are_counted_by_each_rule_of_b_5() {
+        let at = |a: Date, b: Date, u: UnitPeriod| unit_periods_between(a, b, u).unwrap();
+        // Semimonth: (30 × 1 month + 21 days)/15 = 3 + 6/15.
+        assert_eq!(
+            at(date(1978, 2, 23), date(1978, 4, 16), UnitPeriod::Semimonth),
+            (3, d("0.4"))
+        );
+        // Two months: (30 × 3 + 10)/60.
+        assert_eq!(
+            at(date(2026, 1, 5), date(2026, 4, 15), UnitPeriod::Months(2)),
+            (1, Decimal::from(40) / Decimal::from(60))
+        );
+        // Quarter = three months.
+        assert_eq!(
+            at(date(2026, 1, 5), date(2026, 7, 5), UnitPeriod::Quarter),
+            (2, d("0"))
+        );
+        // Weeks and days: days ÷ days in the unit.
+        assert_eq!(
+            at(date(2026, 1, 1), date(2026, 1, 31), UnitPeriod::Weeks(2)),
+            (2, Decimal::from(2) / Decimal::from(14))
+        );
+        assert_eq!(
+            at(date(2026, 1, 1), date(2026, 1, 31), UnitPeriod::Day),
+            (30, d("0"))
+        );
+        // Year: whole months left → months/12; otherwise days/365.
+        assert_eq!(
+            at(date(2026, 1, 15), date(2027, 4, 15), UnitPeriod::Year),
+            (1, d("0.25"))
+        );
+        assert_eq!(
+            at(date(2026, 1, 15), date(2027, 4, 25), UnitPeriod::Year),
+            (1, Decimal::from(100) / Decimal::from(365))
+        );
+        assert!(unit_periods_between(date(2026, 1, 2), date(2026, 1, 1), UnitPeriod::Day).is_err());
+    }
+
+    #[test]
+    fn payment_series_dates() {
+        let dates = |first: Date, f: Frequency, n: u32| {
+            PaymentSeries {
+                amount: d("1"),
+                count: n,
+                first_date: first,
+                frequency: f,
+            }
+            .dates()
+            .unwrap()
+        };
+        assert_eq!(
+            dates(date(2026, 1, 31), Frequency::Monthly, 4),
+            [
+                date(2026, 1, 31),
+                date(2026, 2, 28),
+                date(2026, 3, 31),
+                date(2026, 4, 30)
+            ]
+        );
+        assert_eq!(
+            dates(date(2026, 1, 30), Frequency::Monthly, 3),
+            [date(2026, 1, 30), date(2026, 2, 28), date(2026, 3, 30)]
+        );
+        assert_eq!(
+            dates(date(2026, 1, 1), Frequency::Semimonthly, 4),
+            [
+                date(2026, 1, 1),
+                date(2026, 1, 16),
+                date(2026, 2, 1),
+                date(2026, 2, 16)
+            ]
+        );
+        assert_eq!(
+            dates(date(2026, 1, 16), Frequency::Semimonthly, 3),
+            [date(2026, 1, 16), date(2026, 2, 1), date(2026, 2, 16)]
+        );
+        assert_eq!(
+            dates(date(2026, 1, 31), Frequency::Semimonthly, 4),
+            [
+                date(2026, 1, 31),
+                date(2026, 2, 16),
+                date(2026, 2, 28),
+                date(2026, 3, 16)
+            ]
+        );
+        assert_eq!(
+            dates(date(2026, 1, 15), Frequency::Semimonthly, 4),
+            [
+                date(2026, 1, 15),
+                date(2026, 1, 30),
+                date(2026, 2, 15),
+                date(2026, 2, 28)
+            ]
+        );
+        assert_eq!(
+            dates(date(2026, 12, 28), Frequency::Biweekly, 3),
+            [date(2026, 12, 28), date(2027, 1, 11), date(2027, 1, 25)]
+        );
+        assert_eq!(
+            dates(date(2026, 1, 1), Frequency::Weekly, 2),
+            [date(2026, 1, 1), date(2026, 1, 8)]
+        );
+        assert_eq!(
+            dates(date(2025, 11, 30), Frequency::Quarterly, 3),
+            [date(2025, 11, 30), date(2026, 2, 28), date(2026, 5, 30)]
+        );
+        assert_eq!(
+            dates(date(2024, 2, 29), Frequency::Annual, 2),
+            [date(2024, 2, 29), date(2025, 2, 28)]
+        );
+        assert_eq!(
+            dates(date(2026, 8, 31), Frequency::Semiannual, 2),
+            [date(2026, 8, 31), date(2027, 2, 28)]
+        );
+        let none = PaymentSeries {
+            amount: d("1"),
+            count: 0,
+            first_date: date(2026, 1, 1),
+            frequency: Frequency::Monthly,
+        };
+        assert_eq!(none.dates().unwrap_err().field, Some("payments"));
+    }
+
+    #[test]
+    fn semimonths_are_recognised_on_their_two_days() {
+        assert!(is_semimonth(date(2026, 3, 1), date(2026, 3, 16)));
+        assert!(is_semimonth(date(2026, 3, 16), date(2026, 4, 1)));
+        assert!(is_semimonth(date(1978, 2, 16), date(1978, 3, 1)));
+        assert!(is_semimonth(date(2026, 1, 15), date(2026, 1, 31)));
+        assert!(is_semimonth(date(2026, 1, 31), date(2026, 2, 15)));
+        assert!(is_semimonth(date(2026, 2, 15), date(2026, 2, 28)));
+        assert!(!is_semimonth(date(2026, 3, 1), date(2026, 3, 15)));
+        assert!(!is_semimonth(date(2026, 3, 10), date(2026, 4, 1)));
+    }
+
+    #[test]
+    fn the_unit_period_is_the_most_frequent_common_period() {
+        // Weekly and biweekly series: the week multiples.
+        let weekly = series("50", 10, date(2026, 1, 8), Frequency::Weekly);
+        let r = apr_from_dates(&[flow("480", date(2026, 1, 1))], &weekly).unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Week);
+        assert_eq!(r.apr.unit_periods_per_year, d("52"));
+        let reference = solve_apr(
+            &advance("480"),
+            &[UnitFlow::run(d("50"), 1, Decimal::ZERO, 10)],
+            UnitPeriod::Week,
+        )
+        .unwrap();
+        assert_eq!(r.apr.periodic_rate, reference.periodic_rate);
+        let biweekly = series("50", 10, date(2026, 1, 15), Frequency::Biweekly);
+        let r = apr_from_dates(&[flow("480", date(2026, 1, 1))], &biweekly).unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Weeks(2));
+        // Quarterly across month ends.
+        let quarterly = series("260", 4, date(2026, 3, 31), Frequency::Quarterly);
+        let r = apr_from_dates(&[flow("1000", date(2025, 12, 31))], &quarterly).unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Quarter);
+        assert!(r.payments.iter().all(|p| p.fraction.is_zero()));
+    }
+
+    #[test]
+    fn equally_frequent_common_periods_give_the_smaller() {
+        // Unconfirmed reading of (b)(4) (REGULATIONS.md): two months, then two
+        // two-week periods: the two weeks.
+        let payments = [
+            flow("100", date(2026, 2, 1)),
+            flow("100", date(2026, 3, 1)),
+            flow("100", date(2026, 3, 15)),
+            flow("100", date(2026, 3, 29)),
+        ];
+        let r = apr_from_dates(&[flow("390", date(2026, 1, 1))], &payments).unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Weeks(2));
+        assert_eq!(r.rule, Some(UnitPeriodRule::SmallerOfEquallyFrequent));
+    }
+
+    #[test]
+    fn without_a_common_period_the_average_is_rounded_to_a_standard_interval() {
+        // Unconfirmed reading of (b)(4): periods of 35 and 43 days average 39 days;
+        // the nearest standard interval is 6 weeks (42 days; a month is 30.4).
+        let payments = [
+            flow("100", date(2026, 2, 5)),
+            flow("100", date(2026, 3, 20)),
+        ];
+        let r = apr_from_dates(&[flow("190", date(2026, 1, 1))], &payments).unwrap();
+        assert_eq!(r.unit_period, UnitPeriod::Weeks(6));
+        assert_eq!(r.rule, Some(UnitPeriodRule::AverageOfPeriods));
+        // 10.5 days is midway between a week and two weeks: the lower.
+        assert_eq!(nearest_standard_interval(21, 2), UnitPeriod::Week);
+        assert_eq!(nearest_standard_interval(61, 2), UnitPeriod::Month);
+        assert_eq!(nearest_standard_interval(2, 2), UnitPeriod::Day);
+    }
+
+    // ---- EU APRC -----------------------------------------------------------
+
+    /// Σ D (1 + X)^(−s) − Σ C (1 + X)^(−t) with times k/n evaluated exactly: the
+    /// n-th root of 1 + X by Newton's method in decimal, then integer powers
+    /// (no logarithm or exponential), as an independent check of the solver.
+    fn residual_in_roots(
+        drawdowns: &[YearFlow],
+        repayments: &[YearFlow],
+        x: Decimal,
+        n: u32,
+    ) -> Decimal {
+        let root = nth_root(Decimal::ONE + x, n).unwrap();
+        let mut g = Decimal::ZERO;
+        for (flows, sign) in [
+            (repayments, Decimal::ONE),
+            (drawdowns, Decimal::NEGATIVE_ONE),
+        ] {
+            for f in flows {
+                let k = (f.years * Decimal::from(n)).round();
+                g += sign * f.amount / root.powi(k.to_i64().unwrap());
+            }
+        }
+        g
+    }
+
+    #[test]
+    fn aprc_of_one_repayment_a_year_later_is_ten_percent() {
+        // Directive 2008/48/EC Annex I, by hand: 1,000 drawn, 1,100 repaid exactly one
+        // year later: 1000 = 1100 (1 + X)^−1, X = 10 %.
+        let r = solve_aprc(
+            &[flow("1000", date(2025, 1, 1))],
+            &[flow("1100", date(2026, 1, 1))],
+        )
+        .unwrap();
+        assert_eq!(r.time_basis, AprcTimeBasis::EqualMonths);
+        assert_eq!(r.repayments[0].years, d("1"));
+        close(r.aprc.annual_rate, "0.1", "1e-24");
+        assert_eq!(r.aprc.aprc_percent_rounded, d("10.0"));
+        assert_eq!(r.aprc.aprc_percent_rounded.to_string(), "10.0");
+    }
+
+    #[test]
+    fn aprc_in_equal_months_balances_the_equation() {
+        // 1,000 drawn; 12 monthly repayments of 88.85. X = 0.12685391893581531583477672314
+        // (mpmath, 50 digits).
+        // Month ends: Feb 28, Mar 31, Apr 30, … are monthly anniversaries of Jan 31.
+        let repayments = series("88.85", 13, date(2025, 1, 31), Frequency::Monthly)[1..].to_vec();
+        let r = solve_aprc(&[flow("1000", date(2025, 1, 31))], &repayments).unwrap();
+        assert_eq!(r.time_basis, AprcTimeBasis::EqualMonths);
+        assert_eq!(r.repayments[2].years, Decimal::from(3) / Decimal::from(12));
+        close(
+            r.aprc.annual_rate,
+            "0.12685391893581531583477672314",
+            "1e-20",
+        );
+        assert_eq!(r.aprc.aprc_percent_rounded, d("12.7"));
+        // Plugged back into the equation, evaluated with 12th roots and integer powers.
+        let g = residual_in_roots(&r.drawdowns, &r.repayments, r.aprc.annual_rate, 12);
+        close(g, "0", "1e-20");
+    }
+
+    #[test]
+    fn aprc_in_weeks_balances_the_equation() {
+        // 500 drawn; 10 weekly repayments of 51: times k/52.
+        // X = 0.20651152379750379850155129282 (mpmath, 50 digits).
+        let r = solve_aprc(
+            &[flow("500", date(2026, 1, 1))],
+            &series("51", 10, date(2026, 1, 8), Frequency::Weekly),
+        )
+        .unwrap();
+        assert_eq!(r.time_basis, AprcTimeBasis::Weeks);
+        close(
+            r.aprc.annual_rate,
+            "0.20651152379750379850155129282",
+            "1e-20",
+        );
+        assert_eq!(r.aprc.aprc_percent_rounded, d("20.7"));
+        let g = residual_in_roots(&r.drawdowns, &r.repayments, r.aprc.annual_rate, 52);
+        close(g, "0", "1e-20");
+    }
+
+    #[test]
+    fn aprc_in_days_uses_366_in_a_leap_year() {
+        // 1,000 drawn 2024-01-10, 1,050 repaid 2024-07-20: 192 days of a year holding
+        // 29 February, t = 192/366; X = 1.05^(366/192) − 1 = 0.097468594917005976857212649.
+        let r = solve_aprc(
+            &[flow("1000", date(2024, 1, 10))],
+            &[flow("1050", date(2024, 7, 20))],
+        )
+        .unwrap();
+        assert_eq!(r.time_basis, AprcTimeBasis::Days);
+        assert_eq!(
+            r.repayments[0].years,
+            Decimal::from(192) / Decimal::from(366)
+        );
+        close(r.aprc.annual_rate, "0.097468594917005976857212649", "1e-20");
+        assert_eq!(r.aprc.aprc_percent_rounded, d("9.7"));
+        let g = residual_in_roots(&r.drawdowns, &r.repayments, r.aprc.annual_rate, 366);
+        close(g, "0", "1e-18");
+    }
+
+    #[test]
+    fn years_in_days_count_whole_years_then_the_days_of_the_year_they_fall_in() {
+        let y = |a: Date, b: Date| years_between(a, b, AprcTimeBasis::Days).unwrap();
+        assert_eq!(
+            y(date(2023, 1, 10), date(2023, 7, 20)),
+            Decimal::from(191) / Decimal::from(365)
+        );
+        assert_eq!(
+            y(date(2023, 6, 1), date(2024, 6, 3)),
+            Decimal::from(367) / Decimal::from(365)
+        );
+        assert_eq!(
+            y(date(2023, 3, 1), date(2024, 2, 1)),
+            Decimal::from(337) / Decimal::from(366)
+        );
+        assert_eq!(y(date(2024, 2, 29), date(2025, 2, 28)), d("1"));
+        assert_eq!(y(date(2025, 5, 5), date(2028, 5, 5)), d("3"));
+    }
+
+    #[test]
+    fn aprc_refusals() {
+        let e = solve_aprc(
+            &[flow("1000", date(2025, 1, 1))],
+            &[flow("1100", date(2024, 12, 31))],
+        )
+        .unwrap_err();
+        assert_eq!(
+            (e.kind, e.field),
+            (ErrorKind::OutOfRange, Some("repayments"))
+        );
+        let e = solve_aprc(
+            &[flow("1000", date(2025, 1, 1))],
+            &[flow("999", date(2026, 1, 1))],
+        )
+        .unwrap_err();
+        assert_eq!(
+            (e.kind, e.field),
+            (ErrorKind::NoSolution, Some("repayments"))
+        );
+        let e = solve_aprc(&[], &[flow("999", date(2026, 1, 1))]).unwrap_err();
+        assert_eq!(e.field, Some("drawdowns"));
+        let e = solve_aprc_years(
+            &[YearFlow {
+                amount: d("1"),
+                years: d("0"),
+            }],
+            &[YearFlow {
+                amount: d("2"),
+                years: d("101"),
+            }],
+        )
+        .unwrap_err();
+        assert_eq!(e.field, Some("repayments"));
+        let zero = solve_aprc(
+            &[flow("1000", date(2025, 1, 1))],
+            &[flow("1000", date(2026, 1, 1))],
+        )
+        .unwrap();
+        assert_eq!(zero.aprc.annual_rate, Decimal::ZERO);
+    }
+
+    #[test]
+    fn aprc_fractional_powers_survive_a_huge_bracket() {
+        // 1 drawn, 1,000,000 repaid after half a year: X = 10^12 − 1.
+        let r = solve_aprc_years(
+            &[YearFlow {
+                amount: d("1"),
+                years: d("0"),
+            }],
+            &[YearFlow {
+                amount: d("1000000"),
+                years: d("0.5"),
+            }],
+        )
+        .unwrap();
+        let relative = (r.annual_rate - d("999999999999")).abs() / d("1e12");
+        assert!(relative < d("1e-20"), "{}", r.annual_rate);
+    }
 }

@@ -1,5 +1,7 @@
 //! HTML pages, server-rendered from the same engine results as the API.
 
+pub mod scenarios;
+
 use askama::Template;
 use axum::http::header;
 use axum::response::{Html, IntoResponse, Response};
@@ -14,6 +16,16 @@ use crate::server::AppState;
 #[template(path = "home.html")]
 pub struct HomePage {
     pub caution: &'static str,
+    /// The demo scenarios, each with its plain URLs.
+    pub scenarios: Vec<ScenarioLink>,
+}
+
+/// A scenario as the home page lists it.
+pub struct ScenarioLink {
+    pub title: String,
+    pub story: String,
+    pub json_url: String,
+    pub csv_url: String,
 }
 
 fn render<T: Template>(page: &T) -> Response {
@@ -28,7 +40,23 @@ fn render<T: Template>(page: &T) -> Response {
 }
 
 async fn home() -> Response {
-    render(&HomePage { caution: CAUTION })
+    let scenarios = scenarios::all()
+        .unwrap_or_default()
+        .into_iter()
+        .map(|s| {
+            let q = s.query();
+            ScenarioLink {
+                title: s.title,
+                story: s.story,
+                json_url: format!("/api/v1/loans/schedule?{q}"),
+                csv_url: format!("/api/v1/loans/schedule.csv?{q}"),
+            }
+        })
+        .collect();
+    render(&HomePage {
+        caution: CAUTION,
+        scenarios,
+    })
 }
 
 async fn stylesheet() -> Response {
