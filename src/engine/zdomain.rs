@@ -250,18 +250,30 @@ impl ClosedForm {
             let kd = Decimal::from(k);
             let mut total = Decimal::ZERO;
             for (mode, power) in self.modes.iter().zip(powers.iter_mut()) {
-                let mut poly = Decimal::ZERO;
-                for c in mode.polynomial.iter().rev() {
-                    poly = poly
-                        .checked_mul(kd)
-                        .and_then(|v| v.checked_add(*c))
+                let poly = match mode.polynomial.as_slice() {
+                    [c] => *c,
+                    coefficients => {
+                        let mut poly = Decimal::ZERO;
+                        for c in coefficients.iter().rev() {
+                            poly = poly
+                                .checked_mul(kd)
+                                .and_then(|v| v.checked_add(*c))
+                                .or_overflow("a closed-form value")?;
+                        }
+                        poly
+                    }
+                };
+                // Modes at z = 1 need no power; the others take it incrementally.
+                let term = if mode.pole == Decimal::ONE {
+                    poly
+                } else {
+                    let t = poly
+                        .checked_mul(*power)
                         .or_overflow("a closed-form value")?;
-                }
-                total = poly
-                    .checked_mul(*power)
-                    .and_then(|t| total.checked_add(t))
-                    .or_overflow("a closed-form value")?;
-                *power = power.checked_mul(mode.pole).or_overflow("a pole power")?;
+                    *power = power.checked_mul(mode.pole).or_overflow("a pole power")?;
+                    t
+                };
+                total = total.checked_add(term).or_overflow("a closed-form value")?;
             }
             for (j, c) in &self.impulses {
                 if *j == k {
