@@ -71,6 +71,8 @@ pub fn app(state: AppState) -> Router {
             "/api/v1/loans/schedule.csv",
             get(handlers::schedule_get_csv),
         )
+        .route("/api/v1/loans/compare", get(handlers::compare_get).post(handlers::compare_post))
+        .route("/api/v1/loans/compare.csv", get(handlers::compare_get_csv))
         .route("/api/v1/recurrence", post(handlers::recurrence_post))
         .merge(web::routes())
         .method_not_allowed_fallback(method_not_allowed)

@@ -132,6 +132,46 @@ impl<'a> Fields<'a> {
         }
     }
 
+    /// A calendar date in ISO 8601 (`2027-03-01`).
+    pub fn date(&mut self, name: &'static str) -> Option<jiff::civil::Date> {
+        let text = self.text(name)?;
+        match parse_date(text) {
+            Ok(d) => Some(d),
+            Err(m) => {
+                self.error(name, m);
+                None
+            }
+        }
+    }
+
+    /// A list given as a query parameter (repeated, or comma-separated, or both).
+    /// Returns `None` when absent; JSON callers read arrays with [`Fields::raw`].
+    pub fn query_list(&mut self, name: &'static str) -> Option<Vec<&'a str>> {
+        if !self.read.contains(&name) {
+            self.read.push(name);
+        }
+        let Source::Query(pairs) = self.source else {
+            return None;
+        };
+        let items: Vec<&str> = pairs
+            .iter()
+            .filter(|(k, _)| k == name)
+            .flat_map(|(_, v)| v.split(','))
+            .map(str::trim)
+            .filter(|v| !v.is_empty())
+            .collect();
+        if items.is_empty() {
+            None
+        } else {
+            Some(items)
+        }
+    }
+
+    /// True when the source is a query string.
+    pub fn is_query(&self) -> bool {
+        matches!(self.source, Source::Query(_))
+    }
+
     /// A whole number from 0 to `max`.
     pub fn count(&mut self, name: &'static str, max: u32) -> Option<u32> {
         let d = self.decimal(name)?;
@@ -294,6 +334,33 @@ fn scale_exact(m: Decimal, exp: i32) -> Option<Decimal> {
         }
         Some(Decimal::from_i128_with_scale(m.mantissa(), scale))
     }
+}
+
+/// Parses an ISO 8601 calendar date (`YYYY-MM-DD`), years 1900 to 2200.
+///
+/// # Errors
+/// A message for a person.
+pub fn parse_date(text: &str) -> Result<jiff::civil::Date, String> {
+    let b = text.as_bytes();
+    let shape = b.len() == 10
+        && b[4] == b'-'
+        && b[7] == b'-'
+        && b.iter()
+            .enumerate()
+            .all(|(i, c)| i == 4 || i == 7 || c.is_ascii_digit());
+    if !shape {
+        return Err(format!(
+            "must be a date written YYYY-MM-DD, not \"{}\"",
+            shorten(text)
+        ));
+    }
+    let d: jiff::civil::Date = text
+        .parse()
+        .map_err(|_| format!("{} is not a day of the calendar", shorten(text)))?;
+    if !(1900..=2200).contains(&d.year()) {
+        return Err("must be a date from 1900 to 2200".into());
+    }
+    Ok(d)
 }
 
 fn shorten(s: &str) -> String {

@@ -9,10 +9,10 @@ use serde::Serialize;
 
 use super::fields::{Fields, Source};
 use super::json::{self, Json};
-use super::loans::{loan_terms_from, schedule_csv, LoanScheduleDto};
+use super::loans::{schedule_csv, schedule_request_from, LoanScheduleDto};
 use super::problem::{ApiError, FieldError, ProblemKind};
 use super::recurrence;
-use crate::engine::schedule::schedule;
+use crate::engine::schedule::schedule_with;
 use crate::server::AppState;
 
 /// A request body that is a JSON object, read within the size limit.
@@ -136,8 +136,9 @@ pub fn wants_csv(headers: &HeaderMap) -> bool {
 
 fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
     let prefix = fields.pointer("");
-    let terms = loan_terms_from(fields)?;
-    let s = schedule(&terms).map_err(|e| ApiError::from_engine(e, &prefix))?;
+    let request = schedule_request_from(fields)?;
+    let s = schedule_with(&request.terms, &request.options)
+        .map_err(|e| ApiError::from_engine(e, &prefix))?;
     Ok(if csv {
         csv_answer(schedule_csv(&s), "schedule.csv")
     } else {
@@ -172,6 +173,41 @@ pub async fn schedule_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<R
 pub async fn schedule_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
     loan_answer(Fields::new(Source::Query(&pairs)), true)
+}
+
+fn compare_answer(c: &super::compare::Comparison, csv: bool) -> Response {
+    let dto = super::compare::CompareDto::from_comparison(c);
+    if csv {
+        csv_answer(super::compare::compare_csv(&dto), "comparison.csv")
+    } else {
+        json_answer(&dto)
+    }
+}
+
+/// `POST /api/v1/loans/compare`
+pub async fn compare_post(
+    headers: HeaderMap,
+    JsonBody(body): JsonBody,
+) -> Result<Response, ApiError> {
+    Ok(compare_answer(
+        &super::compare::from_json(&body)?,
+        wants_csv(&headers),
+    ))
+}
+
+/// `GET /api/v1/loans/compare?…`
+pub async fn compare_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+    let pairs = query_pairs(q.as_deref())?;
+    Ok(compare_answer(
+        &super::compare::from_query(&pairs)?,
+        wants_csv(&headers),
+    ))
+}
+
+/// `GET /api/v1/loans/compare.csv?…`
+pub async fn compare_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+    let pairs = query_pairs(q.as_deref())?;
+    Ok(compare_answer(&super::compare::from_query(&pairs)?, true))
 }
 
 /// `POST /api/v1/recurrence`

@@ -4,9 +4,13 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::{full, DerivationDto};
-use super::fields::Fields;
+use super::fields::{Fields, Raw, Source};
+use super::json::Json;
 use super::problem::{ApiError, FieldError};
+use crate::engine::calendar::DayCount;
+use crate::engine::loan::MAX_PAYMENTS;
 use crate::engine::money::{Currency, InterestRounding, PaymentRounding};
+use crate::engine::plan::{Extra, OddDaysInterest, PlanOptions, RateChange, RateChangeKeeps};
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::schedule::{payments_in_months, LoanSchedule, LoanTerm, LoanTerms};
 
@@ -197,6 +201,15 @@ pub struct SummaryDto {
     pub periodic_rate: String,
     pub currency: &'static str,
     pub payment_frequency: &'static str,
+    pub payoff_date: Option<String>,
+    pub total_extra: String,
+    pub interest_saved: Option<String>,
+    pub payments_saved: Option<u32>,
+    pub balloon: Option<String>,
+    pub odd_days: i64,
+    pub odd_days_interest: String,
+    pub prepaid_interest: String,
+    pub milestones: MilestonesDto,
 }
 
 #[derive(Debug, Serialize)]
@@ -223,7 +236,9 @@ pub struct ReconciliationDto {
 #[derive(Debug, Serialize)]
 pub struct RowDto {
     pub number: u32,
+    pub date: Option<String>,
     pub payment: String,
+    pub extra: String,
     pub interest: String,
     pub principal: String,
     pub balance: String,
@@ -235,6 +250,40 @@ pub struct LoanDerivationDto {
     pub closed_form: DerivationDto,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub payment: Option<PaymentSolutionDto>,
+    /// One closed form per run of payments with the same rate, payment and extra.
+    pub segments: Vec<SegmentDto>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct SegmentDto {
+    pub first_payment: u32,
+    pub last_payment: u32,
+    pub periodic_rate: String,
+    /// Regular payment plus recurring extra, each period.
+    pub outflow: String,
+    /// A lump sum at the segment's first payment (negative: paid in).
+    pub impulse: String,
+    pub start_balance: String,
+    pub end_balance: String,
+    pub derivation: DerivationDto,
+}
+
+#[derive(Debug, Serialize)]
+pub struct MilestoneDto {
+    pub payment: u32,
+    pub date: Option<String>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct MilestonesDto {
+    pub principal_exceeds_interest: Option<MilestoneDto>,
+    pub balance_80_percent_of_value: Option<MilestoneDto>,
+    pub balance_78_percent_of_value: Option<MilestoneDto>,
+    pub amortization_midpoint: Option<MilestoneDto>,
+    pub final_termination_date: Option<String>,
+    pub payments_counted: u32,
+    pub total_paid_through_60: String,
+    pub principal_paid_through_60: String,
 }
 
 /// The JSON answer of the schedule operation.
@@ -251,6 +300,35 @@ impl LoanScheduleDto {
     pub fn from_schedule(s: &LoanSchedule) -> Self {
         let c = s.terms.currency;
         let money = |d: Decimal| c.format(d);
+        let date = |d: Option<jiff::civil::Date>| d.map(|d| d.to_string());
+        let milestone = |m: Option<crate::engine::plan::Milestone>| {
+            m.map(|m| MilestoneDto {
+                payment: m.payment,
+                date: date(m.date),
+            })
+        };
+        let segments: Vec<SegmentDto> = if s.plan.segments.len() > 1 {
+            s.plan
+                .segments
+                .iter()
+                .map(|g| SegmentDto {
+                    first_payment: g.first_payment,
+                    last_payment: g.last_payment,
+                    periodic_rate: full(g.periodic_rate),
+                    outflow: money(g.outflow),
+                    impulse: money(if g.impulse.is_zero() {
+                        Decimal::ZERO
+                    } else {
+                        g.impulse
+                    }),
+                    start_balance: full(g.solution.recurrence.x0.round_dp(12)),
+                    end_balance: full(g.end_balance.round_dp(12)),
+                    derivation: DerivationDto::from_solution(&g.solution),
+                })
+                .collect()
+        } else {
+            vec![]
+        };
         let mut closed_form = DerivationDto::from_solution(&s.solution);
         let payment = s.payment_derivation.as_ref().map(|p| {
             let rule = match s.terms.payment_rounding {
@@ -304,10 +382,29 @@ impl LoanScheduleDto {
                 periodic_rate: full(s.periodic_rate),
                 currency: c.code(),
                 payment_frequency: s.terms.payment_frequency.name(),
+                payoff_date: date(s.payoff_date),
+                total_extra: money(s.plan.total_extra),
+                interest_saved: s.savings.map(|v| money(v.interest_saved)),
+                payments_saved: s.savings.map(|v| v.payments_saved),
+                balloon: s.plan.balloon.map(money),
+                odd_days: s.plan.odd_days,
+                odd_days_interest: money(s.plan.odd_days_interest),
+                prepaid_interest: money(s.plan.prepaid_interest),
+                milestones: MilestonesDto {
+                    principal_exceeds_interest: milestone(s.milestones.principal_exceeds_interest),
+                    balance_80_percent_of_value: milestone(s.milestones.balance_80_percent),
+                    balance_78_percent_of_value: milestone(s.milestones.balance_78_percent),
+                    amortization_midpoint: milestone(s.milestones.midpoint),
+                    final_termination_date: date(s.milestones.final_termination_date),
+                    payments_counted: s.milestones.payments_counted,
+                    total_paid_through_60: money(s.milestones.total_paid_60),
+                    principal_paid_through_60: money(s.milestones.principal_paid_60),
+                },
             },
             derivation: LoanDerivationDto {
                 closed_form,
                 payment,
+                segments,
             },
             reconciliation,
             schedule: s
@@ -316,7 +413,9 @@ impl LoanScheduleDto {
                 .iter()
                 .map(|r| RowDto {
                     number: r.number,
+                    date: date(r.date),
                     payment: money(r.payment),
+                    extra: money(r.extra),
                     interest: money(r.interest),
                     principal: money(r.principal),
                     balance: money(r.balance),
@@ -331,16 +430,427 @@ impl LoanScheduleDto {
 pub fn schedule_csv(s: &LoanSchedule) -> String {
     let c = s.terms.currency;
     let mut out = String::with_capacity(64 * (s.ledger.rows.len() + 1));
-    out.push_str("number,payment,interest,principal,balance\r\n");
+    out.push_str("number,date,payment,extra,interest,principal,balance\r\n");
     for r in &s.ledger.rows {
         out.push_str(&format!(
-            "{},{},{},{},{}\r\n",
+            "{},{},{},{},{},{},{}\r\n",
             r.number,
+            r.date.map(|d| d.to_string()).unwrap_or_default(),
             c.format(r.payment),
+            c.format(r.extra),
             c.format(r.interest),
             c.format(r.principal),
             c.format(r.balance)
         ));
     }
     out
+}
+
+/// The plan fields of a schedule request, beyond the level loan's.
+pub const PLAN_FIELDS: [&str; 11] = [
+    "funding_date",
+    "first_payment_date",
+    "day_count",
+    "odd_days_interest",
+    "extra_payments",
+    "interest_only_payments",
+    "balloon_after_payments",
+    "rate_changes",
+    "rate_change_keeps",
+    "property_value",
+    "label",
+];
+
+/// An extra payment before its date (if any) is turned into a payment number.
+enum ExtraAt {
+    Done(Extra),
+    OnDate {
+        amount: Decimal,
+        date: jiff::civil::Date,
+        pointer: String,
+    },
+}
+
+/// Reads the compact query form of one extra payment:
+/// `AMOUNT@FROM-TO` (every payment from FROM to TO), `AMOUNT@FROM-` (to the end),
+/// `AMOUNT@FROM-TO/EVERY`, `AMOUNT@AT` (once, with payment AT) or `AMOUNT@YYYY-MM-DD`
+/// (once, with the first payment due on or after that date).
+fn parse_extra_item(item: &str) -> Result<(Decimal, ExtraWhen), String> {
+    let (amount, when) = item
+        .split_once('@')
+        .ok_or("write each extra payment as AMOUNT@FROM-TO, AMOUNT@AT or AMOUNT@YYYY-MM-DD")?;
+    let amount =
+        super::fields::parse_decimal(amount, false).map_err(|m| format!("the amount {m}"))?;
+    if when.len() == 10 && when.as_bytes()[4] == b'-' && when.as_bytes()[7] == b'-' {
+        return Ok((amount, ExtraWhen::Date(super::fields::parse_date(when)?)));
+    }
+    let (range, every) = match when.split_once('/') {
+        Some((r, e)) => (
+            r,
+            Some(
+                e.parse::<u32>()
+                    .map_err(|_| "EVERY must be a whole number")?,
+            ),
+        ),
+        None => (when, None),
+    };
+    let number = |s: &str| {
+        s.parse::<u32>()
+            .map_err(|_| format!("\"{s}\" is not a payment number"))
+    };
+    match range.split_once('-') {
+        Some((from, "")) => Ok((
+            amount,
+            ExtraWhen::Range {
+                from: number(from)?,
+                to: None,
+                every: every.unwrap_or(1),
+            },
+        )),
+        Some((from, to)) => Ok((
+            amount,
+            ExtraWhen::Range {
+                from: number(from)?,
+                to: Some(number(to)?),
+                every: every.unwrap_or(1),
+            },
+        )),
+        None if every.is_some() => Ok((
+            amount,
+            ExtraWhen::Range {
+                from: number(range)?,
+                to: None,
+                every: every.unwrap_or(1),
+            },
+        )),
+        None => Ok((amount, ExtraWhen::At(number(range)?))),
+    }
+}
+
+enum ExtraWhen {
+    Range {
+        from: u32,
+        to: Option<u32>,
+        every: u32,
+    },
+    At(u32),
+    Date(jiff::civil::Date),
+}
+
+fn money_in(f: &mut Fields<'_>, name: &'static str, currency: Currency) -> Option<Decimal> {
+    let v = f.decimal(name)?;
+    if !currency.fits(v) {
+        f.error(
+            name,
+            format!(
+                "{} amounts have at most {} decimals",
+                currency.code(),
+                currency.minor_units()
+            ),
+        );
+        return None;
+    }
+    Some(v)
+}
+
+/// Reads the plan options (dates, extras, interest-only, balloon, rate steps, property value).
+pub fn read_plan_options(
+    f: &mut Fields<'_>,
+    currency: Currency,
+    frequency: Frequency,
+) -> PlanOptions {
+    let mut o = PlanOptions {
+        funding_date: f.date("funding_date"),
+        first_payment_date: f.date("first_payment_date"),
+        ..PlanOptions::default()
+    };
+    if let Some(d) = f.choice(
+        "day_count",
+        DayCount::parse,
+        &["actual_365", "actual_360", "thirty_360"],
+    ) {
+        o.day_count = d;
+    }
+    if let Some(v) = f.choice(
+        "odd_days_interest",
+        |s| match s {
+            "first_payment" => Some(OddDaysInterest::FirstPayment),
+            "prepaid" => Some(OddDaysInterest::Prepaid),
+            _ => None,
+        },
+        &["first_payment", "prepaid"],
+    ) {
+        o.odd_days_interest = v;
+    }
+    if let Some(v) = f.choice(
+        "rate_change_keeps",
+        |s| match s {
+            "term" => Some(RateChangeKeeps::Term),
+            "payment" => Some(RateChangeKeeps::Payment),
+            _ => None,
+        },
+        &["term", "payment"],
+    ) {
+        o.rate_change_keeps = v;
+    }
+    o.interest_only_payments = f.count("interest_only_payments", MAX_PAYMENTS).unwrap_or(0);
+    o.balloon_after_payments = f.count("balloon_after_payments", MAX_PAYMENTS);
+    o.property_value = money_in(f, "property_value", currency);
+    let pointer_base = f.pointer("");
+    // Extra payments.
+    let mut pending: Vec<ExtraAt> = Vec::new();
+    if f.is_query() {
+        if let Some(items) = f.query_list("extra_payments") {
+            for item in items {
+                match parse_extra_item(item) {
+                    Ok((amount, ExtraWhen::Range { from, to, every })) => {
+                        pending.push(ExtraAt::Done(Extra::Recurring {
+                            amount,
+                            from,
+                            to,
+                            every,
+                        }))
+                    }
+                    Ok((amount, ExtraWhen::At(at))) => {
+                        pending.push(ExtraAt::Done(Extra::Lump { amount, at }))
+                    }
+                    Ok((amount, ExtraWhen::Date(date))) => pending.push(ExtraAt::OnDate {
+                        amount,
+                        date,
+                        pointer: "extra_payments".into(),
+                    }),
+                    Err(m) => f.error(
+                        "extra_payments",
+                        format!("\"{}\": {m}", item.chars().take(40).collect::<String>()),
+                    ),
+                }
+            }
+        }
+    } else if let Some(raw) = f.raw("extra_payments") {
+        match raw {
+            Raw::Json(Json::Array(items)) if items.len() <= 120 => {
+                for (index, item) in items.iter().enumerate() {
+                    let pointer = format!("{pointer_base}extra_payments/{index}");
+                    let Json::Object(m) = item else {
+                        f.errors.push(FieldError {
+                            pointer,
+                            message: format!("must be an object, not {}", item.kind()),
+                        });
+                        continue;
+                    };
+                    let mut g = Fields::new(Source::Json {
+                        members: m,
+                        pointer: &pointer,
+                    });
+                    let amount = money_in(&mut g, "amount", currency);
+                    if amount.is_none() && !g.errors.iter().any(|e| e.pointer.ends_with("/amount"))
+                    {
+                        g.error("amount", "is required");
+                    }
+                    let at_number = match g.raw("at") {
+                        Some(Raw::Json(Json::String(s))) => match super::fields::parse_date(s) {
+                            Ok(d) => Some(Err(d)),
+                            Err(m) => {
+                                g.error("at", m);
+                                None
+                            }
+                        },
+                        Some(_) => g.count("at", MAX_PAYMENTS).map(Ok),
+                        None => None,
+                    };
+                    let from = g.count("from", MAX_PAYMENTS);
+                    let to = g.count("to", MAX_PAYMENTS);
+                    let every = g.count("every", MAX_PAYMENTS);
+                    if at_number.is_some() && (from.is_some() || to.is_some() || every.is_some()) {
+                        g.error(
+                            "at",
+                            "give either `at` (once) or `from`/`to`/`every` (recurring), not both",
+                        );
+                    } else if at_number.is_none()
+                        && from.is_none()
+                        && !g.errors.iter().any(|e| e.pointer.ends_with("/at"))
+                    {
+                        g.error("from", "give `from` (recurring) or `at` (once)");
+                    }
+                    let errors_before = g.errors.len();
+                    let local: Vec<FieldError> = match g.finish() {
+                        Ok(()) => vec![],
+                        Err(e) => e,
+                    };
+                    let ok = local.is_empty() && errors_before == 0;
+                    f.errors.extend(local);
+                    if let (true, Some(amount)) = (ok, amount) {
+                        match at_number {
+                            Some(Ok(at)) => pending.push(ExtraAt::Done(Extra::Lump { amount, at })),
+                            Some(Err(date)) => pending.push(ExtraAt::OnDate {
+                                amount,
+                                date,
+                                pointer: format!("{pointer}/at"),
+                            }),
+                            None => pending.push(ExtraAt::Done(Extra::Recurring {
+                                amount,
+                                from: from.unwrap_or(1),
+                                to,
+                                every: every.unwrap_or(1),
+                            })),
+                        }
+                    }
+                }
+            }
+            Raw::Json(Json::Array(_)) => {
+                f.error("extra_payments", "may hold at most 120 extra payments")
+            }
+            Raw::Json(other) => f.error(
+                "extra_payments",
+                format!("must be an array, not {}", other.kind()),
+            ),
+            Raw::Text(_) => f.error("extra_payments", "must be an array"),
+        }
+    }
+    for p in pending {
+        match p {
+            ExtraAt::Done(e) => o.extras.push(e),
+            ExtraAt::OnDate {
+                amount,
+                date,
+                pointer,
+            } => match o.first_payment_date {
+                None => f.errors.push(FieldError {
+                    pointer,
+                    message: "an extra payment on a date needs first_payment_date".into(),
+                }),
+                Some(first) => {
+                    match crate::engine::calendar::due_dates(first, MAX_PAYMENTS, frequency) {
+                        Ok(dates) => match dates.iter().position(|d| *d >= date) {
+                            Some(index) => o.extras.push(Extra::Lump {
+                                amount,
+                                at: index as u32 + 1,
+                            }),
+                            None => f.errors.push(FieldError {
+                                pointer,
+                                message: "falls after the last possible payment".into(),
+                            }),
+                        },
+                        Err(e) => f.errors.push(FieldError {
+                            pointer,
+                            message: e.message,
+                        }),
+                    }
+                }
+            },
+        }
+    }
+    // Rate changes.
+    if f.is_query() {
+        if let Some(items) = f.query_list("rate_changes") {
+            for item in items {
+                let parsed = item.split_once(':').and_then(|(at, rate)| {
+                    let at = at.trim().parse::<u32>().ok()?;
+                    let rate = super::fields::parse_decimal(rate.trim(), false).ok()?;
+                    Some((at, rate))
+                });
+                match parsed.map(|(at, r)| (at, AnnualRate::from_percent(r))) {
+                    Some((at, Ok(rate))) => o.rate_changes.push(RateChange { at, rate }),
+                    Some((_, Err(e))) => f.error("rate_changes", e.message),
+                    None => f.error(
+                        "rate_changes",
+                        format!(
+                            "write each rate change as PAYMENT:PERCENT (e.g. 61:7.25), not \"{}\"",
+                            item.chars().take(40).collect::<String>()
+                        ),
+                    ),
+                }
+            }
+        }
+    } else if let Some(raw) = f.raw("rate_changes") {
+        match raw {
+            Raw::Json(Json::Array(items)) if items.len() <= 120 => {
+                for (index, item) in items.iter().enumerate() {
+                    let pointer = format!("{pointer_base}rate_changes/{index}");
+                    let Json::Object(m) = item else {
+                        f.errors.push(FieldError {
+                            pointer,
+                            message: format!("must be an object, not {}", item.kind()),
+                        });
+                        continue;
+                    };
+                    let mut g = Fields::new(Source::Json {
+                        members: m,
+                        pointer: &pointer,
+                    });
+                    let at = g.count("at", MAX_PAYMENTS);
+                    let rate = g.decimal("annual_rate_percent");
+                    if at.is_none() && !g.errors.iter().any(|e| e.pointer.ends_with("/at")) {
+                        g.error("at", "is required");
+                    }
+                    if rate.is_none()
+                        && !g
+                            .errors
+                            .iter()
+                            .any(|e| e.pointer.ends_with("/annual_rate_percent"))
+                    {
+                        g.error("annual_rate_percent", "is required");
+                    }
+                    let rate = rate.and_then(|r| match AnnualRate::from_percent(r) {
+                        Ok(r) => Some(r),
+                        Err(e) => {
+                            g.error("annual_rate_percent", e.message);
+                            None
+                        }
+                    });
+                    let local: Vec<FieldError> = match g.finish() {
+                        Ok(()) => vec![],
+                        Err(e) => e,
+                    };
+                    if let (true, Some(at), Some(rate)) = (local.is_empty(), at, rate) {
+                        o.rate_changes.push(RateChange { at, rate });
+                    }
+                    f.errors.extend(local);
+                }
+            }
+            Raw::Json(other) => f.error(
+                "rate_changes",
+                format!(
+                    "must be an array of at most 120 rate changes, not {}",
+                    other.kind()
+                ),
+            ),
+            Raw::Text(_) => f.error("rate_changes", "must be an array"),
+        }
+    }
+    o
+}
+
+/// Everything a schedule request asks: the loan, its plan options, and an optional label.
+pub struct ScheduleRequest {
+    pub terms: LoanTerms,
+    pub options: PlanOptions,
+    pub label: Option<String>,
+}
+
+/// Reads a whole schedule request (loan terms and plan options), reporting every bad field.
+///
+/// # Errors
+/// The problem to answer.
+pub fn schedule_request_from(mut f: Fields<'_>) -> Result<ScheduleRequest, ApiError> {
+    let terms = read_loan_terms(&mut f);
+    let (currency, frequency) = terms
+        .as_ref()
+        .map_or((Currency::USD, Frequency::Monthly), |t| {
+            (t.currency, t.payment_frequency)
+        });
+    let options = read_plan_options(&mut f, currency, frequency);
+    let label = f.text("label").map(|s| s.chars().take(80).collect());
+    let errors: Vec<FieldError> = match f.finish() {
+        Ok(()) => vec![],
+        Err(e) => e,
+    };
+    match terms {
+        Some(terms) if errors.is_empty() => Ok(ScheduleRequest {
+            terms,
+            options,
+            label,
+        }),
+        _ => Err(ApiError::fields(errors)),
+    }
 }

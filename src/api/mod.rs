@@ -1,5 +1,6 @@
 //! The JSON and CSV interface: thin translations over the engine.
 
+pub mod compare;
 pub mod derivation;
 pub mod fields;
 pub mod handlers;

@@ -17,7 +17,12 @@ use super::zdomain::ClosedForm;
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Row {
     pub number: u32,
+    /// The due date, when the loan is dated.
+    pub date: Option<jiff::civil::Date>,
+    /// The scheduled payment (odd-days interest included on the first, a balloon on the last).
     pub payment: Decimal,
+    /// Extra principal paid with it.
+    pub extra: Decimal,
     pub interest: Decimal,
     pub principal: Decimal,
     pub balance: Decimal,
@@ -43,7 +48,7 @@ const POW10: [i128; 29] = {
 
 /// Rounds balance × rate (balance in minor units) to whole minor units.
 #[derive(Debug, Clone, Copy)]
-pub(crate) struct InterestPoster {
+pub struct InterestPoster {
     rate: Decimal,
     mantissa: i128,
     divisor: i128,
@@ -52,7 +57,7 @@ pub(crate) struct InterestPoster {
 }
 
 impl InterestPoster {
-    pub(crate) fn new(rate: Decimal, currency: Currency, rounding: InterestRounding) -> Self {
+    pub fn new(rate: Decimal, currency: Currency, rounding: InterestRounding) -> Self {
         Self {
             rate,
             mantissa: rate.mantissa(),
@@ -63,7 +68,7 @@ impl InterestPoster {
     }
 
     /// The interest on `balance` minor units, in minor units.
-    pub(crate) fn interest(&self, balance: i128) -> Result<i128> {
+    pub fn interest(&self, balance: i128) -> Result<i128> {
         if let Some(product) = balance.checked_mul(self.mantissa) {
             let (q, r) = (product / self.divisor, product % self.divisor);
             let twice = r.abs() * 2;
@@ -85,7 +90,7 @@ impl InterestPoster {
 }
 
 /// An amount as an integer of minor units (it must already fit the currency).
-pub(crate) fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
+pub fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
     let mut a = amount;
     a.rescale(minor_units);
     if a.scale() != minor_units {
@@ -94,7 +99,7 @@ pub(crate) fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
     Ok(a.mantissa())
 }
 
-pub(crate) fn from_minor(amount: i128, minor_units: u32) -> Decimal {
+pub fn from_minor(amount: i128, minor_units: u32) -> Decimal {
     Decimal::from_i128_with_scale(amount, minor_units)
 }
 
@@ -132,7 +137,9 @@ pub fn post_level(
         total_interest += interest;
         rows.push(Row {
             number,
+            date: None,
             payment: from_minor(this, e),
+            extra: Decimal::ZERO,
             interest: from_minor(interest, e),
             principal: from_minor(principal_part, e),
             balance: from_minor(balance, e),

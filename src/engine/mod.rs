@@ -8,10 +8,13 @@
 
 pub mod apr;
 pub mod apy;
+pub mod calendar;
+pub mod disclosure;
 pub mod error;
 pub mod ledger;
 pub mod loan;
 pub mod money;
+pub mod plan;
 pub mod poly;
 pub mod rate;
 pub mod recurrence;

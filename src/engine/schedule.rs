@@ -3,9 +3,10 @@
 use rust_decimal::Decimal;
 
 use super::error::{EngineError, OrOverflow, Result};
-use super::ledger::{post_level, reconcile, Ledger, Reconciliation};
-use super::loan::{payment_for_term, solve_balance, term_for_payment, UnitResponses, MAX_PAYMENTS};
+use super::ledger::{Ledger, Reconciliation, Row};
+use super::loan::{payment_for_term, solve_balance, UnitResponses, MAX_PAYMENTS};
 use super::money::{Currency, InterestRounding, PaymentRounding};
+use super::plan::{milestones, post, Milestones, OddDaysInterest, Plan, PlanOptions};
 use super::rate::{AnnualRate, Frequency};
 use super::recurrence::Solution;
 
@@ -67,6 +68,13 @@ pub struct LoanSchedule {
     /// `None` when the closed form's powers leave the decimal range (very long terms at high rates).
     pub reconciliation: Option<Reconciliation>,
     pub notes: Vec<String>,
+    /// The date of the last payment, when dated.
+    pub payoff_date: Option<jiff::civil::Date>,
+    /// Against the same loan without extra payments, when there are extras.
+    pub savings: Option<Savings>,
+    pub milestones: Milestones,
+    /// The posted plan with its closed-form segments.
+    pub plan: Plan,
 }
 
 impl LoanTerms {
@@ -162,6 +170,14 @@ pub fn payments_in_months(months: u32, frequency: Frequency) -> Result<u32> {
 /// # Errors
 /// Out-of-range terms, a payment that never repays, or an overflow; each names its field.
 pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
+    schedule_with(terms, &PlanOptions::default())
+}
+
+/// Solves and posts a loan with plan options (dates, extras, interest-only, balloon, rate steps).
+///
+/// # Errors
+/// Out-of-range or inconsistent terms, a payment that never repays, or an overflow.
+pub fn schedule_with(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSchedule> {
     terms.check()?;
     let i = terms.periodic_rate()?;
     let currency = terms.currency;
@@ -178,29 +194,8 @@ pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
             terms.payment_frequency.name()
         ));
     }
-    let (payment, max_payments, derivation) = match terms.term {
-        LoanTerm::Payments(n) => {
-            let exact = payment_for_term(terms.principal, i, n)?;
-            let posted = currency.round(exact, terms.payment_rounding.strategy());
-            let unit = UnitResponses::for_rate(i)?;
-            let (h, u) = unit.at_scaled(n)?;
-            let derivation = PaymentDerivation {
-                n,
-                principal_response: h,
-                payment_response: u,
-                exact_payment: exact,
-                unit,
-            };
-            (posted, n, Some(derivation))
-        }
-        LoanTerm::Payment(p) => {
-            // The closed form's term checks that the payment repays at all; the
-            // posted ledger, whose rounded interest may need a payment or two
-            // more, then runs until it is repaid.
-            term_for_payment(terms.principal, i, p)?;
-            (p, MAX_PAYMENTS, None)
-        }
-    };
+    let plan = post(terms, options, true)?;
+    let payment = plan.payment;
     if payment <= Decimal::ZERO {
         return Err(EngineError::no_solution(
             Some("principal"),
@@ -210,56 +205,117 @@ pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
             ),
         ));
     }
-    let first_interest = currency.round(terms.principal * i, terms.interest_rounding.strategy());
-    if payment <= first_interest && terms.principal > currency.minor_unit() {
-        return Err(EngineError::no_solution(
-            Some(match terms.term {
-                LoanTerm::Payments(_) => "principal",
-                LoanTerm::Payment(_) => "payment",
-            }),
-            "the rounded payment does not exceed the first period's posted interest, so the balance never falls",
+    let derivation = match terms.term {
+        LoanTerm::Payments(n) => {
+            let amortizing = n - options.interest_only_payments;
+            let balance = plan
+                .rows
+                .get(options.interest_only_payments as usize)
+                .map_or(terms.principal, |r| r.balance + r.principal + r.extra)
+                .max(Decimal::ZERO);
+            let start = if options.interest_only_payments == 0 {
+                terms.principal
+            } else {
+                balance
+            };
+            let i_start = plan
+                .segments
+                .iter()
+                .find(|s| s.first_payment > options.interest_only_payments)
+                .map_or(i, |s| s.periodic_rate);
+            let unit = UnitResponses::for_rate(i_start)?;
+            let (h, u) = unit.at_scaled(amortizing)?;
+            Some(PaymentDerivation {
+                n: amortizing,
+                principal_response: h,
+                payment_response: u,
+                exact_payment: payment_for_term(start, i_start, amortizing)?,
+                unit,
+            })
+        }
+        LoanTerm::Payment(_) => None,
+    };
+    let base = if options.extras.is_empty() {
+        None
+    } else {
+        Some(post(terms, options, false)?)
+    };
+    let milestone_base = base.as_ref().unwrap_or(&plan);
+    let (milestones, milestone_notes) =
+        milestones(&plan, milestone_base, options.property_value, currency)?;
+    notes.extend(plan.notes.iter().cloned());
+    notes.extend(milestone_notes);
+    if plan.odd_days != 0 {
+        let place = match options.odd_days_interest {
+            OddDaysInterest::FirstPayment => "added to the first payment",
+            OddDaysInterest::Prepaid => "collected at closing as prepaid interest",
+        };
+        notes.push(format!(
+            "The first period is odd by {} days ({}): {} of interest, {place}.",
+            plan.odd_days,
+            options.day_count.name(),
+            currency.format(plan.odd_days_interest)
         ));
     }
-    let ledger = post_level(
-        terms.principal,
-        i,
-        payment,
-        max_payments,
-        currency,
-        terms.interest_rounding,
-    )?;
-    let solution = solve_balance(terms.principal, i, payment)?;
-    let a = Decimal::ONE
-        .checked_add(i)
-        .or_overflow("the interest factor")?;
-    let reconciliation = match reconcile(&ledger, &solution.closed_form, a, currency) {
-        Ok(r) => Some(r),
-        Err(e) if e.kind == super::error::ErrorKind::Overflow => {
-            notes.push("The ledger could not be reconciled with the closed form: a^k leaves the range of 28-digit decimals for this term and rate.".into());
-            None
-        }
-        Err(e) => return Err(e),
+    let rows: Vec<Row> = plan
+        .rows
+        .iter()
+        .map(|r| Row {
+            number: r.number,
+            date: r.date,
+            payment: r.payment,
+            extra: r.extra,
+            interest: r.interest,
+            principal: r.principal,
+            balance: r.balance,
+        })
+        .collect();
+    let ledger = Ledger {
+        rows,
+        total_paid: plan.total_paid,
+        total_interest: plan.total_interest,
     };
     let number_of_payments = ledger.rows.len() as u32;
-    let final_payment = ledger.rows.last().map_or(Decimal::ZERO, |r| r.payment);
-    if matches!(terms.term, LoanTerm::Payment(_)) && final_payment > payment {
-        return Err(EngineError::no_solution(
-            Some("payment"),
-            format!("with interest posted to the minor unit, the payment needs more than {MAX_PAYMENTS} payments to repay the loan"),
-        ));
+    let final_payment = ledger
+        .rows
+        .last()
+        .map_or(Decimal::ZERO, |r| r.payment + r.extra);
+    let reconciliation = reconcile_plan(&plan, currency)?;
+    if reconciliation.is_none() {
+        notes.push("The ledger could not be reconciled with the closed form: a^k leaves the range of 28-digit decimals for this term and rate.".into());
     }
-    if number_of_payments < max_payments && matches!(terms.term, LoanTerm::Payments(_)) {
+    if let (LoanTerm::Payments(n), true) = (
+        terms.term,
+        options.extras.is_empty()
+            && options.balloon_after_payments.is_none()
+            && options.rate_changes.is_empty(),
+    ) {
+        if number_of_payments < n {
+            notes.push(format!(
+                "The rounded payment repays the loan after {number_of_payments} payments, {} fewer than the term.",
+                n - number_of_payments
+            ));
+        }
+    }
+    if let Some(b) = plan.balloon {
         notes.push(format!(
-            "The rounded payment repays the loan after {number_of_payments} payments, {} fewer than the term.",
-            max_payments - number_of_payments
+            "A balloon of {} falls due with payment {number_of_payments}.",
+            currency.format(b)
         ));
-    }
-    if final_payment != payment {
+    } else if final_payment != payment && options.extras.is_empty() {
         notes.push(format!(
             "The final payment is {} so that the balance ends at exactly zero.",
             currency.format(final_payment)
         ));
     }
+    let solution = match plan.segments.first() {
+        Some(s) => s.solution.clone(),
+        None => solve_balance(terms.principal, i, payment)?,
+    };
+    let savings = base.as_ref().map(|b| Savings {
+        interest_saved: b.total_interest - plan.total_interest,
+        payments_saved: b.rows.len() as u32 - plan.rows.len().min(b.rows.len()) as u32,
+    });
     Ok(LoanSchedule {
         terms: terms.clone(),
         periodic_rate: i,
@@ -271,7 +327,70 @@ pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
         ledger,
         reconciliation,
         notes,
+        payoff_date: plan.rows.last().and_then(|r| r.date),
+        savings,
+        milestones,
+        plan,
     })
+}
+
+/// Interest and payments saved by extra payments, against the same loan without them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Savings {
+    pub interest_saved: Decimal,
+    pub payments_saved: u32,
+}
+
+/// Reconciles a plan's posted balances with its chain of closed forms.
+fn reconcile_plan(plan: &Plan, currency: Currency) -> Result<Option<Reconciliation>> {
+    let Some((largest, at)) = plan.largest_drift else {
+        return Ok(if plan.segments.is_empty() {
+            Some(Reconciliation {
+                largest_drift: Decimal::ZERO,
+                at_payment: 0,
+                final_payment_drift: Decimal::ZERO,
+                bound: Decimal::ZERO,
+            })
+        } else {
+            None
+        });
+    };
+    // The bound: half a minor unit each period, carried forward by each period's factor.
+    let half = currency.minor_unit() / Decimal::TWO;
+    let mut bound = Decimal::ZERO;
+    for s in &plan.segments {
+        let a = Decimal::ONE + s.periodic_rate;
+        for k in s.first_payment..=s.last_payment {
+            if k > at {
+                break;
+            }
+            bound = bound
+                .checked_mul(a)
+                .and_then(|b| b.checked_add(half))
+                .or_overflow("the drift bound")?;
+        }
+    }
+    let final_drift = match (plan.rows.last(), plan.segments.last()) {
+        (Some(last), Some(s)) if last.number == s.last_payment + 1 => {
+            let a = Decimal::ONE
+                + plan
+                    .segments
+                    .last()
+                    .map_or(Decimal::ZERO, |s| s.periodic_rate);
+            let interest_rate_now = a;
+            last.payment + last.extra
+                - interest_rate_now
+                    .checked_mul(s.end_balance)
+                    .or_overflow("the final payment")?
+        }
+        _ => Decimal::ZERO,
+    };
+    Ok(Some(Reconciliation {
+        largest_drift: largest,
+        at_payment: at,
+        final_payment_drift: final_drift,
+        bound,
+    }))
 }
 
 #[cfg(test)]

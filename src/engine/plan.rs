@@ -1,0 +1,1048 @@
+//! Loans whose terms change over time: dates and an odd first period, extra
+//! payments, an interest-only start, a balloon, rate steps, milestones.
+//!
+//! The posted ledger steps through the payments as a servicing system would
+//! (the only stepping there is). The closed form is found per segment: a run of
+//! payments over which the rate, the regular payment and the recurring extra stay
+//! the same, a lump sum or odd-days interest starting a segment of its own as an
+//! impulse. Each segment is solved from the previous segment's closed-form end
+//! balance, and the ledger is reconciled with the chain.
+
+use jiff::civil::Date;
+use rust_decimal::Decimal;
+
+use super::calendar::{due_dates, period_before, DayCount};
+use super::error::{EngineError, OrOverflow, Result};
+use super::ledger::{from_minor, to_minor, InterestPoster};
+use super::loan::{payment_for_term, MAX_PAYMENTS};
+use super::money::Currency;
+use super::rate::AnnualRate;
+use super::recurrence::{Input, Recurrence, Solution};
+use super::schedule::{LoanTerm, LoanTerms};
+use super::zdomain::ClosedForm;
+
+/// Where the odd first period's interest goes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum OddDaysInterest {
+    /// Added to the first payment.
+    #[default]
+    FirstPayment,
+    /// Collected at closing as prepaid interest.
+    Prepaid,
+}
+
+/// What a rate step keeps.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum RateChangeKeeps {
+    /// The remaining term: the payment is re-amortized.
+    #[default]
+    Term,
+    /// The payment: the term changes.
+    Payment,
+}
+
+/// An extra payment.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Extra {
+    /// `amount` with payments `from`, `from + every`, … up to `to` (or the end).
+    Recurring {
+        amount: Decimal,
+        from: u32,
+        to: Option<u32>,
+        every: u32,
+    },
+    /// `amount` once, with payment `at`.
+    Lump { amount: Decimal, at: u32 },
+}
+
+/// A new nominal annual rate from payment `at` on.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct RateChange {
+    pub at: u32,
+    pub rate: AnnualRate,
+}
+
+/// Everything a plan adds to level-loan terms.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct PlanOptions {
+    pub funding_date: Option<Date>,
+    pub first_payment_date: Option<Date>,
+    pub day_count: DayCount,
+    pub odd_days_interest: OddDaysInterest,
+    pub extras: Vec<Extra>,
+    pub interest_only_payments: u32,
+    pub balloon_after_payments: Option<u32>,
+    pub rate_changes: Vec<RateChange>,
+    pub rate_change_keeps: RateChangeKeeps,
+    pub property_value: Option<Decimal>,
+}
+
+/// One posted payment.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct PlanRow {
+    pub number: u32,
+    pub date: Option<Date>,
+    /// The scheduled payment (with odd-days interest on the first, the balloon on the last).
+    pub payment: Decimal,
+    pub extra: Decimal,
+    pub interest: Decimal,
+    pub principal: Decimal,
+    pub balance: Decimal,
+}
+
+/// A run of payments solved by one closed form.
+#[derive(Debug, Clone)]
+pub struct Segment {
+    pub first_payment: u32,
+    pub last_payment: u32,
+    pub periodic_rate: Decimal,
+    /// Regular payment plus recurring extra, each period.
+    pub outflow: Decimal,
+    /// A lump sum or interest credit at the segment's first payment (negative: paid in).
+    pub impulse: Decimal,
+    pub solution: Solution,
+    /// The closed form's balance after the segment's last payment.
+    pub end_balance: Decimal,
+}
+
+/// A milestone: a payment number and its date.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Milestone {
+    pub payment: u32,
+    pub date: Option<Date>,
+}
+
+/// The milestones of a plan.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct Milestones {
+    /// The first payment whose principal part exceeds its interest part.
+    pub principal_exceeds_interest: Option<Milestone>,
+    /// Scheduled balance first at or below 80 % of the original value (HPA borrower request).
+    pub balance_80_percent: Option<Milestone>,
+    /// Scheduled balance first at or below 78 % of the original value (HPA automatic termination).
+    pub balance_78_percent: Option<Milestone>,
+    /// The midpoint of the amortization period, and the first day of the next month.
+    pub midpoint: Option<Milestone>,
+    pub final_termination_date: Option<Date>,
+    /// Through payment 60 (or the whole term when shorter).
+    pub payments_counted: u32,
+    pub total_paid_60: Decimal,
+    pub principal_paid_60: Decimal,
+}
+
+/// A posted plan with its closed-form segments.
+#[derive(Debug, Clone)]
+pub struct Plan {
+    pub rows: Vec<PlanRow>,
+    pub segments: Vec<Segment>,
+    /// The regular payment at the start of amortization (after any interest-only period).
+    pub payment: Decimal,
+    pub total_paid: Decimal,
+    pub total_interest: Decimal,
+    pub total_extra: Decimal,
+    pub balloon: Option<Decimal>,
+    /// Odd-days interest (signed: a short first period gives a credit).
+    pub odd_days: i64,
+    pub odd_days_interest: Decimal,
+    pub prepaid_interest: Decimal,
+    pub largest_drift: Option<(Decimal, u32)>,
+    pub notes: Vec<String>,
+}
+
+fn err(field: &'static str, message: impl Into<String>) -> EngineError {
+    EngineError::out_of_range(field, message)
+}
+
+/// Checks a plan's options against its terms.
+///
+/// # Errors
+/// Each inconsistency, naming its field.
+pub fn check(terms: &LoanTerms, o: &PlanOptions, n: u32) -> Result<()> {
+    if o.interest_only_payments >= n && o.interest_only_payments > 0 {
+        return Err(err(
+            "interest_only_payments",
+            "the interest-only period must be shorter than the term",
+        ));
+    }
+    if let Some(b) = o.balloon_after_payments {
+        if b == 0 || b >= n {
+            return Err(err(
+                "balloon_after_payments",
+                format!(
+                    "the balloon must fall due after 1 to {} payments (the term has {n})",
+                    n.saturating_sub(1)
+                ),
+            ));
+        }
+        if b <= o.interest_only_payments {
+            return Err(err(
+                "balloon_after_payments",
+                "the balloon must fall due after the interest-only period",
+            ));
+        }
+    }
+    let mut last = 1;
+    for (index, rc) in o.rate_changes.iter().enumerate() {
+        if rc.at < 2 || rc.at > n {
+            return Err(err(
+                "rate_changes",
+                format!(
+                    "rate change {}: `at` must be a payment from 2 to {n}",
+                    index + 1
+                ),
+            ));
+        }
+        if rc.at <= last {
+            return Err(err(
+                "rate_changes",
+                format!(
+                    "rate change {}: rate changes must be at increasing payments, without overlap",
+                    index + 1
+                ),
+            ));
+        }
+        last = rc.at;
+    }
+    for (index, e) in o.extras.iter().enumerate() {
+        match *e {
+            Extra::Recurring {
+                amount,
+                from,
+                to,
+                every,
+            } => {
+                if amount <= Decimal::ZERO || !terms.currency.fits(amount) {
+                    return Err(err(
+                        "extra_payments",
+                        format!(
+                            "extra payment {}: the amount must be more than zero, in minor units",
+                            index + 1
+                        ),
+                    ));
+                }
+                if from == 0 || every == 0 || to.is_some_and(|t| t < from) {
+                    return Err(err(
+                        "extra_payments",
+                        format!(
+                            "extra payment {}: needs 1 ≤ from ≤ to and every ≥ 1",
+                            index + 1
+                        ),
+                    ));
+                }
+            }
+            Extra::Lump { amount, at } => {
+                if amount <= Decimal::ZERO || !terms.currency.fits(amount) {
+                    return Err(err(
+                        "extra_payments",
+                        format!(
+                            "extra payment {}: the amount must be more than zero, in minor units",
+                            index + 1
+                        ),
+                    ));
+                }
+                if at == 0 {
+                    return Err(err(
+                        "extra_payments",
+                        format!(
+                            "extra payment {}: `at` must be a payment number from 1",
+                            index + 1
+                        ),
+                    ));
+                }
+            }
+        }
+    }
+    match (o.funding_date, o.first_payment_date) {
+        (Some(f), Some(p)) => {
+            if p <= f {
+                return Err(err(
+                    "first_payment_date",
+                    "the first payment must fall after funding",
+                ));
+            }
+            if DayCount::Actual365.days(f, p) > 366 {
+                return Err(err(
+                    "first_payment_date",
+                    "the first period cannot be longer than a year",
+                ));
+            }
+        }
+        (Some(_), None) => {
+            return Err(err(
+                "first_payment_date",
+                "give the first payment date with the funding date",
+            ))
+        }
+        _ => {}
+    }
+    if let Some(v) = o.property_value {
+        if v <= Decimal::ZERO {
+            return Err(err(
+                "property_value",
+                "the property value must be more than zero",
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// The extra paid with payment k: (recurring every period, everything else as a lump).
+fn extras_at(extras: &[Extra], k: u32) -> (Decimal, Decimal) {
+    let (mut recurring, mut lump) = (Decimal::ZERO, Decimal::ZERO);
+    for e in extras {
+        match *e {
+            Extra::Recurring {
+                amount,
+                from,
+                to,
+                every,
+            } => {
+                if k >= from && to.is_none_or(|t| k <= t) && (k - from) % every == 0 {
+                    if every == 1 {
+                        recurring += amount;
+                    } else {
+                        lump += amount;
+                    }
+                }
+            }
+            Extra::Lump { amount, at } => {
+                if at == k {
+                    lump += amount;
+                }
+            }
+        }
+    }
+    (recurring, lump)
+}
+
+/// The payment number of the last scheduled extra (to tell when extras come after payoff).
+fn last_extra(extras: &[Extra]) -> Option<u32> {
+    extras
+        .iter()
+        .map(|e| match *e {
+            Extra::Recurring { from, to, .. } => to.unwrap_or(from),
+            Extra::Lump { at, .. } => at,
+        })
+        .max()
+}
+
+/// The scheduled number of payments: the term, or (given a payment) what a level
+/// posting of that payment needs.
+fn scheduled_payments(terms: &LoanTerms, i: Decimal) -> Result<u32> {
+    match terms.term {
+        LoanTerm::Payments(n) => Ok(n),
+        LoanTerm::Payment(p) => {
+            // The closed form checks that the payment repays at all; the posted
+            // ledger, whose rounded interest may need a payment more, then counts.
+            super::loan::term_for_payment(terms.principal, i, p)?;
+            let l = super::ledger::post_level(
+                terms.principal,
+                i,
+                p,
+                MAX_PAYMENTS,
+                terms.currency,
+                terms.interest_rounding,
+            )?;
+            if l.rows.last().is_some_and(|r| r.payment > p) {
+                return Err(EngineError::no_solution(
+                    Some("payment"),
+                    format!("with interest posted to the minor unit, the payment needs more than {MAX_PAYMENTS} payments to repay the loan"),
+                ));
+            }
+            Ok(l.rows.len() as u32)
+        }
+    }
+}
+
+fn rounded_payment(terms: &LoanTerms, balance: Decimal, i: Decimal, n: u32) -> Result<Decimal> {
+    let exact = payment_for_term(balance, i, n)?;
+    Ok(terms
+        .currency
+        .round(exact, terms.payment_rounding.strategy()))
+}
+
+/// Posts a plan and solves its segments.
+///
+/// `with_extras = false` posts the same plan without extra payments (the base for
+/// savings, and the initial amortization schedule for the HPA milestones).
+///
+/// # Errors
+/// Inconsistent options, a payment that does not cover the interest, an overflow.
+pub fn post(terms: &LoanTerms, o: &PlanOptions, with_extras: bool) -> Result<Plan> {
+    terms.check()?;
+    let c = terms.currency;
+    let e = c.minor_units();
+    let compounding = terms.compounding.unwrap_or(terms.payment_frequency);
+    let rate_of = |r: &AnnualRate| {
+        r.periodic_rate(terms.payment_frequency, compounding)
+            .map_err(|e| e.at("rate_changes"))
+    };
+    let i0 = terms.periodic_rate()?;
+    let n = scheduled_payments(terms, i0)?;
+    check(terms, o, n)?;
+    let extras: &[Extra] = if with_extras { &o.extras } else { &[] };
+    let mut notes = Vec::new();
+
+    // The odd first period.
+    let (mut odd_days, mut odd_interest) = (0i64, Decimal::ZERO);
+    if let (Some(funding), Some(first)) = (o.funding_date, o.first_payment_date) {
+        let regular_start = period_before(first, terms.payment_frequency)?;
+        odd_days = o.day_count.days(funding, regular_start);
+        if odd_days != 0 {
+            let exact = terms.principal * terms.rate.fraction() * Decimal::from(odd_days)
+                / Decimal::from(o.day_count.basis());
+            odd_interest = c.round(exact, terms.interest_rounding.strategy());
+        }
+    }
+    let prepaid = if o.odd_days_interest == OddDaysInterest::Prepaid {
+        odd_interest
+    } else {
+        Decimal::ZERO
+    };
+    let odd_on_first = if o.odd_days_interest == OddDaysInterest::FirstPayment {
+        to_minor(odd_interest, e)?
+    } else {
+        0
+    };
+
+    let mut i = i0;
+    let mut poster = InterestPoster::new(i, c, terms.interest_rounding);
+    let mut payment = match terms.term {
+        LoanTerm::Payment(p) => p,
+        LoanTerm::Payments(_) => {
+            rounded_payment(terms, terms.principal, i, n - o.interest_only_payments)?
+        }
+    };
+    let amortizing_payment = payment;
+    let mut pay = to_minor(payment, e)?;
+    let mut balance = to_minor(terms.principal, e)?;
+    let mut rows: Vec<PlanRow> = Vec::with_capacity(n as usize);
+    let mut inputs: Vec<(Decimal, i128, i128, i128)> = Vec::with_capacity(n as usize); // (i, regular, recurring, lump)
+    let mut balloon = None;
+    let (mut total_paid, mut total_interest, mut total_extra) = (0i128, 0i128, 0i128);
+    let mut limit = n;
+    let mut k = 0;
+    while k < limit {
+        k += 1;
+        if let Some(rc) = o.rate_changes.iter().find(|rc| rc.at == k) {
+            i = rate_of(&rc.rate)?;
+            poster = InterestPoster::new(i, c, terms.interest_rounding);
+            if k > o.interest_only_payments {
+                match o.rate_change_keeps {
+                    RateChangeKeeps::Term => {
+                        payment = rounded_payment(terms, from_minor(balance, e), i, n - (k - 1))?;
+                        pay = to_minor(payment, e)?;
+                    }
+                    RateChangeKeeps::Payment => {
+                        if pay <= poster.interest(balance)? {
+                            return Err(EngineError::no_solution(
+                                Some("rate_change_keeps"),
+                                format!("at payment {k} the kept payment no longer covers the interest; keep the term instead"),
+                            ));
+                        }
+                        limit = MAX_PAYMENTS;
+                    }
+                }
+            }
+        }
+        if o.interest_only_payments > 0 && k == o.interest_only_payments + 1 {
+            payment = rounded_payment(
+                terms,
+                from_minor(balance, e),
+                i,
+                n - o.interest_only_payments,
+            )?;
+            if matches!(terms.term, LoanTerm::Payment(p) if p > Decimal::ZERO) {
+                payment = match terms.term {
+                    LoanTerm::Payment(p) => p,
+                    LoanTerm::Payments(_) => payment,
+                };
+            }
+            pay = to_minor(payment, e)?;
+        }
+        let interest = poster.interest(balance)?;
+        let owed = balance + interest;
+        let mut regular = if k <= o.interest_only_payments {
+            interest
+        } else {
+            pay
+        };
+        if k > o.interest_only_payments && regular <= interest && owed > regular {
+            return Err(EngineError::no_solution(
+                Some("payment"),
+                format!("at payment {k} the payment does not exceed the interest, so the balance never falls"),
+            ));
+        }
+        let (recurring, lump) = extras_at(extras, k);
+        let (recurring, lump) = (to_minor(recurring, e)?, to_minor(lump, e)?);
+        let mut extra = recurring + lump;
+        let last = k == limit || o.balloon_after_payments == Some(k);
+        if owed <= regular + extra || last {
+            if owed <= regular {
+                regular = owed;
+                extra = 0;
+            } else if !last {
+                extra = owed - regular;
+            } else {
+                // The last scheduled payment (or the balloon) takes what is owed beyond the extra.
+                let rest = owed - extra.min(owed);
+                if o.balloon_after_payments == Some(k) && rest > regular {
+                    balloon = Some(from_minor(rest - regular, e));
+                }
+                extra = extra.min(owed);
+                regular = rest;
+            }
+        }
+        let principal_part = regular + extra - interest;
+        balance -= principal_part;
+        let odd = if k == 1 { odd_on_first } else { 0 };
+        total_paid += regular + extra + odd;
+        total_interest += interest + odd;
+        total_extra += extra;
+        rows.push(PlanRow {
+            number: k,
+            date: None,
+            payment: from_minor(regular + odd, e),
+            extra: from_minor(extra, e),
+            interest: from_minor(interest + odd, e),
+            principal: from_minor(principal_part, e),
+            balance: from_minor(balance, e),
+        });
+        inputs.push((i, regular, recurring, lump));
+        if balance == 0 {
+            break;
+        }
+        if k == limit && balance != 0 {
+            return Err(EngineError::no_solution(
+                Some("rate_change_keeps"),
+                format!("the kept payment would need more than {MAX_PAYMENTS} payments"),
+            ));
+        }
+    }
+    if with_extras && last_extra(&o.extras).is_some_and(|last| last > rows.len() as u32) {
+        notes.push(format!(
+            "Extra payments scheduled after payment {} are ignored: the loan is paid off by then.",
+            rows.len()
+        ));
+    }
+    if let Some(first) = o.first_payment_date {
+        let dates = due_dates(first, rows.len() as u32, terms.payment_frequency)?;
+        for (row, d) in rows.iter_mut().zip(dates) {
+            row.date = Some(d);
+        }
+    }
+    let segments = solve_segments(terms.principal, &rows, &inputs, e)?;
+    let largest_drift = reconcile(&rows, &segments)?;
+    Ok(Plan {
+        rows,
+        segments,
+        payment: amortizing_payment,
+        total_paid: from_minor(total_paid, e),
+        total_interest: from_minor(total_interest, e),
+        total_extra: from_minor(total_extra, e),
+        balloon,
+        odd_days,
+        odd_days_interest: odd_interest,
+        prepaid_interest: prepaid,
+        largest_drift,
+        notes,
+    })
+}
+
+/// Splits the posted payments (all but the final payoff) into closed-form segments.
+fn solve_segments(
+    principal: Decimal,
+    rows: &[PlanRow],
+    inputs: &[(Decimal, i128, i128, i128)],
+    e: u32,
+) -> Result<Vec<Segment>> {
+    let regular_count = rows.len().saturating_sub(1);
+    let mut segments: Vec<Segment> = Vec::new();
+    let mut start_balance = principal;
+    let mut k = 0;
+    while k < regular_count {
+        let (i, regular, recurring, lump) = inputs[k];
+        let outflow = from_minor(regular + recurring, e);
+        // Odd-days interest raises payment and interest alike: the balance does not see it.
+        let impulse = -from_minor(lump, e);
+        let mut end = k + 1;
+        while end < regular_count {
+            let (i2, r2, rec2, l2) = inputs[end];
+            if i2 != i || r2 != regular || rec2 != recurring || l2 != 0 {
+                break;
+            }
+            end += 1;
+        }
+        let mut recurrence_inputs = vec![Input::Step { amount: -outflow }];
+        if !impulse.is_zero() {
+            recurrence_inputs.push(Input::Impulse { amount: impulse });
+        }
+        let a = Decimal::ONE
+            .checked_add(i)
+            .or_overflow("the interest factor")?;
+        let solution = Recurrence {
+            a,
+            x0: start_balance,
+            inputs: recurrence_inputs,
+        }
+        .solve()?;
+        let len = (end - k) as u32;
+        let end_balance = solution.closed_form.eval(len)?;
+        segments.push(Segment {
+            first_payment: k as u32 + 1,
+            last_payment: end as u32,
+            periodic_rate: i,
+            outflow,
+            impulse,
+            solution,
+            end_balance,
+        });
+        start_balance = end_balance;
+        k = end;
+    }
+    Ok(segments)
+}
+
+/// The largest |posted balance − closed-form balance| and where, or `None` past the decimal range.
+fn reconcile(rows: &[PlanRow], segments: &[Segment]) -> Result<Option<(Decimal, u32)>> {
+    let mut largest: Option<(Decimal, u32)> = None;
+    for s in segments {
+        let len = s.last_payment - s.first_payment + 1;
+        let values = match s.solution.closed_form.values(len) {
+            Ok(v) => v,
+            Err(e) if e.kind == super::error::ErrorKind::Overflow => return Ok(None),
+            Err(e) => return Err(e),
+        };
+        for m in 1..=len {
+            let row = &rows[(s.first_payment + m - 2) as usize];
+            let drift = (row.balance - values[m as usize]).abs();
+            if largest.is_none_or(|(d, _)| drift > d) {
+                largest = Some((drift, row.number));
+            }
+        }
+    }
+    Ok(largest)
+}
+
+impl ClosedForm {
+    /// x[k] in binary floating point: for estimates only, never for an answer.
+    pub fn estimate(&self, k: u32) -> f64 {
+        use rust_decimal::prelude::ToPrimitive;
+        let kf = f64::from(k);
+        let mut total = 0.0;
+        for mode in &self.modes {
+            let mut poly = 0.0;
+            for c in mode.polynomial.iter().rev() {
+                poly = poly * kf + c.to_f64().unwrap_or(0.0);
+            }
+            total += poly * mode.pole.to_f64().unwrap_or(0.0).powf(kf);
+        }
+        for (j, c) in &self.impulses {
+            if *j == k {
+                total += c.to_f64().unwrap_or(0.0);
+            }
+        }
+        total
+    }
+}
+
+/// The first m in lo..=hi with x[m] ≤ threshold (x falling), or `None`.
+///
+/// A floating-point bisection picks the candidate; the decimal closed form then
+/// confirms it exactly at m − 1 and m, moving it until both agree.
+///
+/// # Errors
+/// An overflow.
+pub fn first_at_or_below(
+    cf: &ClosedForm,
+    threshold: Decimal,
+    lo: u32,
+    hi: u32,
+) -> Result<Option<u32>> {
+    use rust_decimal::prelude::ToPrimitive;
+    if lo > hi || cf.eval(hi)? > threshold {
+        return Ok(None);
+    }
+    let t = threshold.to_f64().unwrap_or(0.0);
+    let (mut a, mut b) = (lo, hi);
+    while a < b {
+        let mid = a + (b - a) / 2;
+        if cf.estimate(mid) <= t {
+            b = mid;
+        } else {
+            a = mid + 1;
+        }
+    }
+    let mut m = a;
+    for _ in 0..(hi - lo + 2) {
+        if cf.eval(m)? > threshold {
+            m += 1;
+        } else if m > lo && cf.eval(m - 1)? <= threshold {
+            m -= 1;
+        } else {
+            return Ok(Some(m));
+        }
+    }
+    Ok(Some(m))
+}
+
+/// The milestones of a posted plan; `base` is the same plan without extras (the
+/// initial amortization schedule of the Homeowners Protection Act).
+///
+/// # Errors
+/// An overflow.
+pub fn milestones(
+    plan: &Plan,
+    base: &Plan,
+    property_value: Option<Decimal>,
+    currency: Currency,
+) -> Result<(Milestones, Vec<String>)> {
+    let mut notes = Vec::new();
+    let mut out = Milestones::default();
+    let at = |rows: &[PlanRow], k: u32| Milestone {
+        payment: k,
+        date: rows.get(k as usize - 1).and_then(|r| r.date),
+    };
+    // The principal part first exceeds the interest part where x[k−1] < P/(2i).
+    'segments: for s in &plan.segments {
+        if s.periodic_rate.is_zero() {
+            out.principal_exceeds_interest = Some(at(&plan.rows, s.first_payment));
+            break;
+        }
+        let regular = plan.rows[s.first_payment as usize - 1].payment
+            - if s.first_payment == 1 {
+                plan.rows[0].interest - base.rows[0].interest.min(plan.rows[0].interest)
+            } else {
+                Decimal::ZERO
+            };
+        let threshold = regular / (Decimal::TWO * s.periodic_rate);
+        let len = s.last_payment - s.first_payment + 1;
+        if let Some(m) = first_at_or_below(&s.solution.closed_form, threshold, 0, len - 1)? {
+            // Confirm on the posted rows, whose interest is rounded.
+            let mut k = s.first_payment + m;
+            while (k as usize) <= plan.rows.len() {
+                let r = &plan.rows[k as usize - 1];
+                if r.principal - r.extra > r.interest {
+                    out.principal_exceeds_interest = Some(at(&plan.rows, k));
+                    break 'segments;
+                }
+                k += 1;
+            }
+        }
+    }
+    if let Some(v) = property_value {
+        let principal = base
+            .rows
+            .first()
+            .map_or(Decimal::ZERO, |r| r.balance + r.principal);
+        if v < principal {
+            notes.push("The property value is below the principal: the balance starts above 100 % of the original value.".into());
+        }
+        let find = |share: Decimal| -> Result<Option<Milestone>> {
+            let threshold = currency.round(
+                v * share,
+                rust_decimal::RoundingStrategy::MidpointAwayFromZero,
+            );
+            for s in &base.segments {
+                let len = s.last_payment - s.first_payment + 1;
+                if let Some(m) = first_at_or_below(&s.solution.closed_form, threshold, 1, len)? {
+                    let mut k = s.first_payment + m - 1;
+                    // Confirm on the posted initial schedule.
+                    while k > 1 && base.rows[k as usize - 2].balance <= threshold {
+                        k -= 1;
+                    }
+                    while (k as usize) < base.rows.len()
+                        && base.rows[k as usize - 1].balance > threshold
+                    {
+                        k += 1;
+                    }
+                    return Ok(Some(at(&base.rows, k)));
+                }
+            }
+            Ok(base
+                .rows
+                .iter()
+                .find(|r| r.balance <= threshold)
+                .map(|r| at(&base.rows, r.number)))
+        };
+        out.balance_80_percent = find(Decimal::new(80, 2))?;
+        out.balance_78_percent = find(Decimal::new(78, 2))?;
+        let n = base.rows.len() as u32;
+        let mid = n.div_ceil(2);
+        out.midpoint = Some(at(&base.rows, mid));
+        out.final_termination_date = out
+            .midpoint
+            .and_then(|m| m.date)
+            .and_then(|d| first_of_next_month(d));
+        notes.push("Mortgage-insurance points follow the Homeowners Protection Act of 1998 (12 U.S.C. 4901–4902) on the initial amortization schedule; lender and investor rules may differ, and cancellation has conditions (payment history, value).".into());
+    }
+    let counted = plan.rows.len().min(60);
+    out.payments_counted = counted as u32;
+    out.total_paid_60 = plan.rows[..counted]
+        .iter()
+        .map(|r| r.payment + r.extra)
+        .sum();
+    out.principal_paid_60 = plan.rows[..counted].iter().map(|r| r.principal).sum();
+    Ok((out, notes))
+}
+
+fn first_of_next_month(d: Date) -> Option<Date> {
+    let (y, m) = if d.month() == 12 {
+        (d.year().checked_add(1)?, 1)
+    } else {
+        (d.year(), d.month() + 1)
+    };
+    Date::new(y, m, 1).ok()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::money::{InterestRounding, PaymentRounding};
+    use crate::engine::rate::Frequency;
+    use jiff::civil::date;
+
+    fn d(s: &str) -> Decimal {
+        s.parse().unwrap()
+    }
+
+    fn terms(principal: &str, percent: &str, n: u32) -> LoanTerms {
+        LoanTerms {
+            principal: d(principal),
+            currency: Currency::USD,
+            rate: AnnualRate::from_percent(d(percent)).unwrap(),
+            payment_frequency: Frequency::Monthly,
+            compounding: None,
+            term: LoanTerm::Payments(n),
+            payment_rounding: PaymentRounding::Nearest,
+            interest_rounding: InterestRounding::HalfUp,
+        }
+    }
+
+    fn total_principal(p: &Plan) -> Decimal {
+        p.rows.iter().map(|r| r.principal).sum()
+    }
+
+    #[test]
+    fn a_plan_without_options_posts_like_the_level_ledger() {
+        let t = terms("100000", "6", 360);
+        let p = post(&t, &PlanOptions::default(), true).unwrap();
+        let l = super::super::schedule::schedule(&t).unwrap();
+        assert_eq!(p.rows.len(), l.ledger.rows.len());
+        assert_eq!(p.total_interest, l.ledger.total_interest);
+        assert_eq!(p.segments.len(), 1);
+    }
+
+    #[test]
+    fn extra_payments_shorten_the_loan_and_save_interest() {
+        let t = terms("250000", "6.5", 360);
+        let o = PlanOptions {
+            extras: vec![
+                Extra::Recurring {
+                    amount: d("150"),
+                    from: 13,
+                    to: None,
+                    every: 1,
+                },
+                Extra::Lump {
+                    amount: d("5000"),
+                    at: 36,
+                },
+            ],
+            ..PlanOptions::default()
+        };
+        let with = post(&t, &o, true).unwrap();
+        let without = post(&t, &o, false).unwrap();
+        assert!(with.rows.len() < without.rows.len());
+        assert!(with.total_interest < without.total_interest);
+        assert_eq!(total_principal(&with), d("250000"));
+        assert_eq!(with.rows.last().unwrap().balance, Decimal::ZERO);
+        // Segments: 1–12, 13–35, then 36 on with the lump as an impulse at its start.
+        assert_eq!(with.segments.len(), 3);
+        assert_eq!(with.segments[2].first_payment, 36);
+        assert_eq!(with.segments[2].impulse, d("-5000"));
+        assert!(with.largest_drift.unwrap().0 < d("1"));
+    }
+
+    #[test]
+    fn interest_only_then_amortizing() {
+        let t = terms("120000", "7.2", 360);
+        let o = PlanOptions {
+            interest_only_payments: 12,
+            ..PlanOptions::default()
+        };
+        let p = post(&t, &o, true).unwrap();
+        assert!(p.rows[..12]
+            .iter()
+            .all(|r| r.payment == d("720.00") && r.principal.is_zero()));
+        assert_eq!(p.rows.len(), 360);
+        assert_eq!(
+            p.payment,
+            super::super::loan::payment_for_term(d("120000"), d("0.006"), 348)
+                .unwrap()
+                .round_dp(2)
+        );
+        // The interest-only segment's closed form is flat: the pole at a cancels.
+        assert!(p.segments[0].solution.cancelled.contains(&d("1.006")));
+    }
+
+    #[test]
+    fn a_balloon_falls_due_with_the_last_payment() {
+        let t = terms("500000", "7", 300);
+        let o = PlanOptions {
+            balloon_after_payments: Some(84),
+            ..PlanOptions::default()
+        };
+        let p = post(&t, &o, true).unwrap();
+        assert_eq!(p.rows.len(), 84);
+        let balloon = p.balloon.unwrap();
+        assert!(balloon > d("400000"));
+        assert_eq!(p.rows[83].payment, p.payment + balloon);
+        assert_eq!(p.rows[83].balance, Decimal::ZERO);
+    }
+
+    #[test]
+    fn a_rate_step_re_amortizes_or_keeps_the_payment() {
+        let t = terms("200000", "5", 360);
+        let step = vec![RateChange {
+            at: 61,
+            rate: AnnualRate::from_percent(d("7")).unwrap(),
+        }];
+        let keep_term = post(
+            &t,
+            &PlanOptions {
+                rate_changes: step.clone(),
+                ..PlanOptions::default()
+            },
+            true,
+        )
+        .unwrap();
+        assert_eq!(keep_term.rows.len(), 360);
+        assert!(keep_term.rows[60].payment > keep_term.rows[59].payment);
+        let keep_payment = post(
+            &t,
+            &PlanOptions {
+                rate_changes: step,
+                rate_change_keeps: RateChangeKeeps::Payment,
+                ..PlanOptions::default()
+            },
+            true,
+        )
+        .unwrap();
+        assert!(keep_payment.rows.len() > 360);
+        assert_eq!(keep_payment.rows[60].payment, keep_payment.rows[59].payment);
+    }
+
+    #[test]
+    fn odd_days_interest_by_day_count() {
+        // Funded 2027-01-10, first payment 2027-03-01: the regular period starts 2027-02-01,
+        // so 22 odd days (actual) or 21 (30/360: 30·1 + 1 − 10). Interest on 100,000 at 6 %,
+        // worked by hand: 22/365 → 361.64; 22/360 → 366.67; 21/360 → 350.00.
+        let t = terms("100000", "6", 360);
+        let mut o = PlanOptions {
+            funding_date: Some(date(2027, 1, 10)),
+            first_payment_date: Some(date(2027, 3, 1)),
+            ..PlanOptions::default()
+        };
+        for (count, days, interest) in [
+            (DayCount::Actual365, 22, "361.64"),
+            (DayCount::Actual360, 22, "366.67"),
+            (DayCount::Thirty360, 21, "350.00"),
+        ] {
+            o.day_count = count;
+            let p = post(&t, &o, true).unwrap();
+            assert_eq!(p.odd_days, days);
+            assert_eq!(p.odd_days_interest, d(interest));
+            assert_eq!(p.rows[0].payment, p.payment + d(interest));
+            assert_eq!(p.rows[0].date, Some(date(2027, 3, 1)));
+            assert_eq!(p.rows[359].date, Some(date(2057, 2, 1)));
+        }
+        o.odd_days_interest = OddDaysInterest::Prepaid;
+        let p = post(&t, &o, true).unwrap();
+        assert_eq!(p.rows[0].payment, p.payment);
+        assert_eq!(p.prepaid_interest, d("350.00"));
+    }
+
+    #[test]
+    fn inconsistent_options_name_their_fields() {
+        let t = terms("100000", "6", 360);
+        let cases = [
+            (
+                PlanOptions {
+                    interest_only_payments: 360,
+                    ..PlanOptions::default()
+                },
+                "interest_only_payments",
+            ),
+            (
+                PlanOptions {
+                    balloon_after_payments: Some(400),
+                    ..PlanOptions::default()
+                },
+                "balloon_after_payments",
+            ),
+            (
+                PlanOptions {
+                    rate_changes: vec![
+                        RateChange {
+                            at: 60,
+                            rate: AnnualRate::from_percent(d("7")).unwrap(),
+                        },
+                        RateChange {
+                            at: 60,
+                            rate: AnnualRate::from_percent(d("8")).unwrap(),
+                        },
+                    ],
+                    ..PlanOptions::default()
+                },
+                "rate_changes",
+            ),
+            (
+                PlanOptions {
+                    funding_date: Some(date(2027, 3, 1)),
+                    first_payment_date: Some(date(2027, 2, 1)),
+                    ..PlanOptions::default()
+                },
+                "first_payment_date",
+            ),
+            (
+                PlanOptions {
+                    funding_date: Some(date(2026, 1, 1)),
+                    first_payment_date: Some(date(2027, 2, 1)),
+                    ..PlanOptions::default()
+                },
+                "first_payment_date",
+            ),
+        ];
+        for (o, field) in cases {
+            assert_eq!(post(&t, &o, true).unwrap_err().field, Some(field));
+        }
+    }
+
+    #[test]
+    fn hpa_milestones_on_the_initial_schedule() {
+        // 12 U.S.C. 4901–4902: 80 % (request) and 78 % (automatic) of the original value on the
+        // initial amortization schedule; final termination the first day of the month after the
+        // midpoint. Property 250,000, loan 225,000 (90 %): thresholds 200,000 and 195,000.
+        let t = terms("225000", "6", 360);
+        let o = PlanOptions {
+            first_payment_date: Some(date(2027, 1, 1)),
+            property_value: Some(d("250000")),
+            ..PlanOptions::default()
+        };
+        let p = post(&t, &o, true).unwrap();
+        let base = post(&t, &o, false).unwrap();
+        let (m, _) = milestones(&p, &base, o.property_value, Currency::USD).unwrap();
+        let k80 = m.balance_80_percent.unwrap().payment as usize;
+        assert!(p.rows[k80 - 1].balance <= d("200000") && p.rows[k80 - 2].balance > d("200000"));
+        let k78 = m.balance_78_percent.unwrap().payment as usize;
+        assert!(p.rows[k78 - 1].balance <= d("195000") && p.rows[k78 - 2].balance > d("195000"));
+        assert_eq!(m.midpoint.unwrap().payment, 180);
+        assert_eq!(m.midpoint.unwrap().date, Some(date(2041, 12, 1)));
+        assert_eq!(m.final_termination_date, Some(date(2042, 1, 1)));
+        let kp = m.principal_exceeds_interest.unwrap().payment as usize;
+        assert!(p.rows[kp - 1].principal > p.rows[kp - 1].interest);
+        assert!(p.rows[kp - 2].principal <= p.rows[kp - 2].interest);
+        assert_eq!(m.payments_counted, 60);
+    }
+}

@@ -1,0 +1,151 @@
+//! Property tests of plans that change over time (extras, interest-only, rate steps).
+//!
+//! Reference: exact big-integer arithmetic from `num-bigint` (general-purpose,
+//! crates.io). The chain of segment closed forms must equal exact stepping of the
+//! posted payments, and the interest saved by extras must equal the difference of
+//! two ledgers posted independently here.
+
+use num_bigint::BigInt;
+use num_traits::Signed;
+use proptest::prelude::*;
+use residue::engine::money::{Currency, InterestRounding, PaymentRounding};
+use residue::engine::plan::{post, Extra, PlanOptions, RateChange};
+use residue::engine::rate::{AnnualRate, Frequency};
+use residue::engine::schedule::{schedule_with, LoanTerm, LoanTerms};
+use rust_decimal::{Decimal, RoundingStrategy};
+
+/// num / 10^scale, exact.
+fn exact(d: Decimal, scale: u32) -> BigInt {
+    BigInt::from(d.mantissa()) * BigInt::from(10).pow(scale - d.scale())
+}
+
+fn terms(principal: Decimal, percent: Decimal, n: u32) -> LoanTerms {
+    LoanTerms {
+        principal,
+        currency: Currency::USD,
+        rate: AnnualRate::from_percent(percent).unwrap(),
+        payment_frequency: Frequency::Monthly,
+        compounding: None,
+        term: LoanTerm::Payments(n),
+        payment_rounding: PaymentRounding::Nearest,
+        interest_rounding: InterestRounding::HalfUp,
+    }
+}
+
+fn options() -> impl Strategy<Value = (u32, Vec<Extra>, Vec<(u32, u32)>)> {
+    (
+        prop_oneof![Just(0u32), 1u32..24],
+        prop::collection::vec(
+            prop_oneof![
+                (1i64..50_000, 1u32..120, 0u32..200, 1u32..13).prop_map(|(c, from, len, every)| {
+                    Extra::Recurring {
+                        amount: Decimal::new(c, 2),
+                        from,
+                        to: Some(from + len),
+                        every,
+                    }
+                }),
+                (1i64..2_000_000, 1u32..300).prop_map(|(c, at)| Extra::Lump {
+                    amount: Decimal::new(c, 2),
+                    at
+                }),
+            ],
+            0..4,
+        ),
+        prop::collection::vec((30u32..300, 0u32..1500), 0..3),
+    )
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
+
+    #[test]
+    fn segment_closed_forms_equal_exact_stepping(
+        principal in (100_000i64..100_000_000).prop_map(|c| Decimal::new(c, 2)),
+        percent in (0i64..1500).prop_map(|p| Decimal::new(p, 2)),
+        (io, extras, steps) in options(),
+    ) {
+        let n = 360;
+        let mut rate_changes: Vec<RateChange> = Vec::new();
+        let mut at = 1;
+        for (gap, p) in steps {
+            at += gap;
+            if at <= n {
+                rate_changes.push(RateChange { at, rate: AnnualRate::from_percent(Decimal::new(i64::from(p), 2)).unwrap() });
+            }
+        }
+        let o = PlanOptions { interest_only_payments: io, extras, rate_changes, ..PlanOptions::default() };
+        let plan = match post(&terms(principal, percent, n), &o, true) {
+            Ok(p) => p,
+            Err(e) => return Err(TestCaseError::reject(e.to_string())),
+        };
+        // Exact stepping of the posted payments: x_k = a_k·x_{k−1} − (payment_k + extra_k), from the start.
+        const S: u32 = 28 * 4;
+        let mut x = exact(principal, S);
+        let mut m = x.abs();
+        let mut k = 0usize;
+        for seg in &plan.segments {
+            let a = Decimal::ONE + seg.periodic_rate;
+            let values = seg.solution.closed_form.values(seg.last_payment - seg.first_payment + 1).unwrap();
+            for (local, value) in values.iter().enumerate().skip(1) {
+                let row = &plan.rows[k];
+                let out = row.payment + row.extra;
+                // x_k = a·x_{k−1} − out, at growing scale (a has up to 28 decimals).
+                x = (&x * exact(a, 28)) / BigInt::from(10).pow(28) - exact(out, S);
+                m = (&m * exact(a, 28)) / BigInt::from(10).pow(28) + exact(out, S);
+                k += 1;
+                let diff = (exact(*value, S.max(value.scale())) - &x * BigInt::from(10).pow(S.max(value.scale()) - S)).abs();
+                // 1e-20 of the magnitude, plus the 1e-84 truncation of this reference per step.
+                let bound = (&m + BigInt::from(10).pow(S)) / BigInt::from(10).pow(20) * BigInt::from(10).pow(S.max(value.scale()) - S);
+                prop_assert!(diff <= bound, "payment {} (segment {}–{}, local {local}): {value} vs exact", row.number, seg.first_payment, seg.last_payment);
+            }
+        }
+        prop_assert_eq!(plan.rows.last().unwrap().balance, Decimal::ZERO);
+        let principal_sum: Decimal = plan.rows.iter().map(|r| r.principal).sum();
+        prop_assert_eq!(principal_sum, principal);
+    }
+
+    #[test]
+    fn interest_saved_equals_the_difference_of_two_independent_ledgers(
+        principal in (1_000_000i64..60_000_000).prop_map(|c| Decimal::new(c, 2)),
+        percent in (1i64..1200).prop_map(|p| Decimal::new(p, 2)),
+        extra in (100i64..100_000).prop_map(|c| Decimal::new(c, 2)),
+        from in 1u32..120,
+        lump in (0i64..1_000_000).prop_map(|c| Decimal::new(c, 2)),
+        lump_at in 1u32..200,
+    ) {
+        let t = terms(principal, percent, 360);
+        let mut extras = vec![Extra::Recurring { amount: extra, from, to: None, every: 1 }];
+        if !lump.is_zero() {
+            extras.push(Extra::Lump { amount: lump, at: lump_at });
+        }
+        let s = schedule_with(&t, &PlanOptions { extras: extras.clone(), ..PlanOptions::default() }).unwrap();
+        // Two ledgers posted here, independently of the engine's posting loop.
+        let i = percent / Decimal::from(1200);
+        let payment = s.payment;
+        let post_here = |with: bool| -> (Decimal, u32) {
+            let mut b = principal;
+            let mut total = Decimal::ZERO;
+            for k in 1..=360u32 {
+                let interest = (b * i).round_dp_with_strategy(2, RoundingStrategy::MidpointAwayFromZero);
+                total += interest;
+                let mut e = Decimal::ZERO;
+                if with {
+                    if k >= from { e += extra; }
+                    if k == lump_at { e += lump; }
+                }
+                if b + interest <= payment + e || k == 360 {
+                    return (total, k);
+                }
+                b = b + interest - payment - e;
+            }
+            (total, 360)
+        };
+        let (base_interest, base_n) = post_here(false);
+        let (with_interest, with_n) = post_here(true);
+        let saved = s.savings.unwrap();
+        prop_assert_eq!(saved.interest_saved, base_interest - with_interest);
+        prop_assert_eq!(saved.payments_saved, base_n - with_n);
+        prop_assert_eq!(s.ledger.total_interest, with_interest);
+    }
+}
