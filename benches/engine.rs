@@ -7,9 +7,10 @@ use criterion::{criterion_group, criterion_main, Criterion};
 use residue::engine::ledger::{post_level, reconcile};
 use residue::engine::loan::{payment_for_term, rate_for_payment, solve_balance};
 use residue::engine::money::{Currency, InterestRounding, PaymentRounding};
+use residue::engine::plan::{first_at_or_below, post, Extra, PlanOptions};
 use residue::engine::rate::{AnnualRate, Frequency};
 use residue::engine::recurrence::{Input, Recurrence};
-use residue::engine::schedule::{schedule, LoanTerm, LoanTerms};
+use residue::engine::schedule::{schedule, schedule_with, LoanTerm, LoanTerms};
 use rust_decimal::Decimal;
 
 fn d(s: &str) -> Decimal {
@@ -92,6 +93,43 @@ fn benches(c: &mut Criterion) {
     };
     c.bench_function("loan_schedule_job_360", |b| {
         b.iter(|| schedule(black_box(&terms)).unwrap())
+    });
+
+    // Four 30-year plans with extra payments, as a comparison computes them.
+    let plans: Vec<(LoanTerms, PlanOptions)> = [150, 250, 400, 600]
+        .iter()
+        .map(|extra| {
+            let o = PlanOptions {
+                extras: vec![
+                    Extra::Recurring {
+                        amount: Decimal::from(*extra),
+                        from: 13,
+                        to: None,
+                        every: 1,
+                    },
+                    Extra::Lump {
+                        amount: d("5000"),
+                        at: 36,
+                    },
+                ],
+                property_value: Some(d("320000")),
+                ..PlanOptions::default()
+            };
+            (terms.clone(), o)
+        })
+        .collect();
+    c.bench_function("compare_four_30_year_plans_with_extras", |b| {
+        b.iter(|| {
+            for (t, o) in &plans {
+                black_box(schedule_with(t, o).unwrap());
+            }
+        })
+    });
+    c.bench_function("post_plan_with_extras_360", |b| {
+        b.iter(|| post(black_box(&plans[0].0), &plans[0].1, true).unwrap())
+    });
+    c.bench_function("milestone_lookup_80_percent_closed_form", |b| {
+        b.iter(|| first_at_or_below(black_box(&cf), d("200000"), 0, 359).unwrap())
     });
 }
 
