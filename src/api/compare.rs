@@ -163,8 +163,12 @@ pub fn from_json(body: &Json) -> Result<Comparison, ApiError> {
 pub fn from_query(pairs: &[(String, String)]) -> Result<Comparison, ApiError> {
     let mut listed: Option<(String, Vec<String>)> = None;
     let mut errors = Vec::new();
-    let mut names: Vec<&str> = pairs.iter().map(|(k, _)| k.as_str()).collect();
-    names.dedup();
+    let mut names: Vec<&str> = Vec::new();
+    for (k, _) in pairs {
+        if !names.contains(&k.as_str()) {
+            names.push(k.as_str());
+        }
+    }
     for name in names {
         if name == "extra_payments" || name == "rate_changes" {
             continue; // lists of their own

@@ -115,7 +115,8 @@ pub struct Milestone {
 /// The milestones of a plan.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
 pub struct Milestones {
-    /// The first payment whose principal part exceeds its interest part.
+    /// The first regular payment whose principal part exceeds its interest part
+    /// (the final payoff and a balloon are not regular payments).
     pub principal_exceeds_interest: Option<Milestone>,
     /// Scheduled balance first at or below 80 % of the original value (HPA borrower request).
     pub balance_80_percent: Option<Milestone>,
@@ -773,7 +774,7 @@ pub fn milestones(
         out.final_termination_date = out
             .midpoint
             .and_then(|m| m.date)
-            .and_then(|d| first_of_next_month(d));
+            .and_then(first_of_next_month);
         notes.push("Mortgage-insurance points follow the Homeowners Protection Act of 1998 (12 U.S.C. 4901–4902) on the initial amortization schedule; lender and investor rules may differ, and cancellation has conditions (payment history, value).".into());
     }
     let counted = plan.rows.len().min(60);

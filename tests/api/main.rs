@@ -7,5 +7,6 @@
 mod errors;
 mod health;
 mod helpers;
+mod plans;
 mod recurrence;
 mod schedule;

@@ -219,14 +219,23 @@ fn the_csv_schedule_has_a_header_crlf_lines_and_the_json_figures() {
         "every line ends with CRLF"
     );
     let lines: Vec<&str> = body.trim_end_matches("\r\n").split("\r\n").collect();
-    assert_eq!(lines[0], "number,payment,interest,principal,balance");
+    assert_eq!(
+        lines[0],
+        "number,date,payment,extra,interest,principal,balance"
+    );
     let json_rows = rows(&s);
     assert_eq!(lines.len() - 1, json_rows.len(), "one row per payment");
     for (line, row) in lines[1..].iter().zip(json_rows) {
+        assert!(
+            row["date"].is_null(),
+            "an undated row has a null date: {row}"
+        );
         let expected = format!(
-            "{},{},{},{},{}",
+            "{},{},{},{},{},{},{}",
             row["number"],
+            row["date"].as_str().unwrap_or(""), // null: an empty field
             row["payment"].as_str().unwrap(),
+            row["extra"].as_str().unwrap(),
             row["interest"].as_str().unwrap(),
             row["principal"].as_str().unwrap(),
             row["balance"].as_str().unwrap()
