@@ -10,6 +10,9 @@ use residue::engine::money::{Currency, InterestRounding, PaymentRounding};
 use residue::engine::plan::{first_at_or_below, post, Extra, PlanOptions};
 use residue::engine::rate::{AnnualRate, Frequency};
 use residue::engine::recurrence::{Input, Recurrence};
+use residue::engine::savings::{
+    plan as savings_plan, Flow, Growth, GrowthEvery, Question, SavingsTerms, Timing,
+};
 use residue::engine::schedule::{schedule, schedule_with, LoanTerm, LoanTerms};
 use rust_decimal::Decimal;
 
@@ -127,6 +130,43 @@ fn benches(c: &mut Criterion) {
     });
     c.bench_function("post_plan_with_extras_360", |b| {
         b.iter(|| post(black_box(&plans[0].0), &plans[0].1, true).unwrap())
+    });
+    // A 40-year monthly savings plan with deposits growing 3 % a year.
+    let savings = SavingsTerms {
+        opening_balance: d("5000"),
+        currency: Currency::USD,
+        rate: AnnualRate::from_percent(d("4.1")).unwrap(),
+        frequency: Frequency::Monthly,
+        compounding: None,
+        timing: Timing::End,
+        growth: Some(Growth {
+            percent: d("3"),
+            every: GrowthEvery::Year,
+        }),
+        deposit_step: Decimal::ZERO,
+        question: Question::FinalBalance {
+            flow: Flow::Deposit(d("350")),
+            periods: 480,
+        },
+        start_date: None,
+    };
+    let solved = savings_plan(&savings).unwrap();
+    let form = solved.form.clone();
+    c.bench_function("savings_final_balance_closed_form_480", |b| {
+        b.iter(|| form.balance_at(black_box(480)).unwrap())
+    });
+    c.bench_function("savings_plan_job_480_with_ledger", |b| {
+        b.iter(|| savings_plan(black_box(&savings)).unwrap())
+    });
+    let to_goal = SavingsTerms {
+        question: Question::PeriodsToGoal {
+            deposit: d("350"),
+            goal: d("400000"),
+        },
+        ..savings.clone()
+    };
+    c.bench_function("savings_periods_to_goal_growing_job", |b| {
+        b.iter(|| savings_plan(black_box(&to_goal)).unwrap())
     });
     c.bench_function("milestone_lookup_80_percent_closed_form", |b| {
         b.iter(|| first_at_or_below(black_box(&cf), d("200000"), 0, 359).unwrap())

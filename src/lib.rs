@@ -8,5 +8,6 @@
 
 pub mod api;
 pub mod engine;
+pub mod metrics;
 pub mod server;
 pub mod web;

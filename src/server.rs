@@ -46,6 +46,9 @@ impl Default for Config {
 pub struct AppState {
     pub config: Arc<Config>,
     in_flight: Arc<Semaphore>,
+    /// Batches running at once (each streams many jobs).
+    pub batches: Arc<Semaphore>,
+    pub metrics: Arc<crate::metrics::Metrics>,
     next_request_id: Arc<AtomicU64>,
 }
 
@@ -55,6 +58,8 @@ impl AppState {
         Self {
             config: Arc::new(config),
             in_flight: Arc::new(Semaphore::new(permits)),
+            batches: Arc::new(Semaphore::new(2)),
+            metrics: Arc::new(crate::metrics::Metrics::default()),
             next_request_id: Arc::new(AtomicU64::new(1)),
         }
     }
@@ -74,6 +79,27 @@ pub fn app(state: AppState) -> Router {
         .route("/api/v1/loans/compare", get(handlers::compare_get).post(handlers::compare_post))
         .route("/api/v1/loans/compare.csv", get(handlers::compare_get_csv))
         .route("/api/v1/recurrence", post(handlers::recurrence_post))
+        .route(
+            "/api/v1/apr",
+            get(crate::api::apr::apr_get).post(crate::api::apr::apr_post),
+        )
+        .route(
+            "/api/v1/apy",
+            get(crate::api::apy::apy_get).post(crate::api::apy::apy_post),
+        )
+        .route(
+            "/api/v1/loans/check",
+            get(crate::api::check::check_get).post(crate::api::check::check_post),
+        )
+        .route(
+            "/api/v1/savings/plan",
+            get(crate::api::savings::plan_get).post(crate::api::savings::plan_post),
+        )
+        .route(
+            "/api/v1/savings/plan.csv",
+            get(crate::api::savings::plan_get_csv),
+        )
+        .route("/api/openapi.json", get(crate::api::openapi::openapi_json))
         .merge(web::routes())
         .method_not_allowed_fallback(method_not_allowed)
         .fallback(not_found)
@@ -81,12 +107,22 @@ pub fn app(state: AppState) -> Router {
             state.clone(),
             limit_and_time,
         ))
-        .route("/healthz", get(handlers::healthz));
+        .route("/api/v1/batch", post(crate::api::batch::batch_post))
+        .route("/healthz", get(handlers::healthz))
+        .route("/metrics", get(metrics));
     api.layer(middleware::from_fn_with_state(
         state.clone(),
         log_and_secure,
     ))
     .with_state(state)
+}
+
+async fn metrics(State(state): State<AppState>) -> Response {
+    (
+        [(header::CONTENT_TYPE, "text/plain; version=0.0.4; charset=utf-8")],
+        state.metrics.render(),
+    )
+        .into_response()
 }
 
 async fn not_found() -> ApiError {
@@ -130,6 +166,10 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
     let id = state.next_request_id.fetch_add(1, Ordering::Relaxed);
     let method = req.method().clone();
     let path = req.uri().path().to_string();
+    let route = req
+        .extensions()
+        .get::<axum::extract::MatchedPath>()
+        .map_or_else(|| "unmatched".to_string(), |m| m.as_str().to_string());
     let started = Instant::now();
     let mut response = next.run(req).await;
     let h = response.headers_mut();
@@ -152,6 +192,10 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         h.insert("x-request-id", v);
     }
     let status = response.status().as_u16();
+    state.metrics.record(&route, status, started.elapsed());
+    if let Some(kind) = response.extensions().get::<ProblemKind>() {
+        state.metrics.record_problem(kind.slug());
+    }
     if status >= 500 {
         tracing::warn!(request_id = id, %method, path, status, micros = started.elapsed().as_micros() as u64, "request");
     } else {

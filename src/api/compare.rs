@@ -18,7 +18,7 @@ use crate::engine::schedule::{schedule_with, LoanSchedule, CAUTION};
 /// The most plans a comparison may hold.
 pub const MAX_PLANS: usize = 4;
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct CompareRowDto {
     pub label: String,
     pub payment: String,
@@ -31,7 +31,7 @@ pub struct CompareRowDto {
     pub payments_saved: i64,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct CompareDto {
     pub currency: &'static str,
     pub rows: Vec<CompareRowDto>,
@@ -161,6 +161,20 @@ pub fn from_json(body: &Json) -> Result<Comparison, ApiError> {
 /// # Errors
 /// The problem to answer.
 pub fn from_query(pairs: &[(String, String)]) -> Result<Comparison, ApiError> {
+    from_query_with(pairs, false)
+}
+
+/// As [`from_query`]; with `lenient`, each plan's fields are read as a person
+/// types them ("6.5%", "$1,250"), as the pages read them.
+///
+/// # Errors
+/// The problem to answer.
+pub fn from_query_with(pairs: &[(String, String)], lenient: bool) -> Result<Comparison, ApiError> {
+    let reader = |p: &[(String, String)]| {
+        let mut f = Fields::new(Source::Query(p));
+        f.lenient = lenient;
+        schedule_request_from(f)
+    };
     let mut listed: Option<(String, Vec<String>)> = None;
     let mut errors = Vec::new();
     let mut names: Vec<&str> = Vec::new();
@@ -200,16 +214,13 @@ pub fn from_query(pairs: &[(String, String)]) -> Result<Comparison, ApiError> {
     }
     let mut requests = Vec::new();
     match listed {
-        None => requests.push((
-            schedule_request_from(Fields::new(Source::Query(pairs)))?,
-            String::new(),
-        )),
+        None => requests.push((reader(pairs)?, String::new())),
         Some((name, values)) => {
             for value in values {
                 let mut p: Vec<(String, String)> =
                     pairs.iter().filter(|(k, _)| *k != name).cloned().collect();
                 p.push((name.clone(), value.clone()));
-                let mut r = schedule_request_from(Fields::new(Source::Query(&p)))?;
+                let mut r = reader(&p)?;
                 if r.label.is_none() {
                     r.label = Some(format!("{name} {value}"));
                 }

@@ -24,7 +24,7 @@ pub fn short(d: Decimal) -> String {
     }
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct InputDto {
     pub kind: &'static str,
     pub amount: String,
@@ -32,7 +32,7 @@ pub struct InputDto {
     pub ratio: Option<String>,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct RecurrenceDto {
     pub a: String,
     pub x0: String,
@@ -40,13 +40,13 @@ pub struct RecurrenceDto {
     pub text: String,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct PoleDto {
     pub at: String,
     pub multiplicity: u32,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct TransformDto {
     /// Coefficients of N(z), ascending, in X(z)/z = N(z) / Π (z − p)^m.
     pub numerator: Vec<String>,
@@ -54,7 +54,7 @@ pub struct TransformDto {
     pub text: String,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct FractionDto {
     pub pole: String,
     pub multiplicity: u32,
@@ -62,20 +62,20 @@ pub struct FractionDto {
     pub coefficients: Vec<String>,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct ModeDto {
     pub pole: String,
     /// Coefficients of the polynomial in k, ascending.
     pub polynomial: Vec<String>,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct ImpulseDto {
     pub at: u32,
     pub amount: String,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct ClosedFormDto {
     pub modes: Vec<ModeDto>,
     pub impulses: Vec<ImpulseDto>,
@@ -83,7 +83,7 @@ pub struct ClosedFormDto {
 }
 
 /// The derivation of one closed form.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
 pub struct DerivationDto {
     pub recurrence: RecurrenceDto,
     pub transform: TransformDto,

@@ -191,7 +191,7 @@ pub fn loan_terms_from(mut f: Fields<'_>) -> Result<LoanTerms, ApiError> {
     }
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct SummaryDto {
     pub payment: String,
     pub number_of_payments: u32,
@@ -212,7 +212,7 @@ pub struct SummaryDto {
     pub milestones: MilestonesDto,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct PaymentSolutionDto {
     pub n: u32,
     /// h[n]/s^n with s = max(a, 1).
@@ -224,7 +224,7 @@ pub struct PaymentSolutionDto {
     pub text: String,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct ReconciliationDto {
     pub largest_drift: String,
     pub at_payment: u32,
@@ -233,7 +233,7 @@ pub struct ReconciliationDto {
     pub text: String,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct RowDto {
     pub number: u32,
     pub date: Option<String>,
@@ -244,7 +244,7 @@ pub struct RowDto {
     pub balance: String,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct LoanDerivationDto {
     #[serde(flatten)]
     pub closed_form: DerivationDto,
@@ -254,7 +254,7 @@ pub struct LoanDerivationDto {
     pub segments: Vec<SegmentDto>,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct SegmentDto {
     pub first_payment: u32,
     pub last_payment: u32,
@@ -268,13 +268,13 @@ pub struct SegmentDto {
     pub derivation: DerivationDto,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct MilestoneDto {
     pub payment: u32,
     pub date: Option<String>,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct MilestonesDto {
     pub principal_exceeds_interest: Option<MilestoneDto>,
     pub balance_80_percent_of_value: Option<MilestoneDto>,
@@ -287,7 +287,7 @@ pub struct MilestonesDto {
 }
 
 /// The JSON answer of the schedule operation.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct LoanScheduleDto {
     pub summary: SummaryDto,
     pub derivation: LoanDerivationDto,

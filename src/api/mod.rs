@@ -1,10 +1,16 @@
 //! The JSON and CSV interface: thin translations over the engine.
 
+pub mod apr;
+pub mod apy;
+pub mod check;
+pub mod batch;
 pub mod compare;
 pub mod derivation;
 pub mod fields;
 pub mod handlers;
 pub mod json;
 pub mod loans;
+pub mod openapi;
 pub mod problem;
 pub mod recurrence;
+pub mod savings;

@@ -11,7 +11,7 @@ use serde::Serialize;
 use crate::engine::{EngineError, ErrorKind};
 
 /// One bad field: a JSON Pointer into the body (or the query parameter's name) and why.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, utoipa::ToSchema)]
 pub struct FieldError {
     pub pointer: String,
     pub message: String,
@@ -120,7 +120,7 @@ pub struct ApiError {
 }
 
 /// The problem-details document.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct Problem {
     #[serde(rename = "type")]
     pub type_uri: String,
@@ -201,6 +201,8 @@ impl IntoResponse for ApiError {
         if matches!(self.kind, ProblemKind::Overloaded | ProblemKind::Timeout) {
             headers.insert(header::RETRY_AFTER, HeaderValue::from_static("1"));
         }
+        // For the metrics middleware: which problem this was.
+        response.extensions_mut().insert(self.kind);
         response
     }
 }

@@ -18,13 +18,13 @@ pub const MAX_ITEMS: usize = 16;
 /// The largest k that may be evaluated.
 pub const MAX_K: u32 = 6000;
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct ValueDto {
     pub k: u32,
     pub value: String,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct RecurrenceAnswer {
     pub derivation: DerivationDto,
     pub values: Vec<ValueDto>,

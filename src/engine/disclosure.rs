@@ -155,7 +155,11 @@ pub struct AprCheck {
 
 /// Compares a quoted APR with the computed one: accurate when within the
 /// tolerance above or below (§1026.22(a)(2)–(3)); the boundary itself is within.
-pub fn check_apr(quoted_percent: Decimal, computed_percent: Decimal, tolerance: Decimal) -> AprCheck {
+pub fn check_apr(
+    quoted_percent: Decimal,
+    computed_percent: Decimal,
+    tolerance: Decimal,
+) -> AprCheck {
     let difference_points = quoted_percent - computed_percent;
     AprCheck {
         quoted_percent,
@@ -268,8 +272,9 @@ pub fn form_dollars(amount: Decimal) -> Decimal {
 /// What is paid through the 60th month after the first payment (§1026.37(l)(1)).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct InFiveYears {
-    /// The last payment counted: 60 months of payments (5 × payments a year),
-    /// or the whole term when shorter.
+    /// The last payment counted: 60 monthly payments, or the whole term when
+    /// shorter. For other frequencies, 5 × payments a year (130 biweekly, 20
+    /// quarterly): Residue's reading of "through the end of the 60th month".
     pub through_payment: u32,
     /// The scheduled payments 1 to `through_payment`.
     pub payments: Decimal,
@@ -692,13 +697,20 @@ mod tests {
             disclosure.apr.periodic_rate,
             one_by_one.periodic_rate
         );
-        assert!(disclosure.apr.apr_percent > d("6.17"), "points raise the APR");
+        assert!(
+            disclosure.apr.apr_percent > d("6.17"),
+            "points raise the APR"
+        );
     }
 
     #[test]
     fn disclosure_figures_add_up() {
         let s = schedule(&terms("100000", "6", 360)).unwrap();
-        let f = disclose(&s, &[charge("origination", "1000"), charge("points", "500")]).unwrap();
+        let f = disclose(
+            &s,
+            &[charge("origination", "1000"), charge("points", "500")],
+        )
+        .unwrap();
         assert_eq!(f.prepaid_total, d("1500"));
         assert_eq!(f.amount_financed, d("98500"));
         assert_eq!(f.total_of_payments, s.ledger.total_paid);
@@ -710,7 +722,11 @@ mod tests {
         assert!(f.apr_tolerance.regular);
         assert_eq!(f.apr_tolerance.points, d("0.125"));
         // 100,000 at 6 % over 360: the posted final payment differs from 599.55.
-        assert!(f.apr_tolerance.reason.contains("final payment"), "{}", f.apr_tolerance.reason);
+        assert!(
+            f.apr_tolerance.reason.contains("final payment"),
+            "{}",
+            f.apr_tolerance.reason
+        );
     }
 
     #[test]
@@ -768,10 +784,16 @@ mod tests {
         assert!(m("6000").within_tolerance);
         // (d)(2): $5 up to an amount financed of $1,000, else $10, above or below.
         let small = check_finance_charge(d("105"), d("100"), d("1000"), false);
-        assert_eq!((small.rule, small.within_tolerance), (FinanceChargeRule::OtherSmall, true));
+        assert_eq!(
+            (small.rule, small.within_tolerance),
+            (FinanceChargeRule::OtherSmall, true)
+        );
         assert!(!check_finance_charge(d("105.01"), d("100"), d("1000"), false).within_tolerance);
         let large = check_finance_charge(d("90"), d("100"), d("1000.01"), false);
-        assert_eq!((large.rule, large.within_tolerance), (FinanceChargeRule::OtherLarge, true));
+        assert_eq!(
+            (large.rule, large.within_tolerance),
+            (FinanceChargeRule::OtherLarge, true)
+        );
         assert!(!check_finance_charge(d("110.01"), d("100"), d("1000.01"), false).within_tolerance);
     }
 
@@ -779,12 +801,14 @@ mod tests {
     fn the_implied_rate_inverts_the_payment() {
         // The exact payment of 6 % over 360 implies 6 % again.
         let exact = crate::engine::loan::payment_for_term(d("100000"), d("0.005"), 360).unwrap();
-        let j = implied_annual_rate_percent(d("100000"), exact, 360, Frequency::Monthly, None)
-            .unwrap();
+        let j =
+            implied_annual_rate_percent(d("100000"), exact, 360, Frequency::Monthly, None).unwrap();
         assert!((j - d("6")).abs() < d("1e-18"), "{j}");
         // Monthly payments on a rate compounded semiannually: invert (1 + j/2)^(1/6) − 1.
         let r = AnnualRate::from_percent(d("6")).unwrap();
-        let i = r.periodic_rate(Frequency::Monthly, Frequency::Semiannual).unwrap();
+        let i = r
+            .periodic_rate(Frequency::Monthly, Frequency::Semiannual)
+            .unwrap();
         let p = crate::engine::loan::payment_for_term(d("100000"), i, 300).unwrap();
         let j = implied_annual_rate_percent(
             d("100000"),
@@ -824,7 +848,10 @@ mod tests {
         assert_eq!((p.difference, p.matches), (d("0.01"), false));
         assert!(p.implied_annual_rate_percent.unwrap() > d("6"));
         assert!(c.apr.unwrap().within_tolerance);
-        assert!(c.finance_charge.unwrap().within_tolerance == (d("115000") >= c.disclosure.finance_charge - d("100")));
+        assert!(
+            c.finance_charge.unwrap().within_tolerance
+                == (d("115000") >= c.disclosure.finance_charge - d("100"))
+        );
         assert_eq!(c.notes[0], CAUTION);
         assert_eq!(c.notes[1], TOOL_NOT_OPINION);
     }
@@ -871,6 +898,9 @@ mod tests {
         };
         let c = check_loan(&terms("100000", "6", 360), &[], &quotes, true).unwrap();
         assert_eq!(c.payment.unwrap().implied_annual_rate_percent, None);
-        assert!(c.notes.iter().any(|n| n.contains("no note rate is implied")));
+        assert!(c
+            .notes
+            .iter()
+            .any(|n| n.contains("no note rate is implied")));
     }
 }

@@ -18,6 +18,7 @@ pub mod plan;
 pub mod poly;
 pub mod rate;
 pub mod recurrence;
+pub mod savings;
 pub mod schedule;
 pub mod zdomain;
 

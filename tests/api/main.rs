@@ -4,9 +4,13 @@
 //! talks to it with a tiny HTTP/1.1 client, so the tests see exactly the bytes a
 //! client sees: status line, headers and body.
 
+mod batch;
+mod disclosure;
 mod errors;
 mod health;
 mod helpers;
+mod openapi;
 mod plans;
 mod recurrence;
+mod savings;
 mod schedule;

@@ -1,0 +1,317 @@
+//! Batch runs: NDJSON in, NDJSON out, line by line, in order.
+//!
+//! `POST /api/v1/batch` with `Content-Type: application/x-ndjson`, one job a line:
+//! `{"id": …, "job": "loan_schedule" | "loan_check" | "apr" | "apy" | "savings_plan",
+//! "request": {…}, "detail": "summary" | "full"}`. Each line is answered, in the
+//! same order, by `{"id": …, "ok": true, "result": {…}}` or
+//! `{"id": …, "ok": false, "problem": {…}}`; a bad line fails alone. Pointers in a
+//! line's problem are relative to its `request` object (or to the line itself for
+//! `id`, `job` and `detail`).
+//!
+//! The body is read as a stream and the answer written as one: memory stays
+//! bounded by the channel between them, not by the number of lines.
+
+use axum::body::{Body, Bytes};
+use axum::extract::{Request, State};
+use axum::http::{header, HeaderValue};
+use axum::response::{IntoResponse, Response};
+use futures_util::StreamExt;
+use serde::Serialize;
+use serde_json::Value;
+
+use super::fields::{Fields, Source};
+use super::json::{self, Json};
+use super::problem::{ApiError, FieldError, ProblemKind};
+use crate::server::AppState;
+
+/// The most lines one batch may hold.
+pub const MAX_LINES: usize = 100_000;
+/// The longest line, in bytes.
+pub const MAX_LINE_BYTES: usize = 64 * 1024;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Detail {
+    Summary,
+    Full,
+}
+
+fn to_value<T: Serialize>(v: &T) -> Result<Value, ApiError> {
+    serde_json::to_value(v)
+        .map_err(|_| ApiError::new(ProblemKind::Internal, "the answer could not be written"))
+}
+
+/// Keeps only the summary and the notes of a full answer.
+fn summarize(mut v: Value) -> Value {
+    if let Value::Object(m) = &mut v {
+        m.retain(|k, _| k == "summary" || k == "notes");
+    }
+    v
+}
+
+fn members(request: &Json) -> Result<&[(String, Json)], ApiError> {
+    match request {
+        Json::Object(m) => Ok(m),
+        other => Err(ApiError::fields(vec![FieldError {
+            pointer: "/request".into(),
+            message: format!("must be an object, not {}", other.kind()),
+        }])),
+    }
+}
+
+fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Value, ApiError> {
+    let fields = |m| {
+        Fields::new(Source::Json {
+            members: m,
+            pointer: "",
+        })
+    };
+    match job {
+        "loan_schedule" => {
+            let r = super::loans::schedule_request_from(fields(members(request)?))?;
+            let s = crate::engine::schedule::schedule_with(&r.terms, &r.options)
+                .map_err(|e| ApiError::from_engine(e, "/"))?;
+            let v = to_value(&super::loans::LoanScheduleDto::from_schedule(&s))?;
+            Ok(if detail == Detail::Summary {
+                summarize(v)
+            } else {
+                v
+            })
+        }
+        "loan_check" => to_value(&super::check::check_answer(fields(members(request)?))?),
+        "apr" => to_value(&super::apr::answer(&super::apr::read_json(request)?)?),
+        "apy" => to_value(&super::apy::answer(
+            &super::apy::read_apy(fields(members(request)?))?,
+            "/",
+        )?),
+        "savings_plan" => {
+            let terms = super::savings::savings_terms_from(fields(members(request)?))?;
+            let p =
+                crate::engine::savings::plan(&terms).map_err(|e| ApiError::from_engine(e, "/"))?;
+            let v = to_value(&super::savings::SavingsPlanDto::from_plan(&p))?;
+            Ok(if detail == Detail::Summary {
+                summarize(v)
+            } else {
+                v
+            })
+        }
+        _ => unreachable!("the job name is checked before"),
+    }
+}
+
+const JOBS: [&str; 5] = ["loan_schedule", "loan_check", "apr", "apy", "savings_plan"];
+
+fn json_to_value(j: &Json) -> Value {
+    match j {
+        Json::Null => Value::Null,
+        Json::Bool(b) => Value::Bool(*b),
+        Json::Number(n) => n
+            .parse::<serde_json::Number>()
+            .map(Value::Number)
+            .unwrap_or_else(|_| Value::String(n.clone())),
+        Json::String(s) => Value::String(s.clone()),
+        Json::Array(a) => Value::Array(a.iter().map(json_to_value).collect()),
+        Json::Object(m) => Value::Object(
+            m.iter()
+                .map(|(k, v)| (k.clone(), json_to_value(v)))
+                .collect(),
+        ),
+    }
+}
+
+/// Answers one line (never fails: a failure is the line's problem).
+pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
+    let (id, outcome) = match json::parse(line) {
+        Err(e) => (
+            Value::Null,
+            Err(ApiError::new(
+                ProblemKind::MalformedJson,
+                format!("line {number}: {e}"),
+            )),
+        ),
+        Ok(v) => {
+            let id = v.get("id").map_or(Value::Null, json_to_value);
+            (id, answer_parsed(&v))
+        }
+    };
+    let out = match outcome {
+        Ok(result) => serde_json::json!({"id": id, "ok": true, "result": result}),
+        Err(problem) => serde_json::json!({"id": id, "ok": false, "problem": problem.problem()}),
+    };
+    let mut bytes = serde_json::to_vec(&out).unwrap_or_default();
+    bytes.push(b'\n');
+    bytes
+}
+
+fn answer_parsed(v: &Json) -> Result<Value, ApiError> {
+    let Json::Object(m) = v else {
+        return Err(ApiError::fields(vec![FieldError {
+            pointer: String::new(),
+            message: format!("each line must be a JSON object, not {}", v.kind()),
+        }]));
+    };
+    let mut errors = Vec::new();
+    for (k, _) in m {
+        if !["id", "job", "request", "detail"].contains(&k.as_str()) {
+            errors.push(FieldError {
+                pointer: format!("/{}", super::fields::escape_pointer(k)),
+                message: "is not a known field".into(),
+            });
+        }
+    }
+    let job = match v.get("job") {
+        Some(Json::String(s)) if JOBS.contains(&s.as_str()) => Some(s.as_str()),
+        _ => {
+            errors.push(FieldError {
+                pointer: "/job".into(),
+                message: format!("must be one of: {}", JOBS.join(", ")),
+            });
+            None
+        }
+    };
+    let detail = match v.get("detail") {
+        None => Detail::Summary,
+        Some(Json::String(s)) if s == "summary" => Detail::Summary,
+        Some(Json::String(s)) if s == "full" => Detail::Full,
+        Some(_) => {
+            errors.push(FieldError {
+                pointer: "/detail".into(),
+                message: "must be summary or full".into(),
+            });
+            Detail::Summary
+        }
+    };
+    let request = v.get("request");
+    if request.is_none() {
+        errors.push(FieldError {
+            pointer: "/request".into(),
+            message: "is required".into(),
+        });
+    }
+    if !errors.is_empty() {
+        return Err(ApiError::fields(errors));
+    }
+    match (job, request) {
+        (Some(job), Some(request)) => run_job(job, request, detail),
+        _ => unreachable!("errors were returned above"),
+    }
+}
+
+/// `POST /api/v1/batch`
+pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response {
+    let content_type = req
+        .headers()
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("");
+    let essence = content_type
+        .split(';')
+        .next()
+        .unwrap_or("")
+        .trim()
+        .to_ascii_lowercase();
+    if essence != "application/x-ndjson" {
+        return ApiError::new(
+            ProblemKind::UnsupportedMediaType,
+            "send the batch as application/x-ndjson, one JSON job a line",
+        )
+        .into_response();
+    }
+    let Ok(permit) = state.batches.clone().try_acquire_owned() else {
+        return ApiError::new(
+            ProblemKind::Overloaded,
+            "too many batches are running; try again in a moment",
+        )
+        .into_response();
+    };
+    let (tx, rx) = tokio::sync::mpsc::channel::<Bytes>(64);
+    let metrics = state.metrics.clone();
+    let mut body = req.into_body().into_data_stream();
+    tokio::spawn(async move {
+        let _permit = permit;
+        let mut pending: Vec<u8> = Vec::new();
+        let mut lines = 0usize;
+        let mut finished = false;
+        let mut too_long = false;
+        'read: loop {
+            let chunk = match body.next().await {
+                Some(Ok(c)) => c,
+                Some(Err(_)) => break,
+                None => {
+                    finished = true;
+                    Bytes::new()
+                }
+            };
+            pending.extend_from_slice(&chunk);
+            let before = lines;
+            let mut out = Vec::new();
+            let mut start = 0;
+            while let Some(pos) = pending[start..]
+                .iter()
+                .position(|b| *b == b'\n')
+                .map(|p| p + start)
+            {
+                let line = &pending[start..pos];
+                start = pos + 1;
+                if line.iter().all(|b| b.is_ascii_whitespace()) {
+                    continue;
+                }
+                lines += 1;
+                if lines > MAX_LINES {
+                    break 'read;
+                }
+                out.extend(tokio::task::block_in_place(|| answer_line(line, lines)));
+            }
+            pending.drain(..start);
+            if pending.len() > MAX_LINE_BYTES {
+                too_long = true;
+                break;
+            }
+            if finished && !pending.iter().all(|b| b.is_ascii_whitespace()) {
+                lines += 1;
+                let last = std::mem::take(&mut pending);
+                if lines <= MAX_LINES {
+                    out.extend(tokio::task::block_in_place(|| answer_line(&last, lines)));
+                }
+            }
+            metrics.add_batch_lines(lines.min(MAX_LINES).saturating_sub(before) as u64);
+            if !out.is_empty() && tx.send(Bytes::from(out)).await.is_err() {
+                return; // the client went away
+            }
+            if finished {
+                break;
+            }
+        }
+        let closing = if too_long {
+            Some(format!(
+                "line {} is longer than {MAX_LINE_BYTES} bytes: the batch stops here",
+                lines + 1
+            ))
+        } else if lines > MAX_LINES {
+            Some(format!(
+                "a batch may hold at most {MAX_LINES} lines: the batch stops here"
+            ))
+        } else {
+            None
+        };
+        if let Some(message) = closing {
+            let p = ApiError::new(ProblemKind::TooLarge, message);
+            let mut v = serde_json::to_vec(
+                &serde_json::json!({"id": null, "ok": false, "problem": p.problem()}),
+            )
+            .unwrap_or_default();
+            v.push(b'\n');
+            let _ = tx.send(Bytes::from(v)).await;
+        }
+    });
+    let stream = futures_util::stream::unfold(rx, |mut rx| async move {
+        rx.recv()
+            .await
+            .map(|b| (Ok::<Bytes, std::io::Error>(b), rx))
+    });
+    let mut response = Body::from_stream(stream).into_response();
+    response.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("application/x-ndjson"),
+    );
+    response
+}

@@ -1,0 +1,550 @@
+//! `POST /api/v1/loans/check` and `GET /api/v1/loans/check?…`: a quoted payment,
+//! APR and finance charge checked against the posted loan, with its disclosure
+//! figures (Regulation Z, 12 CFR 1026; see [`crate::engine::disclosure`]).
+//!
+//! # Request
+//!
+//! The fields of the schedule request (`principal`, `annual_rate_percent`,
+//! `term_months` | `term_payments` | `payment`, `payment_frequency`,
+//! `compounding`, `currency`, `payment_rounding`, `interest_rounding`), and:
+//!
+//! - `quoted_payment`: money; compared with the posted payment to the minor unit;
+//! - `quoted_apr_percent`: compared with the computed APR within the tolerance
+//!   of §1026.22(a)(2)–(3);
+//! - `quoted_finance_charge`: money; compared within the tolerance of §1026.18(d);
+//! - `prepaid_finance_charges`: in JSON `[{"name": "origination", "amount": "1250.00"}, …]`;
+//!   in a query `prepaid_finance_charges=origination:1250.00,points:2500`
+//!   (name, a colon, the amount; items separated by commas; names without commas);
+//! - `mortgage`: `true` (default) or `false`, selecting the finance-charge
+//!   tolerance of §1026.18(d)(1) or (d)(2).
+//!
+//! Every quote is optional; without one the answer gives the figures alone.
+//!
+//! # Answer
+//!
+//! `computed_payment`, `payment_difference` (quoted − computed), `payment_matches`,
+//! `implied_annual_rate_percent`, `apr_percent` (two decimals) and `apr_percent_full`,
+//! `apr_difference_points` (quoted − computed, unrounded), `apr_tolerance_points`,
+//! `apr_transaction`, `apr_tolerance_reason`, `apr_within_tolerance`,
+//! `amount_financed`, `finance_charge`, `total_of_payments`, `total_interest`,
+//! `total_interest_percentage` (three decimals, trailing zeros dropped) and
+//! `total_interest_percentage_full`, `in_five_years`, `finance_charge_tolerance`
+//! (`null` without a quoted finance charge), `disclosure_rounding`, and `notes`.
+//! Figures that compare a quote are `null` when that quote is not given.
+
+use axum::extract::RawQuery;
+use axum::response::Response;
+use rust_decimal::Decimal;
+use serde::Serialize;
+
+use super::derivation::full;
+use super::fields::{parse_decimal, Fields, Raw, Source};
+use super::handlers::{json_answer, query_pairs, JsonBody};
+use super::json::Json;
+use super::loans::read_loan_terms;
+use super::problem::{ApiError, FieldError};
+use crate::engine::disclosure::{
+    check_loan, form_dollars, form_percent, LoanCheck, PrepaidFinanceCharge, Quotes,
+};
+use crate::engine::money::Currency;
+use crate::engine::schedule::LoanTerms;
+
+/// The most prepaid finance charges a request may list.
+pub const MAX_CHARGES: usize = 50;
+/// The longest name of a prepaid finance charge.
+const MAX_NAME: usize = 80;
+
+/// A parsed check request.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct CheckRequest {
+    pub terms: LoanTerms,
+    pub prepaid: Vec<PrepaidFinanceCharge>,
+    pub quotes: Quotes,
+    pub mortgage: bool,
+}
+
+/// A yes-or-no field: a JSON boolean, or `true`/`false` in a query.
+fn read_bool(f: &mut Fields<'_>, name: &'static str) -> Option<bool> {
+    let value = match f.raw(name)? {
+        Raw::Json(Json::Bool(b)) => Some(*b),
+        Raw::Text("true") => Some(true),
+        Raw::Text("false") => Some(false),
+        _ => None,
+    };
+    if value.is_none() {
+        f.error(name, "must be true or false");
+    }
+    value
+}
+
+fn check_charge_amount(amount: Decimal, currency: Currency) -> Result<Decimal, String> {
+    if amount.is_sign_negative() && !amount.is_zero() {
+        return Err("a prepaid finance charge cannot be negative".into());
+    }
+    if !currency.fits(amount) {
+        return Err(format!(
+            "{} amounts have at most {} decimals",
+            currency.code(),
+            currency.minor_units()
+        ));
+    }
+    Ok(amount)
+}
+
+fn check_name(name: &str) -> Result<String, String> {
+    let name = name.trim();
+    if name.is_empty() {
+        return Err("a prepaid finance charge needs a name, e.g. origination".into());
+    }
+    if name.chars().count() > MAX_NAME || name.chars().any(char::is_control) {
+        return Err(format!(
+            "a name has at most {MAX_NAME} characters and no control characters"
+        ));
+    }
+    Ok(name.to_string())
+}
+
+/// Parses the query form `origination:1250.00,points:2500`.
+///
+/// # Errors
+/// A message for a person, quoting the item.
+pub fn parse_charges_text(
+    text: &str,
+    currency: Currency,
+) -> Result<Vec<PrepaidFinanceCharge>, String> {
+    let items: Vec<&str> = text
+        .split(',')
+        .map(str::trim)
+        .filter(|t| !t.is_empty())
+        .collect();
+    if items.len() > MAX_CHARGES {
+        return Err(format!("at most {MAX_CHARGES} prepaid finance charges"));
+    }
+    items
+        .into_iter()
+        .map(|item| {
+            let quote =
+                |m: String| format!("\"{}\": {m}", item.chars().take(60).collect::<String>());
+            let (name, amount) = item.rsplit_once(':').ok_or_else(|| {
+                quote("write each charge as name:amount, e.g. origination:1250.00".into())
+            })?;
+            let name = check_name(name).map_err(quote)?;
+            let amount = parse_decimal(amount.trim(), false)
+                .map_err(|m| quote(format!("the amount {m}")))?;
+            let amount = check_charge_amount(amount, currency).map_err(quote)?;
+            Ok(PrepaidFinanceCharge { name, amount })
+        })
+        .collect()
+}
+
+fn read_charges(
+    f: &mut Fields<'_>,
+    currency: Currency,
+    errors: &mut Vec<FieldError>,
+) -> Vec<PrepaidFinanceCharge> {
+    let name = "prepaid_finance_charges";
+    let mut charges = Vec::new();
+    match f.raw(name) {
+        None => {}
+        Some(Raw::Text(t)) => match parse_charges_text(t, currency) {
+            Ok(c) => charges = c,
+            Err(m) => f.error(name, m),
+        },
+        Some(Raw::Json(Json::Array(items))) if items.len() > MAX_CHARGES => {
+            f.error(name, format!("may list at most {MAX_CHARGES} charges"))
+        }
+        Some(Raw::Json(Json::Array(items))) => {
+            for (index, item) in items.iter().enumerate() {
+                let pointer = format!("/{name}/{index}");
+                let Json::Object(members) = item else {
+                    errors.push(FieldError {
+                        pointer,
+                        message: format!(
+                            "must be an object {{\"name\", \"amount\"}}, not {}",
+                            item.kind()
+                        ),
+                    });
+                    continue;
+                };
+                let mut g = Fields::new(Source::Json {
+                    members,
+                    pointer: &pointer,
+                });
+                let charge_name = match g.text("name") {
+                    Some(n) => match check_name(n) {
+                        Ok(n) => Some(n),
+                        Err(m) => {
+                            g.error("name", m);
+                            None
+                        }
+                    },
+                    None => {
+                        if !g.errors.iter().any(|e| e.pointer.ends_with("/name")) {
+                            g.error("name", "is required");
+                        }
+                        None
+                    }
+                };
+                let amount = match g.decimal("amount") {
+                    Some(a) => match check_charge_amount(a, currency) {
+                        Ok(a) => Some(a),
+                        Err(m) => {
+                            g.error("amount", m);
+                            None
+                        }
+                    },
+                    None => {
+                        if !g.errors.iter().any(|e| e.pointer.ends_with("/amount")) {
+                            g.error("amount", "is required");
+                        }
+                        None
+                    }
+                };
+                match g.finish() {
+                    Err(e) => errors.extend(e),
+                    Ok(()) => {
+                        if let (Some(name), Some(amount)) = (charge_name, amount) {
+                            charges.push(PrepaidFinanceCharge { name, amount });
+                        }
+                    }
+                }
+            }
+        }
+        Some(Raw::Json(other)) => f.error(
+            name,
+            format!(
+                "must be an array of {{\"name\", \"amount\"}}, not {}",
+                other.kind()
+            ),
+        ),
+    }
+    charges
+}
+
+/// Reads a check request.
+///
+/// # Errors
+/// Every bad field, with its pointer (or parameter name).
+pub fn read_check(mut f: Fields<'_>) -> Result<CheckRequest, ApiError> {
+    let terms = read_loan_terms(&mut f);
+    let currency = terms.as_ref().map_or(Currency::USD, |t| t.currency);
+    let quotes = Quotes {
+        payment: f.decimal("quoted_payment"),
+        apr_percent: f.decimal("quoted_apr_percent"),
+        finance_charge: f.decimal("quoted_finance_charge"),
+    };
+    let mortgage = if f.has("mortgage") {
+        read_bool(&mut f, "mortgage")
+    } else {
+        Some(true)
+    };
+    let mut errors = Vec::new();
+    let prepaid = read_charges(&mut f, currency, &mut errors);
+    let mut all = std::mem::take(&mut f.errors);
+    if let Err(e) = f.finish() {
+        all.extend(e);
+    }
+    all.extend(errors);
+    match (terms, mortgage) {
+        (Some(terms), Some(mortgage)) if all.is_empty() => Ok(CheckRequest {
+            terms,
+            prepaid,
+            quotes,
+            mortgage,
+        }),
+        _ => Err(ApiError::fields(all)),
+    }
+}
+
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
+pub struct ChargeDto {
+    pub name: String,
+    pub amount: String,
+}
+
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
+pub struct InFiveYearsDto {
+    /// The last payment counted (60 months of payments, or the whole term).
+    pub through_payment: u32,
+    /// The scheduled payments through it.
+    pub payments: String,
+    /// The prepaid finance charges, counted as loan costs paid at consummation.
+    pub loan_costs: String,
+    /// payments + loan costs.
+    pub total_paid: String,
+    pub principal_paid: String,
+}
+
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
+pub struct FinanceChargeToleranceDto {
+    pub quoted_finance_charge: String,
+    pub finance_charge: String,
+    /// Quoted − computed: negative when the quote understates it.
+    pub difference: String,
+    pub tolerance: String,
+    pub rule: &'static str,
+    pub within_tolerance: bool,
+}
+
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
+pub struct RoundingDto {
+    /// The answer's field.
+    pub figure: &'static str,
+    pub value: String,
+    /// As a disclosure form shows it.
+    pub disclosed: String,
+    pub rule: &'static str,
+}
+
+/// The JSON answer of the check.
+#[derive(Debug, Clone, Serialize, utoipa::ToSchema)]
+pub struct CheckAnswer {
+    pub currency: &'static str,
+    pub mortgage: bool,
+    pub computed_payment: String,
+    pub number_of_payments: u32,
+    pub final_payment: String,
+    pub quoted_payment: Option<String>,
+    pub payment_difference: Option<String>,
+    pub payment_matches: Option<bool>,
+    pub implied_annual_rate_percent: Option<String>,
+    pub apr_percent: String,
+    pub apr_percent_full: String,
+    pub quoted_apr_percent: Option<String>,
+    pub apr_difference_points: Option<String>,
+    pub apr_tolerance_points: String,
+    /// `regular` or `irregular` (§1026.22(a)(3)).
+    pub apr_transaction: &'static str,
+    pub apr_tolerance_reason: String,
+    pub apr_within_tolerance: Option<bool>,
+    pub prepaid_finance_charges: Vec<ChargeDto>,
+    pub prepaid_finance_charges_total: String,
+    pub amount_financed: String,
+    pub finance_charge: String,
+    pub total_of_payments: String,
+    pub total_interest: String,
+    pub total_interest_percentage: String,
+    pub total_interest_percentage_full: String,
+    pub in_five_years: InFiveYearsDto,
+    pub finance_charge_tolerance: Option<FinanceChargeToleranceDto>,
+    pub disclosure_rounding: Vec<RoundingDto>,
+    pub notes: Vec<String>,
+}
+
+impl CheckAnswer {
+    pub fn from_check(c: &LoanCheck) -> Self {
+        let cur = c.schedule.terms.currency;
+        let money = |d: Decimal| cur.format(d);
+        let f = &c.disclosure;
+        let mut apr_rounded = f.apr.apr_percent_rounded;
+        apr_rounded.rescale(2);
+        let five = &f.in_five_years;
+        const CENT: &str = "not rounded: shown to the minor unit; §1026.37(o)(4) rounds the Loan Estimate's figures, and this is a §1026.18 figure (Residue's reading, unconfirmed)";
+        const DOLLARS: &str =
+            "to the nearest whole dollar (§1026.37(l)(1), (o)(4); halves up, common practice)";
+        const PERCENT: &str = "to three decimals, trailing zeros dropped (§1026.37(o)(4); halves up, common practice)";
+        let dollars = |d: Decimal| form_dollars(d).to_string();
+        let disclosure_rounding = vec![
+            RoundingDto {
+                figure: "apr_percent",
+                value: full(f.apr.apr_percent),
+                disclosed: form_percent(f.apr.apr_percent).to_string(),
+                rule: PERCENT,
+            },
+            RoundingDto {
+                figure: "total_interest_percentage",
+                value: full(f.total_interest_percentage),
+                disclosed: form_percent(f.total_interest_percentage).to_string(),
+                rule: "to three decimals, trailing zeros dropped (§1026.37(l)(3), (o)(4); halves up, common practice)",
+            },
+            RoundingDto {
+                figure: "in_five_years.total_paid",
+                value: money(five.total_paid),
+                disclosed: dollars(five.total_paid),
+                rule: DOLLARS,
+            },
+            RoundingDto {
+                figure: "in_five_years.principal_paid",
+                value: money(five.principal_paid),
+                disclosed: dollars(five.principal_paid),
+                rule: DOLLARS,
+            },
+            RoundingDto {
+                figure: "amount_financed",
+                value: money(f.amount_financed),
+                disclosed: money(f.amount_financed),
+                rule: CENT,
+            },
+            RoundingDto {
+                figure: "finance_charge",
+                value: money(f.finance_charge),
+                disclosed: money(f.finance_charge),
+                rule: CENT,
+            },
+            RoundingDto {
+                figure: "total_of_payments",
+                value: money(f.total_of_payments),
+                disclosed: money(f.total_of_payments),
+                rule: CENT,
+            },
+        ];
+        CheckAnswer {
+            currency: cur.code(),
+            mortgage: c.mortgage,
+            computed_payment: money(c.schedule.payment),
+            number_of_payments: c.schedule.number_of_payments,
+            final_payment: money(c.schedule.final_payment),
+            quoted_payment: c.payment.as_ref().map(|p| money(p.quoted)),
+            payment_difference: c.payment.as_ref().map(|p| money(p.difference)),
+            payment_matches: c.payment.as_ref().map(|p| p.matches),
+            implied_annual_rate_percent: c
+                .payment
+                .as_ref()
+                .and_then(|p| p.implied_annual_rate_percent)
+                .map(full),
+            apr_percent: apr_rounded.to_string(),
+            apr_percent_full: full(f.apr.apr_percent),
+            quoted_apr_percent: c.apr.as_ref().map(|a| full(a.quoted_percent)),
+            apr_difference_points: c.apr.as_ref().map(|a| full(a.difference_points)),
+            apr_tolerance_points: f.apr_tolerance.points.to_string(),
+            apr_transaction: if f.apr_tolerance.regular {
+                "regular"
+            } else {
+                "irregular"
+            },
+            apr_tolerance_reason: f.apr_tolerance.reason.clone(),
+            apr_within_tolerance: c.apr.as_ref().map(|a| a.within_tolerance),
+            prepaid_finance_charges: f
+                .prepaid_finance_charges
+                .iter()
+                .map(|ch| ChargeDto {
+                    name: ch.name.clone(),
+                    amount: money(ch.amount),
+                })
+                .collect(),
+            prepaid_finance_charges_total: money(f.prepaid_total),
+            amount_financed: money(f.amount_financed),
+            finance_charge: money(f.finance_charge),
+            total_of_payments: money(f.total_of_payments),
+            total_interest: money(f.total_interest),
+            total_interest_percentage: form_percent(f.total_interest_percentage).to_string(),
+            total_interest_percentage_full: full(f.total_interest_percentage),
+            in_five_years: InFiveYearsDto {
+                through_payment: five.through_payment,
+                payments: money(five.payments),
+                loan_costs: money(five.loan_costs),
+                total_paid: money(five.total_paid),
+                principal_paid: money(five.principal_paid),
+            },
+            finance_charge_tolerance: c.finance_charge.as_ref().map(|t| {
+                FinanceChargeToleranceDto {
+                    quoted_finance_charge: money(t.quoted),
+                    finance_charge: money(f.finance_charge),
+                    difference: money(t.difference),
+                    tolerance: money(t.tolerance),
+                    rule: t.rule.text(),
+                    within_tolerance: t.within_tolerance,
+                }
+            }),
+            disclosure_rounding,
+            notes: c.notes.clone(),
+        }
+    }
+}
+
+/// Reads, checks and answers.
+///
+/// # Errors
+/// Bad fields, or the engine's refusal pointed at its field.
+pub fn check_answer(f: Fields<'_>) -> Result<CheckAnswer, ApiError> {
+    let prefix = f.pointer("");
+    let req = read_check(f)?;
+    let c = check_loan(&req.terms, &req.prepaid, &req.quotes, req.mortgage)
+        .map_err(|e| ApiError::from_engine(e, &prefix))?;
+    Ok(CheckAnswer::from_check(&c))
+}
+
+/// `POST /api/v1/loans/check`
+pub async fn check_post(JsonBody(body): JsonBody) -> Result<Response, ApiError> {
+    let Json::Object(members) = &body else {
+        unreachable!("parse_object checks")
+    };
+    Ok(json_answer(&check_answer(Fields::new(Source::Json {
+        members,
+        pointer: "",
+    }))?))
+}
+
+/// `GET /api/v1/loans/check?…`
+pub async fn check_get(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+    let pairs = query_pairs(q.as_deref())?;
+    Ok(json_answer(&check_answer(Fields::new(Source::Query(
+        &pairs,
+    )))?))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn d(s: &str) -> Decimal {
+        s.parse().unwrap()
+    }
+
+    fn query(q: &str) -> Result<CheckAnswer, ApiError> {
+        let pairs: Vec<(String, String)> =
+            form_urlencoded::parse(q.as_bytes()).into_owned().collect();
+        check_answer(Fields::new(Source::Query(&pairs)))
+    }
+
+    #[test]
+    fn charges_are_read_from_the_query_syntax() {
+        let c = parse_charges_text("origination:1250.00, points:2500", Currency::USD).unwrap();
+        assert_eq!(
+            c,
+            vec![
+                PrepaidFinanceCharge {
+                    name: "origination".into(),
+                    amount: d("1250.00")
+                },
+                PrepaidFinanceCharge {
+                    name: "points".into(),
+                    amount: d("2500")
+                }
+            ]
+        );
+        for (bad, says) in [
+            ("origination", "name:amount"),
+            (":5", "needs a name"),
+            ("fee:-5", "negative"),
+            ("fee:5.001", "decimals"),
+            ("fee:abc", "the amount"),
+        ] {
+            let e = parse_charges_text(bad, Currency::USD).unwrap_err();
+            assert!(e.contains(says), "{bad}: {e}");
+        }
+    }
+
+    #[test]
+    fn a_check_from_the_query_names_its_fields() {
+        let a = query(
+            "principal=100000&annual_rate_percent=6&term_months=360&quoted_payment=599.55&quoted_apr_percent=6&prepaid_finance_charges=points:1000&mortgage=false",
+        )
+        .unwrap();
+        assert_eq!(a.payment_matches, Some(true));
+        assert_eq!(a.amount_financed, "99000.00");
+        assert!(!a.mortgage);
+        let e = query("principal=100000&annual_rate_percent=6&term_months=360&mortgage=maybe")
+            .unwrap_err();
+        assert_eq!(e.errors[0].pointer, "mortgage");
+        let e = query(
+            "principal=100000&annual_rate_percent=6&term_months=360&prepaid_finance_charges=points:100000",
+        )
+        .unwrap_err();
+        assert_eq!(e.errors[0].pointer, "prepaid_finance_charges");
+        let e =
+            query("principal=100000&annual_rate_percent=6&term_months=360&quoted_payment=1.234")
+                .unwrap_err();
+        assert_eq!(e.errors[0].pointer, "quoted_payment");
+    }
+}

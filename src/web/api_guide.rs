@@ -1,0 +1,186 @@
+//! `/api`: the API guide. Every operation with a curl example, the money and rate
+//! conventions, how to import a CSV address into a spreadsheet, and one section
+//! per problem type, whose anchors are the problem type URIs (`/api#problem-<slug>`).
+
+use askama::Template;
+use axum::http::{header, HeaderMap};
+use axum::response::Response;
+
+use super::{render, Layout};
+use crate::api::problem::ProblemKind;
+
+/// One operation of the API.
+pub struct Operation {
+    pub id: &'static str,
+    pub title: &'static str,
+    pub method_path: &'static str,
+    pub words: &'static str,
+    /// curl command lines, with `{base}` replaced by the server's address.
+    pub examples: Vec<String>,
+    /// The page that shows the same result, if any.
+    pub page: &'static str,
+}
+
+/// One problem type.
+pub struct ProblemSection {
+    /// The anchor: `problem-<slug>`.
+    pub anchor: String,
+    pub type_uri: String,
+    pub title: &'static str,
+    pub status: u16,
+    pub words: &'static str,
+}
+
+/// The API guide page.
+#[derive(Template)]
+#[template(path = "api_guide.html")]
+pub struct ApiGuidePage {
+    pub layout: Layout,
+    /// The address curl examples use (from the request's Host).
+    pub base: String,
+    pub operations: Vec<Operation>,
+    pub problems: Vec<ProblemSection>,
+}
+
+/// What each problem means and what to do about it.
+pub fn problem_words(kind: ProblemKind) -> &'static str {
+    match kind {
+        ProblemKind::MalformedJson => "The body could not be read as JSON (a missing brace, a stray comma, text that is not UTF-8). Nothing was computed. Check the body with a JSON validator and send it again.",
+        ProblemKind::MalformedQuery => "The query string could not be read: it is longer than 16 KiB, or a parameter is not valid UTF-8 once percent-decoded.",
+        ProblemKind::InvalidFields => "One or more fields are missing, unknown, or out of range. `errors` lists each one: `pointer` is a JSON Pointer into the body (`/principal`, `/variants/1/term_months`) or the query parameter's name, and `message` says what is wrong. Every bad field is reported at once.",
+        ProblemKind::NoSolution => "The terms are valid but have no answer: a payment that never repays the loan (it does not cover the first period's interest), a goal that the deposits never reach, a rate that no root finder can bracket. The pointer names the field to change.",
+        ProblemKind::Overflow => "A figure leaves the range of 28-digit decimal arithmetic (very long terms at very high rates). Residue refuses rather than round silently.",
+        ProblemKind::UnsupportedMediaType => "A POST body must be sent as `application/json` (or a `+json` type).",
+        ProblemKind::TooLarge => "The body is larger than the server accepts (1 MiB by default, `--max-body-bytes`).",
+        ProblemKind::NotFound => "No page or operation has this address. The operations are listed on this page.",
+        ProblemKind::MethodNotAllowed => "The address exists but not with this method: the operations take GET (query parameters) or POST (a JSON body) as listed here.",
+        ProblemKind::NotAcceptable => "No representation matches the Accept header. Ask for `application/json` or, where a schedule is offered as CSV, `text/csv`.",
+        ProblemKind::Overloaded => "More requests are being computed than the server allows at once (`--max-in-flight`). Retry after the `Retry-After` seconds.",
+        ProblemKind::Timeout => "The request took longer than the server's limit (`--request-timeout-secs`). Retry after the `Retry-After` seconds, or ask for less.",
+        ProblemKind::Internal => "Something went wrong inside the service. The answer says no more than that; the server's log has the request id (`x-request-id`).",
+    }
+}
+
+fn operations(base: &str) -> Vec<Operation> {
+    let ex = |lines: &[&str]| -> Vec<String> {
+        lines.iter().map(|l| l.replace("{base}", base)).collect()
+    };
+    vec![
+        Operation {
+            id: "schedule",
+            title: "A loan's schedule",
+            method_path: "GET or POST /api/v1/loans/schedule (CSV: /api/v1/loans/schedule.csv)",
+            words: "The payment for a term (term_months or term_payments), or the number of payments for a payment; the posted schedule, the derivation, the reconciliation and notes. Plans that change over time take funding_date, first_payment_date, day_count, odd_days_interest, extra_payments, interest_only_payments, balloon_after_payments, rate_changes, rate_change_keeps and property_value.",
+            examples: ex(&[
+                "curl '{base}/api/v1/loans/schedule?principal=250000&annual_rate_percent=7.125&term_months=360'",
+                "curl -H 'content-type: application/json' -d '{\"principal\":\"250000\",\"annual_rate_percent\":\"7.125\",\"term_months\":360,\"extra_payments\":[{\"amount\":\"150\",\"from\":13}]}' {base}/api/v1/loans/schedule",
+                "curl '{base}/api/v1/loans/schedule.csv?principal=14750&annual_rate_percent=8.9&term_months=60'",
+            ]),
+            page: "/loan",
+        },
+        Operation {
+            id: "compare",
+            title: "Comparing plans",
+            method_path: "GET or POST /api/v1/loans/compare (CSV: /api/v1/loans/compare.csv)",
+            words: "Up to four plans: a base and variants that change some of its fields. In a query, one field may list values separated by commas, each making one plan; the first is the base. Each row gives payment, number_of_payments, total_interest, total_paid, payoff_date, interest_saved and payments_saved against the base.",
+            examples: ex(&[
+                "curl '{base}/api/v1/loans/compare?principal=278000&annual_rate_percent=6.375&term_months=180,240,360'",
+                "curl -H 'content-type: application/json' -d '{\"base\":{\"principal\":\"278000\",\"annual_rate_percent\":\"6.375\",\"term_months\":360},\"variants\":[{\"label\":\"20 years\",\"term_months\":240}]}' {base}/api/v1/loans/compare",
+            ]),
+            page: "/compare",
+        },
+        Operation {
+            id: "check",
+            title: "Checking a quote",
+            method_path: "GET or POST /api/v1/loans/check",
+            words: "A quoted payment, APR and finance charge against the posted loan: the implied rate, the APR tolerance of 12 CFR 1026.22(a)(2)–(3) and the finance-charge tolerance of §1026.18(d), with the disclosure figures. Prepaid finance charges go in as prepaid_finance_charges=name:amount,… in a query.",
+            examples: ex(&[
+                "curl '{base}/api/v1/loans/check?principal=250000&annual_rate_percent=7.125&term_months=360&quoted_payment=1684.30&quoted_apr_percent=7.25&prepaid_finance_charges=origination:2500'",
+            ]),
+            page: "/check",
+        },
+        Operation {
+            id: "apr",
+            title: "The APR of any stream of flows",
+            method_path: "GET or POST /api/v1/apr",
+            words: "The annual percentage rate of advances and payments, dated or in unit-periods, by the actuarial method of Regulation Z Appendix J (method=us_actuarial, the default) or as the EU APRC (method=eu_aprc).",
+            examples: ex(&[
+                "curl '{base}/api/v1/apr?advance=5000@1978-01-10&payment=230x24@1978-02-10/monthly'",
+                "curl '{base}/api/v1/apr?unit_period=month&advance=6000@0&payment=200x36@1+19/30'",
+            ]),
+            page: "",
+        },
+        Operation {
+            id: "apy",
+            title: "The annual percentage yield",
+            method_path: "GET or POST /api/v1/apy",
+            words: "The APY of Regulation DD Appendix A, in one of three forms: principal, interest and days; a nominal rate and its compounding; or the interest earned on an average daily balance over a statement period.",
+            examples: ex(&[
+                "curl '{base}/api/v1/apy?annual_rate_percent=5&compounding=daily'",
+                "curl '{base}/api/v1/apy?principal=1000&interest=30.37&days=182'",
+            ]),
+            page: "",
+        },
+        Operation {
+            id: "savings",
+            title: "A savings plan",
+            method_path: "GET or POST /api/v1/savings/plan (CSV: /api/v1/savings/plan.csv)",
+            words: "Deposits (or withdrawals) with an opening balance, deposits that may grow by a percentage or a fixed step each year; what is solved follows from what is given: the final balance, the deposit that reaches a goal, when the goal is reached, or how long a drawdown lasts.",
+            examples: ex(&[
+                "curl '{base}/api/v1/savings/plan?deposit=300&annual_rate_percent=4&term_months=120'",
+                "curl '{base}/api/v1/savings/plan.csv?opening_balance=1000&deposit=250&deposit_growth_percent=3&annual_rate_percent=4.5&goal=50000'",
+            ]),
+            page: "/savings",
+        },
+        Operation {
+            id: "recurrence",
+            title: "Any first-order recurrence",
+            method_path: "POST /api/v1/recurrence",
+            words: "The method laid bare: x[k+1] = a·x[k] + f[k] with inputs that are sums of impulses, steps, geometric sequences and ramps, solved in closed form and evaluated at the k you ask for, with the transform, poles and partial fractions.",
+            examples: ex(&[
+                "curl -H 'content-type: application/json' -d '{\"a\":\"1.005\",\"x0\":\"100000\",\"inputs\":[{\"kind\":\"step\",\"amount\":\"-599.55\"}],\"evaluate_at\":[0,12,360]}' {base}/api/v1/recurrence",
+            ]),
+            page: "/about",
+        },
+    ]
+}
+
+/// The server's address as the client named it (only safe characters; else the default).
+fn base_url(headers: &HeaderMap) -> String {
+    let host = headers
+        .get(header::HOST)
+        .and_then(|v| v.to_str().ok())
+        .filter(|h| {
+            !h.is_empty()
+                && h.len() <= 100
+                && h.chars()
+                    .all(|c| c.is_ascii_alphanumeric() || ".-:[]".contains(c))
+        })
+        .unwrap_or("127.0.0.1:8080");
+    format!("http://{host}")
+}
+
+/// Builds the guide for a request's headers.
+pub fn build(headers: &HeaderMap) -> ApiGuidePage {
+    let base = base_url(headers);
+    ApiGuidePage {
+        layout: Layout::new("The API guide", "/api"),
+        operations: operations(&base),
+        base,
+        problems: ProblemKind::ALL
+            .iter()
+            .map(|k| ProblemSection {
+                anchor: format!("problem-{}", k.slug()),
+                type_uri: k.type_uri(),
+                title: k.title(),
+                status: k.status().as_u16(),
+                words: problem_words(*k),
+            })
+            .collect(),
+    }
+}
+
+/// `GET /api`
+pub async fn page(headers: HeaderMap) -> Response {
+    render(&build(&headers))
+}

@@ -1,0 +1,500 @@
+//! The forms of the pages: field labels, the values a person typed, and the
+//! errors of the API's problem put next to the field they name, in words.
+
+use crate::api::problem::ApiError;
+
+/// How a field is entered.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    /// A number a person types ("250,000", "6.5%").
+    Number,
+    /// A whole number.
+    Whole,
+    /// A date (`YYYY-MM-DD`).
+    Date,
+    /// Free text (lists, labels).
+    Text,
+    /// One of fixed choices: (value, words); an empty value means "not given".
+    Choice(&'static [(&'static str, &'static str)]),
+}
+
+/// A field of a page's form: its query name, its label and its help.
+#[derive(Debug, Clone, Copy)]
+pub struct Spec {
+    pub name: &'static str,
+    pub label: &'static str,
+    pub hint: &'static str,
+    pub placeholder: &'static str,
+    pub kind: Kind,
+}
+
+const FREQUENCIES: &[(&str, &str)] = &[
+    ("monthly", "Monthly"),
+    ("semimonthly", "Twice a month"),
+    ("biweekly", "Every two weeks"),
+    ("weekly", "Weekly"),
+    ("quarterly", "Quarterly"),
+    ("semiannual", "Twice a year"),
+    ("annual", "Once a year"),
+];
+const COMPOUNDINGS: &[(&str, &str)] = &[
+    ("", "As often as payments are made"),
+    ("daily", "Daily"),
+    ("weekly", "Weekly"),
+    ("biweekly", "Every two weeks"),
+    ("semimonthly", "Twice a month"),
+    ("monthly", "Monthly"),
+    ("quarterly", "Quarterly"),
+    ("semiannual", "Twice a year"),
+    ("annual", "Once a year"),
+];
+const DAY_COUNTS: &[(&str, &str)] = &[
+    ("", "Actual days / 365 (default)"),
+    ("actual_365", "Actual days / 365"),
+    ("actual_360", "Actual days / 360"),
+    ("thirty_360", "30-day months / 360"),
+];
+const ODD_DAYS: &[(&str, &str)] = &[
+    ("", "Added to the first payment (default)"),
+    ("first_payment", "Added to the first payment"),
+    ("prepaid", "Collected at closing"),
+];
+const KEEPS: &[(&str, &str)] = &[
+    ("", "The remaining term (default)"),
+    ("term", "The remaining term"),
+    ("payment", "The payment"),
+];
+const PAYMENT_ROUNDING: &[(&str, &str)] = &[
+    ("", "To the nearest cent (default)"),
+    ("nearest", "To the nearest cent"),
+    ("up", "Up to the next cent"),
+];
+const INTEREST_ROUNDING: &[(&str, &str)] = &[
+    ("", "Halves up (default)"),
+    ("half_up", "Halves up"),
+    ("half_even", "Halves to even"),
+];
+const YES_NO: &[(&str, &str)] = &[
+    ("", "Yes, secured by real property (default)"),
+    ("true", "Yes, secured by real property"),
+    ("false", "No"),
+];
+const TIMING: &[(&str, &str)] = &[
+    ("", "At the end of each period (default)"),
+    ("end", "At the end of each period"),
+    ("start", "At the start of each period"),
+];
+const GROWTH_EVERY: &[(&str, &str)] = &[
+    ("", "Once a year (default)"),
+    ("year", "Once a year"),
+    ("period", "Every period"),
+];
+
+/// Every field a page's form shows, with its words.
+pub const SPECS: &[Spec] = &[
+    Spec { name: "principal", label: "Loan amount", hint: "The principal borrowed.", placeholder: "250,000", kind: Kind::Number },
+    Spec { name: "annual_rate_percent", label: "Interest rate (% a year)", hint: "The nominal annual rate.", placeholder: "6.5", kind: Kind::Number },
+    Spec { name: "term_months", label: "Term in months", hint: "360 is 30 years. Give the term, the number of payments or the payment: the other is worked out.", placeholder: "360", kind: Kind::Text },
+    Spec { name: "term_payments", label: "Number of payments", hint: "Instead of the term in months.", placeholder: "", kind: Kind::Whole },
+    Spec { name: "payment", label: "Payment", hint: "Give the payment to find how many payments it takes.", placeholder: "", kind: Kind::Number },
+    Spec { name: "payment_frequency", label: "Payments made", hint: "", placeholder: "", kind: Kind::Choice(FREQUENCIES) },
+    Spec { name: "compounding", label: "Interest compounds", hint: "", placeholder: "", kind: Kind::Choice(COMPOUNDINGS) },
+    Spec { name: "currency", label: "Currency", hint: "ISO 4217 code: USD, EUR, GBP, CAD, AUD, NZD, CHF, SEK, NOK, DKK, MXN, INR, ZAR, JPY, KRW, ISK, CLP, KWD, BHD, JOD, OMR, TND.", placeholder: "USD", kind: Kind::Text },
+    Spec { name: "funding_date", label: "Funding date", hint: "When the money is paid out (YYYY-MM-DD).", placeholder: "2026-03-15", kind: Kind::Date },
+    Spec { name: "first_payment_date", label: "First payment date", hint: "Dates every payment (YYYY-MM-DD).", placeholder: "2026-05-01", kind: Kind::Date },
+    Spec { name: "day_count", label: "Odd-days interest counted as", hint: "", placeholder: "", kind: Kind::Choice(DAY_COUNTS) },
+    Spec { name: "odd_days_interest", label: "Odd-days interest is", hint: "", placeholder: "", kind: Kind::Choice(ODD_DAYS) },
+    Spec { name: "extra_payments", label: "Extra payments", hint: "150@13- (150 with every payment from 13 on), 150@13-120, 500@12-/12 (every 12th), 5000@36 (once), 2000@2029-06-01 (once, on a date); separate with commas.", placeholder: "150@13-", kind: Kind::Text },
+    Spec { name: "interest_only_payments", label: "Interest-only payments", hint: "How many payments at the start pay interest only.", placeholder: "", kind: Kind::Whole },
+    Spec { name: "balloon_after_payments", label: "Balloon after payment", hint: "The rest falls due with this payment.", placeholder: "", kind: Kind::Whole },
+    Spec { name: "rate_changes", label: "Rate changes", hint: "PAYMENT:PERCENT, e.g. 61:7.25, 121:8.", placeholder: "61:7.25", kind: Kind::Text },
+    Spec { name: "rate_change_keeps", label: "A rate change keeps", hint: "", placeholder: "", kind: Kind::Choice(KEEPS) },
+    Spec { name: "property_value", label: "Property value", hint: "For the 80 % and 78 % milestones.", placeholder: "", kind: Kind::Number },
+    Spec { name: "payment_rounding", label: "Payment rounded", hint: "", placeholder: "", kind: Kind::Choice(PAYMENT_ROUNDING) },
+    Spec { name: "interest_rounding", label: "Interest rounded", hint: "", placeholder: "", kind: Kind::Choice(INTEREST_ROUNDING) },
+    Spec { name: "label", label: "Label", hint: "A name for this plan, shown on the page.", placeholder: "", kind: Kind::Text },
+    // The check.
+    Spec { name: "quoted_payment", label: "Quoted payment", hint: "The payment on the quote.", placeholder: "1,684.30", kind: Kind::Number },
+    Spec { name: "quoted_apr_percent", label: "Quoted APR (%)", hint: "The annual percentage rate on the quote.", placeholder: "7.25", kind: Kind::Number },
+    Spec { name: "quoted_finance_charge", label: "Quoted finance charge", hint: "", placeholder: "", kind: Kind::Number },
+    Spec { name: "prepaid_finance_charges", label: "Prepaid finance charges", hint: "name:amount, separated by commas, e.g. origination:1250.00, points:2500.", placeholder: "origination:1250.00", kind: Kind::Text },
+    Spec { name: "mortgage", label: "Secured by real property", hint: "Chooses the finance-charge tolerance.", placeholder: "", kind: Kind::Choice(YES_NO) },
+    // Savings.
+    Spec { name: "opening_balance", label: "Opening balance", hint: "What is in the account today.", placeholder: "0", kind: Kind::Number },
+    Spec { name: "deposit", label: "Deposit", hint: "Each period. Leave empty to work out the deposit that reaches the goal.", placeholder: "300", kind: Kind::Number },
+    Spec { name: "withdrawal", label: "Withdrawal", hint: "For a drawdown, instead of a deposit.", placeholder: "", kind: Kind::Number },
+    Spec { name: "deposit_timing", label: "Deposits made", hint: "", placeholder: "", kind: Kind::Choice(TIMING) },
+    Spec { name: "deposit_frequency", label: "Deposits every", hint: "", placeholder: "", kind: Kind::Choice(FREQUENCIES) },
+    Spec { name: "deposit_growth_percent", label: "Deposit grows by (%)", hint: "A fixed percentage.", placeholder: "", kind: Kind::Number },
+    Spec { name: "deposit_growth_every", label: "Growth applied", hint: "", placeholder: "", kind: Kind::Choice(GROWTH_EVERY) },
+    Spec { name: "deposit_step", label: "Deposit grows each year by", hint: "A fixed amount.", placeholder: "", kind: Kind::Number },
+    Spec { name: "term_periods", label: "Number of periods", hint: "Instead of the term in months.", placeholder: "", kind: Kind::Whole },
+    Spec { name: "goal", label: "Goal", hint: "The balance to reach.", placeholder: "25,000", kind: Kind::Number },
+    Spec { name: "start_date", label: "Start date", hint: "Dates every period (YYYY-MM-DD).", placeholder: "", kind: Kind::Date },
+];
+
+/// The words of a field.
+pub fn spec(name: &str) -> Option<&'static Spec> {
+    SPECS.iter().find(|s| s.name == name)
+}
+
+/// One field as the form shows it.
+pub struct Field {
+    pub spec: &'static Spec,
+    /// The value as typed (or the default on an empty form).
+    pub value: String,
+    /// What is wrong with it, in words.
+    pub error: Option<String>,
+}
+
+impl Field {
+    pub fn id(&self) -> String {
+        format!("f-{}", self.spec.name)
+    }
+
+    /// The choices of a select, empty for a text input.
+    pub fn choices(&self) -> &'static [(&'static str, &'static str)] {
+        match self.spec.kind {
+            Kind::Choice(c) => c,
+            _ => &[],
+        }
+    }
+
+    pub fn is_choice(&self) -> bool {
+        matches!(self.spec.kind, Kind::Choice(_))
+    }
+
+    pub fn selected(&self, value: &str) -> bool {
+        self.value == value
+    }
+
+    /// The `inputmode` that brings up the right keyboard.
+    pub fn inputmode(&self) -> &'static str {
+        match self.spec.kind {
+            Kind::Number => "decimal",
+            Kind::Whole => "numeric",
+            _ => "text",
+        }
+    }
+
+    /// The ids of the hint and error, for `aria-describedby`.
+    pub fn described_by(&self) -> String {
+        let mut ids = Vec::new();
+        if self.error.is_some() {
+            ids.push(format!("e-{}", self.spec.name));
+        }
+        if !self.spec.hint.is_empty() {
+            ids.push(format!("h-{}", self.spec.name));
+        }
+        ids.join(" ")
+    }
+}
+
+/// A group of fields under a legend.
+pub struct Group {
+    pub legend: &'static str,
+    pub fields: Vec<Field>,
+    /// Shown folded (in `<details>`) unless a field holds a value or an error.
+    pub foldable: bool,
+}
+
+impl Group {
+    pub fn open(&self) -> bool {
+        !self.foldable
+            || self
+                .fields
+                .iter()
+                .any(|f| f.error.is_some() || !f.value.is_empty())
+    }
+}
+
+/// A page's form: its groups, and the errors that belong to no field.
+pub struct Form {
+    pub action: &'static str,
+    pub groups: Vec<Group>,
+    /// Problems not tied to a shown field (an unknown parameter, a malformed query).
+    pub general_errors: Vec<String>,
+    /// Every error, for the summary at the top of the form: (field id or "", words).
+    pub summary: Vec<(String, String)>,
+}
+
+impl Form {
+    /// Builds the form from the query: the values typed, the defaults on an empty
+    /// query, and the problem's errors put next to their fields.
+    pub fn new(
+        action: &'static str,
+        layout: &[(&'static str, bool, &[&'static str])],
+        pairs: &[(String, String)],
+        defaults: &[(&str, &str)],
+        problem: Option<&ApiError>,
+    ) -> Self {
+        let empty = pairs.is_empty();
+        let mut placed = vec![false; problem.map_or(0, |p| p.errors.len())];
+        let mut groups = Vec::new();
+        for (legend, foldable, names) in layout {
+            let mut fields = Vec::new();
+            for name in *names {
+                let Some(spec) = spec(name) else { continue };
+                let value = if empty {
+                    defaults
+                        .iter()
+                        .find(|(k, _)| k == name)
+                        .map(|(_, v)| v.to_string())
+                        .unwrap_or_default()
+                } else {
+                    pairs
+                        .iter()
+                        .filter(|(k, _)| k == name)
+                        .map(|(_, v)| v.as_str())
+                        .collect::<Vec<_>>()
+                        .join(",")
+                };
+                let mut messages = Vec::new();
+                if let Some(p) = problem {
+                    for (i, e) in p.errors.iter().enumerate() {
+                        if placed[i] {
+                            continue;
+                        }
+                        if field_of(&e.pointer, pairs) == *name {
+                            messages.push(in_words(spec, &e.message));
+                            placed[i] = true;
+                        }
+                    }
+                }
+                fields.push(Field {
+                    spec,
+                    value,
+                    error: (!messages.is_empty()).then(|| messages.join(" ")),
+                });
+            }
+            groups.push(Group {
+                legend,
+                fields,
+                foldable: *foldable,
+            });
+        }
+        let mut general_errors = Vec::new();
+        if let Some(p) = problem {
+            for (i, e) in p.errors.iter().enumerate() {
+                if placed[i] {
+                    continue;
+                }
+                if e.message == "is not a known field" {
+                    general_errors.push(format!(
+                        "The address holds a field this page does not know: \"{}\".",
+                        e.pointer
+                    ));
+                } else if e.pointer.is_empty() {
+                    general_errors.push(capitalized(&plain(&e.message)));
+                } else {
+                    general_errors.push(format!("{}: {}", e.pointer, plain(&e.message)));
+                }
+            }
+            if p.errors.is_empty() {
+                general_errors.push(capitalized(&plain(&p.detail)));
+            }
+        }
+        let mut summary = Vec::new();
+        for g in &groups {
+            for f in &g.fields {
+                if let Some(e) = &f.error {
+                    summary.push((f.id(), e.clone()));
+                }
+            }
+        }
+        for e in &general_errors {
+            summary.push((String::new(), e.clone()));
+        }
+        Form {
+            action,
+            groups,
+            general_errors,
+            summary,
+        }
+    }
+}
+
+/// The form field an error's pointer names. A query pointer is the parameter's
+/// name; an engine error on the number of payments belongs to the term in months
+/// when that is what was typed.
+fn field_of<'a>(pointer: &'a str, pairs: &[(String, String)]) -> &'a str {
+    let name = pointer.trim_start_matches('/');
+    let given = |n: &str| pairs.iter().any(|(k, v)| k == n && !v.is_empty());
+    if name == "term_payments" && !given("term_payments") && given("term_months") {
+        return "term_months";
+    }
+    if name == "term_periods" && !given("term_periods") && given("term_months") {
+        return "term_months";
+    }
+    name
+}
+
+/// A message of the reader or the engine, in a loan officer's words: field
+/// names become their labels, and a message about the field itself starts with
+/// the field's label.
+pub fn in_words(spec: &Spec, message: &str) -> String {
+    let m = plain(message);
+    let about_itself = ["is ", "must ", "has ", "may ", "cannot ", "falls "]
+        .iter()
+        .any(|p| m.starts_with(p));
+    let sentence = if about_itself {
+        format!("{} {m}", spec.label)
+    } else {
+        capitalized(&m)
+    };
+    if sentence.ends_with('.') {
+        sentence
+    } else {
+        format!("{sentence}.")
+    }
+}
+
+/// Field names in a message replaced by their labels (longest names first, so
+/// `term_payments` is not read as `payment`).
+pub fn plain(message: &str) -> String {
+    let mut specs: Vec<&Spec> = SPECS.iter().collect();
+    specs.sort_by_key(|s| std::cmp::Reverse(s.name.len()));
+    let mut out = message.to_string();
+    for s in specs {
+        if !s.name.contains('_') {
+            continue; // single words read as themselves ("payment", "principal")
+        }
+        if out.contains(s.name) {
+            out = out.replace(s.name, &format!("“{}”", s.label.to_lowercase()));
+        }
+    }
+    out
+}
+
+fn capitalized(s: &str) -> String {
+    let mut c = s.chars();
+    match c.next() {
+        Some(first) => first.to_uppercase().collect::<String>() + c.as_str(),
+        None => String::new(),
+    }
+}
+
+/// True for "250,000", "$1,250.50" or "6,000%": digits grouped by thousands.
+fn grouped_by_thousands(v: &str) -> bool {
+    let t = v
+        .trim()
+        .trim_start_matches(['$', '€', '£'])
+        .trim_end_matches('%')
+        .trim();
+    let int = t.split_once('.').map_or(t, |(i, f)| {
+        if f.bytes().all(|b| b.is_ascii_digit()) {
+            i
+        } else {
+            ""
+        }
+    });
+    let mut groups = int.split(',');
+    let Some(first) = groups.next() else {
+        return false;
+    };
+    let rest: Vec<&str> = groups.collect();
+    !rest.is_empty()
+        && (1..=3).contains(&first.len())
+        && first.bytes().all(|b| b.is_ascii_digit())
+        && rest
+            .iter()
+            .all(|g| g.len() == 3 && g.bytes().all(|b| b.is_ascii_digit()))
+}
+
+fn tidy_number(v: &str) -> String {
+    match crate::api::fields::parse_decimal(v, true) {
+        Ok(d) => d.to_string(),
+        Err(_) => v.trim().to_string(),
+    }
+}
+
+/// The query as the API reads it: empty fields dropped, and numbers typed the
+/// way a person types them ("250,000", "6.5%") written plainly. With `lists`,
+/// a number field may hold several values separated by commas (the compare
+/// page's one listed field); digits grouped by thousands still read as one number.
+pub fn normalize(pairs: &[(String, String)], lists: bool) -> Vec<(String, String)> {
+    pairs
+        .iter()
+        .filter(|(_, v)| !v.trim().is_empty())
+        .map(|(k, v)| {
+            let kind = spec(k).map(|s| s.kind);
+            let money_or_rate = kind == Some(Kind::Number);
+            let number = money_or_rate || kind == Some(Kind::Whole) || k == "term_months";
+            let value = if !number {
+                v.trim().to_string()
+            } else if !lists || money_or_rate && grouped_by_thousands(v) {
+                tidy_number(v)
+            } else {
+                v.split(',').map(tidy_number).collect::<Vec<_>>().join(",")
+            };
+            (k.clone(), value)
+        })
+        .collect()
+}
+
+/// The normalized query as a query string (for the JSON and CSV links). Commas,
+/// colons and at signs are left as they are (RFC 3986 allows them in a query),
+/// so `term_months=180,240,360` and `extra_payments=150@13-` stay readable.
+pub fn query_string(pairs: &[(String, String)]) -> String {
+    let mut q = form_urlencoded::Serializer::new(String::new());
+    for (k, v) in pairs {
+        q.append_pair(k, v);
+    }
+    q.finish()
+        .replace("%2C", ",")
+        .replace("%3A", ":")
+        .replace("%40", "@")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn pairs(v: &[(&str, &str)]) -> Vec<(String, String)> {
+        v.iter()
+            .map(|(a, b)| (a.to_string(), b.to_string()))
+            .collect()
+    }
+
+    #[test]
+    fn typed_numbers_are_written_plainly() {
+        let n = normalize(
+            &pairs(&[
+                ("principal", "250,000"),
+                ("annual_rate_percent", "6.5%"),
+                ("payment", ""),
+                ("term_months", "360"),
+            ]),
+            false,
+        );
+        assert_eq!(
+            n,
+            pairs(&[
+                ("principal", "250000"),
+                ("annual_rate_percent", "6.5"),
+                ("term_months", "360")
+            ])
+        );
+        let n = normalize(
+            &pairs(&[("principal", "250,000"), ("term_months", "180, 240,360")]),
+            true,
+        );
+        assert_eq!(
+            n,
+            pairs(&[("principal", "250000"), ("term_months", "180,240,360")])
+        );
+        let n = normalize(&pairs(&[("annual_rate_percent", "6%, 6.5%")]), true);
+        assert_eq!(n, pairs(&[("annual_rate_percent", "6,6.5")]));
+    }
+
+    #[test]
+    fn messages_name_fields_by_their_labels() {
+        let s = spec("principal").unwrap();
+        assert_eq!(in_words(s, "is required"), "Loan amount is required.");
+        let m = in_words(
+            spec("term_months").unwrap(),
+            "give one of term_months, term_payments or payment (the other is solved)",
+        );
+        assert!(m.starts_with("Give one of “term in months”, “number of payments”"));
+    }
+}

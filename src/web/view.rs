@@ -1,0 +1,120 @@
+//! Pieces every result page shares: figures written for reading, the summary
+//! list, and the schedule grouped by year.
+
+use rust_decimal::Decimal;
+
+use crate::engine::money::Currency;
+
+/// "1234567.89" as "1,234,567.89" (the figure itself is the API's, to the minor unit).
+pub fn group_thousands(text: &str) -> String {
+    let (sign, body) = match text.strip_prefix('-') {
+        Some(rest) => ("−", rest),
+        None => ("", text),
+    };
+    let (int, frac) = match body.split_once('.') {
+        Some((i, f)) => (i, Some(f)),
+        None => (body, None),
+    };
+    let mut out = String::with_capacity(text.len() + int.len() / 3 + 2);
+    out.push_str(sign);
+    let digits = int.len();
+    for (i, ch) in int.chars().enumerate() {
+        if i > 0 && (digits - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(ch);
+    }
+    if let Some(f) = frac {
+        out.push('.');
+        out.push_str(f);
+    }
+    out
+}
+
+/// An amount with the currency's minor units, grouped by thousands.
+pub fn money(c: Currency, d: Decimal) -> String {
+    group_thousands(&c.format(d))
+}
+
+/// A rate in percent for reading: at most 6 decimals, trailing zeros dropped.
+pub fn percent(d: Decimal) -> String {
+    let r = d.round_dp(6).normalize();
+    format!("{r} %")
+}
+
+/// One figure of a summary.
+pub struct Figure {
+    pub label: String,
+    /// As shown.
+    pub value: String,
+    /// As the JSON answer writes it (for tests and copy): `data-value`.
+    pub raw: String,
+    /// A short explanation under the figure (may be empty).
+    pub note: String,
+}
+
+impl Figure {
+    pub fn new(
+        label: impl Into<String>,
+        value: impl Into<String>,
+        raw: impl Into<String>,
+        note: impl Into<String>,
+    ) -> Self {
+        Self {
+            label: label.into(),
+            value: value.into(),
+            raw: raw.into(),
+            note: note.into(),
+        }
+    }
+}
+
+/// One year of a schedule.
+pub struct Year {
+    pub title: String,
+    /// The year's totals in a sentence (the `<summary>`).
+    pub summary: String,
+    /// Shown unfolded.
+    pub open: bool,
+    pub rows: Vec<Vec<String>>,
+    /// The subtotal row, aligned with the columns.
+    pub totals: Vec<String>,
+}
+
+/// A schedule as tables, one a year.
+pub struct Schedule {
+    pub caption: String,
+    pub columns: Vec<&'static str>,
+    pub years: Vec<Year>,
+}
+
+/// Schedules this long or shorter are not folded.
+pub const UNFOLDED_ROWS: usize = 24;
+
+/// The year a period falls in (1-based), by periods per year.
+pub fn year_of(number: u32, per_year: u32) -> u32 {
+    (number.saturating_sub(1)) / per_year.max(1) + 1
+}
+
+/// "payments 13–24, 2027-05-01 to 2028-04-01".
+pub fn span(
+    noun: &str,
+    first: u32,
+    last: u32,
+    first_date: Option<jiff::civil::Date>,
+    last_date: Option<jiff::civil::Date>,
+) -> String {
+    let mut s = if first == last {
+        format!("{noun} {first}")
+    } else {
+        format!("{noun}s {first}–{last}")
+    };
+    if let (Some(a), Some(b)) = (first_date, last_date) {
+        if a == b {
+            s.push_str(&format!(", {a}"));
+        } else {
+            s.push_str(&format!(", {a} to {b}"));
+        }
+    }
+    s
+}

@@ -1,0 +1,119 @@
+//! `POST /api/v1/batch`: NDJSON jobs in, NDJSON answers out, in order; a bad line fails alone.
+
+use serde_json::{json, Value};
+
+use crate::helpers::{assert_problem, assert_still_healthy, spawn_app};
+
+fn lines(body: &str) -> Vec<Value> {
+    body.lines()
+        .map(|l| serde_json::from_str(l).expect("every answer line is JSON"))
+        .collect()
+}
+
+fn loan_line(id: usize, principal: &str) -> String {
+    json!({"id": id, "job": "loan_schedule", "request": {"principal": principal, "annual_rate_percent": "6", "term_months": 360}}).to_string()
+}
+
+#[test]
+fn a_batch_answers_every_line_in_order_and_a_bad_line_fails_alone() {
+    // Arrange
+    let app = spawn_app();
+    let body = [
+        loan_line(1, "100000"),
+        loan_line(2, "-5"),
+        "this is not json".to_string(),
+        json!({"id": "apy", "job": "apy", "request": {"principal": "1000", "interest": "61.68", "days": 365}}).to_string(),
+        json!({"id": 5, "job": "no_such_job", "request": {}}).to_string(),
+        loan_line(6, "250000"),
+    ]
+    .join("\n");
+    // Act
+    let r = app.post("/api/v1/batch", "application/x-ndjson", body.as_bytes());
+    // Assert
+    assert_eq!(r.status, 200);
+    assert_eq!(r.media_type(), "application/x-ndjson");
+    let out = lines(r.text());
+    assert_eq!(out.len(), 6);
+    assert_eq!(out[0]["id"], 1);
+    assert_eq!(out[0]["ok"], true);
+    // 100,000 at 6 % over 360 months: 599.55 (common practice, no source).
+    assert_eq!(out[0]["result"]["summary"]["payment"], "599.55");
+    assert!(
+        out[0]["result"].get("schedule").is_none(),
+        "summary detail by default"
+    );
+    assert_eq!(out[1]["ok"], false);
+    assert_eq!(out[1]["problem"]["errors"][0]["pointer"], "/principal");
+    assert_eq!(out[2]["ok"], false);
+    assert_eq!(out[2]["problem"]["type"], "/api#problem-malformed-json");
+    // Regulation DD Appendix A Part I.A: 61.68 on 1,000 over 365 days is 6.17 %.
+    assert_eq!(out[3]["id"], "apy");
+    assert_eq!(out[3]["result"]["apy_percent"], "6.17");
+    assert_eq!(out[4]["problem"]["errors"][0]["pointer"], "/job");
+    assert_eq!(out[5]["id"], 6);
+    assert_eq!(out[5]["ok"], true);
+    assert_still_healthy(&app);
+}
+
+#[test]
+fn full_detail_includes_the_schedule() {
+    let app = spawn_app();
+    let line = json!({"id": "x", "job": "loan_schedule", "detail": "full", "request": {"principal": "12000", "annual_rate_percent": "0", "term_months": 12}});
+    let r = app.post(
+        "/api/v1/batch",
+        "application/x-ndjson",
+        format!("{line}\n").as_bytes(),
+    );
+    let out = lines(r.text());
+    assert_eq!(out[0]["result"]["schedule"].as_array().unwrap().len(), 12);
+}
+
+#[test]
+fn thousands_of_lines_stream_back_in_order() {
+    let app = spawn_app();
+    let body: String = (0..3000)
+        .map(|i| loan_line(i, &format!("{}", 10_000 + i)) + "\n")
+        .collect();
+    let r = app.post("/api/v1/batch", "application/x-ndjson", body.as_bytes());
+    let out = lines(r.text());
+    assert_eq!(out.len(), 3000);
+    for (i, v) in out.iter().enumerate() {
+        assert_eq!(v["id"], i);
+        assert_eq!(v["ok"], true, "{v}");
+    }
+}
+
+#[test]
+fn a_batch_must_be_sent_as_ndjson() {
+    let app = spawn_app();
+    let r = app.post("/api/v1/batch", "application/json", b"{}");
+    assert_problem(&r, 415, "unsupported-media-type");
+}
+
+#[test]
+fn metrics_count_requests_batch_lines_and_problems() {
+    let app = spawn_app();
+    app.post(
+        "/api/v1/batch",
+        "application/x-ndjson",
+        (loan_line(1, "1000") + "\n").as_bytes(),
+    );
+    app.get("/api/v1/loans/schedule?principal=-1&annual_rate_percent=6&term_months=12");
+    let r = app.get("/metrics");
+    assert_eq!(r.status, 200);
+    assert!(r.media_type().starts_with("text/plain"));
+    let text = r.text();
+    assert!(
+        text.contains("residue_requests_total{route=\"/api/v1/batch\",status=\"200\"} 1"),
+        "{text}"
+    );
+    assert!(text.contains("residue_batch_lines_total 1"), "{text}");
+    assert!(
+        text.contains("residue_problems_total{type=\"invalid-fields\"} 1"),
+        "{text}"
+    );
+    assert!(
+        text.contains("residue_request_duration_seconds_count{route=\"/api/v1/loans/schedule\"} 1"),
+        "{text}"
+    );
+}

@@ -1,0 +1,79 @@
+#!/usr/bin/env bash
+# Cross-checks a Residue server binary against sympy/scipy references.
+#
+#   bash tests/crosscheck/run.sh target/debug/residue
+#
+# Creates .venv at the repo root if it is missing (pinned requirements), starts
+# the server on 127.0.0.1:18531, waits for GET /healthz to answer 200 (up to
+# 30 s), runs crosscheck.py, stops the server and exits with the script's status.
+set -euo pipefail
+
+here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
+root="$(cd "$here/../.." && pwd)"
+cd "$root"
+
+if [[ $# -lt 1 ]]; then
+    echo "usage: $0 path/to/residue-binary" >&2
+    exit 2
+fi
+binary="$1"
+shift
+if [[ ! -x "$binary" ]]; then
+    echo "crosscheck: $binary is not an executable" >&2
+    exit 2
+fi
+
+addr="${CROSSCHECK_ADDR:-127.0.0.1:18531}"
+base="http://$addr"
+
+if [[ ! -x .venv/bin/python ]]; then
+    echo "crosscheck: creating .venv" >&2
+    python3 -m venv .venv
+    .venv/bin/pip install -q -r tests/crosscheck/requirements.txt
+fi
+
+log="$(mktemp -t residue-crosscheck.XXXXXX.log)"
+server_pid=""
+cleanup() {
+    if [[ -n "$server_pid" ]] && kill -0 "$server_pid" 2>/dev/null; then
+        kill "$server_pid" 2>/dev/null || true
+        wait "$server_pid" 2>/dev/null || true
+    fi
+    rm -f "$log"
+}
+trap cleanup EXIT
+
+RESIDUE_ADDR="$addr" "$binary" --addr "$addr" >"$log" 2>&1 &
+server_pid=$!
+
+healthy=""
+for _ in $(seq 1 60); do
+    if ! kill -0 "$server_pid" 2>/dev/null; then
+        echo "crosscheck: the server exited before answering; its output:" >&2
+        cat "$log" >&2
+        exit 1
+    fi
+    code="$(.venv/bin/python - "$base/healthz" <<'EOF' 2>/dev/null || true
+import sys, urllib.request
+try:
+    with urllib.request.urlopen(sys.argv[1], timeout=2) as r:
+        print(r.status)
+except Exception:
+    print(0)
+EOF
+)"
+    if [[ "$code" == "200" ]]; then
+        healthy=1
+        break
+    fi
+    sleep 0.5
+done
+if [[ -z "$healthy" ]]; then
+    echo "crosscheck: GET $base/healthz did not answer 200 within 30 s; server output:" >&2
+    cat "$log" >&2
+    exit 1
+fi
+
+status=0
+.venv/bin/python tests/crosscheck/crosscheck.py --base-url "$base" "$@" || status=$?
+exit "$status"
