@@ -17,7 +17,7 @@ struct Args {
     #[arg(long, env = "RESIDUE_MAX_BODY_BYTES", default_value_t = 1024 * 1024)]
     max_body_bytes: usize,
     /// Requests computed at once; more are answered 503 with Retry-After.
-    #[arg(long, env = "RESIDUE_MAX_IN_FLIGHT", default_value_t = 64)]
+    #[arg(long, env = "RESIDUE_MAX_IN_FLIGHT", default_value_t = 16)]
     max_in_flight: usize,
     /// Longest time a request may take, in seconds.
     #[arg(long, env = "RESIDUE_REQUEST_TIMEOUT_SECS", default_value_t = 10)]

@@ -35,7 +35,7 @@ impl Default for Config {
         Self {
             addr: SocketAddr::from(([127, 0, 0, 1], 8080)),
             max_body_bytes: 1024 * 1024,
-            max_in_flight: 64,
+            max_in_flight: 16,
             request_timeout: Duration::from_secs(10),
         }
     }
@@ -101,15 +101,17 @@ pub fn app(state: AppState) -> Router {
         )
         .route("/api/openapi.json", get(crate::api::openapi::openapi_json))
         .merge(web::routes())
-        .method_not_allowed_fallback(method_not_allowed)
         .fallback(not_found)
         .layer(middleware::from_fn_with_state(
             state.clone(),
             limit_and_time,
         ))
+        // Outside the in-flight limit: batches have their own, health and metrics none.
         .route("/api/v1/batch", post(crate::api::batch::batch_post))
         .route("/healthz", get(handlers::healthz))
-        .route("/metrics", get(metrics));
+        .route("/metrics", get(metrics))
+        // Last, so that it covers every route above.
+        .method_not_allowed_fallback(method_not_allowed);
     api.layer(middleware::from_fn_with_state(
         state.clone(),
         log_and_secure,
@@ -140,17 +142,30 @@ async fn method_not_allowed(method: Method) -> ApiError {
 }
 
 /// Refuses work beyond the in-flight limit (503, Retry-After) and bounds each request's time.
+///
+/// The computation runs on a blocking thread, holding its permit, so the runtime's
+/// threads stay free to accept connections and to refuse the excess at once
+/// (otherwise CPU-bound requests would queue inside the runtime without bound).
+/// The time limit is applied on that thread too, so an abandoned request ends there.
 async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next) -> Response {
-    let Ok(_permit) = state.in_flight.clone().try_acquire_owned() else {
+    let Ok(permit) = state.in_flight.clone().try_acquire_owned() else {
         return ApiError::new(
             ProblemKind::Overloaded,
             "too many requests are being computed; try again in a moment",
         )
         .into_response();
     };
-    match tokio::time::timeout(state.config.request_timeout, next.run(req)).await {
-        Ok(response) => response,
-        Err(_) => ApiError::new(
+    let limit = state.config.request_timeout;
+    let handle = tokio::runtime::Handle::current();
+    let work = next.run(req);
+    let computed = tokio::task::spawn_blocking(move || {
+        let _permit = permit;
+        handle.block_on(tokio::time::timeout(limit, work))
+    })
+    .await;
+    match computed {
+        Ok(Ok(response)) => response,
+        Ok(Err(_)) => ApiError::new(
             ProblemKind::Timeout,
             format!(
                 "the request took longer than {} s",
@@ -158,6 +173,7 @@ async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next)
             ),
         )
         .into_response(),
+        Err(_) => ApiError::new(ProblemKind::Internal, "the request could not be computed").into_response(),
     }
 }
 

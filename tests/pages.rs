@@ -283,18 +283,42 @@ async fn every_demo_scenario_is_one_click_from_home_and_renders() {
         let (path, ..) = residue::web::home::job_paths(&s.job);
         let url = format!("{path}?{}", s.query());
         assert!(pages.contains(&url), "{} is not linked: {url}", s.id);
-        let html = page(&url).await;
-        assert!(!html.contains("error-summary"), "{}: {html}", s.id);
-        assert!(html.contains("data-value"), "{} shows no figures", s.id);
-        assert!(html.contains(&caution_html()), "{}", s.id);
     }
-    for job in ["loan_schedule", "compare", "quote_check", "savings_plan"] {
+    // Every scenario link on the home page, followed as a person would click it.
+    let mut paths: Vec<&str> = Vec::new();
+    for url in &pages {
+        let (status, content_type, html) = get(url).await;
+        assert_eq!(status, StatusCode::OK, "{url}: {html}");
+        assert!(
+            content_type.starts_with("text/html"),
+            "{url}: {content_type}"
+        );
+        assert!(!html.contains("error-summary"), "{url}: {html}");
+        assert!(
+            html.contains("<section class=\"result\""),
+            "{url}: no result"
+        );
+        assert!(html.contains("data-figure=\""), "{url} shows no figures");
+        assert!(html.contains(&caution_html()), "{url}: no caution");
+        paths.push(url.split('?').next().unwrap());
+    }
+    for path in ["/loan", "/compare", "/check", "/savings"] {
+        assert!(paths.contains(&path), "no scenario opens {path}: {pages:?}");
+    }
+    for job in [
+        "loan_schedule",
+        "compare",
+        "quote_check",
+        "savings_plan",
+        "loan_compare",
+        "loan_check",
+    ] {
         let (path, ..) = residue::web::home::job_paths(job);
         assert_eq!(
             path,
             match job {
-                "compare" => "/compare",
-                "quote_check" => "/check",
+                "compare" | "loan_compare" => "/compare",
+                "quote_check" | "loan_check" => "/check",
                 "savings_plan" => "/savings",
                 _ => "/loan",
             }

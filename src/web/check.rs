@@ -152,7 +152,7 @@ fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
                 r4(&a.apr_percent_full)
             ),
             format!(
-                "The tolerance is {} of a percentage point: the transaction is {}. {}",
+                "The tolerance is {} of a percentage point (Regulation Z, §1026.22(a)(2) for a regular transaction, §1026.22(a)(3) for an irregular one): the transaction is {}. {}",
                 a.apr_tolerance_points, a.apr_transaction, a.apr_tolerance_reason
             ),
         ],
@@ -205,49 +205,63 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
         .cloned()
         .collect();
     let five = &a.in_five_years;
-    let figures = vec![
+    let mut figures = vec![
         Figure::new(
             "Payment",
             g(&a.computed_payment),
             a.computed_payment.clone(),
             a.currency,
-        ),
+        )
+        .keyed("computed_payment"),
+        Figure::new(
+            "Number of payments",
+            a.number_of_payments.to_string(),
+            a.number_of_payments.to_string(),
+            "",
+        )
+        .keyed("number_of_payments"),
         Figure::new(
             "APR",
             format!("{} %", a.apr_percent),
             a.apr_percent.clone(),
             format!("unrounded {} %", a.apr_percent_full),
-        ),
+        )
+        .keyed("apr_percent"),
         Figure::new(
             "Amount financed",
             g(&a.amount_financed),
             a.amount_financed.clone(),
             "",
-        ),
+        )
+        .keyed("amount_financed"),
         Figure::new(
             "Finance charge",
             g(&a.finance_charge),
             a.finance_charge.clone(),
             "",
-        ),
+        )
+        .keyed("finance_charge"),
         Figure::new(
             "Total of payments",
             g(&a.total_of_payments),
             a.total_of_payments.clone(),
             "",
-        ),
+        )
+        .keyed("total_of_payments"),
         Figure::new(
             "Total interest",
             g(&a.total_interest),
             a.total_interest.clone(),
             "",
-        ),
+        )
+        .keyed("total_interest"),
         Figure::new(
             "Total interest percentage",
             format!("{} %", a.total_interest_percentage),
             a.total_interest_percentage.clone(),
             "of the loan amount",
-        ),
+        )
+        .keyed("total_interest_percentage"),
         Figure::new(
             "In five years",
             g(&five.total_paid),
@@ -259,6 +273,18 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
             ),
         ),
     ];
+    if let Some(r) = &a.implied_annual_rate_percent {
+        figures.insert(
+            3,
+            Figure::new(
+                "Rate implied by the quoted payment",
+                format!("{} %", r4(r)),
+                r.clone(),
+                "a year, over the same term",
+            )
+            .keyed("implied_annual_rate_percent"),
+        );
+    }
     Ok(CheckResult {
         currency: a.currency,
         verdicts: verdicts(&a),

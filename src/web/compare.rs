@@ -34,6 +34,9 @@ pub struct PlanRow {
     /// The API's figures, for `data-value`.
     pub raw_payment: String,
     pub raw_total_interest: String,
+    pub raw_total_paid: String,
+    pub raw_interest_saved: String,
+    pub raw_payments_saved: String,
 }
 
 /// A computed comparison.
@@ -97,6 +100,9 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CompareResult, ApiError> {
                 loan_url: format!("/loan?{}", query_string(&p)),
                 raw_payment: cur.format(s.payment),
                 raw_total_interest: cur.format(s.ledger.total_interest),
+                raw_total_paid: r.total_paid.clone(),
+                raw_interest_saved: r.interest_saved.clone(),
+                raw_payments_saved: r.payments_saved.to_string(),
             }
         })
         .collect();

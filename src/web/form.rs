@@ -408,6 +408,35 @@ fn tidy_number(v: &str) -> String {
     }
 }
 
+/// A list of `name:amount` written as a person types it: "origination:2,500,
+/// points:$1,250.50" as "origination:2500,points:1250.50". A piece of exactly three
+/// digits (no name) after an amount is that amount's next group of thousands.
+fn tidy_named_amounts(v: &str) -> String {
+    let mut pieces: Vec<String> = Vec::new();
+    for piece in v.split(',') {
+        let t = piece.trim();
+        let digits = t.split_once('.').map_or(t, |(i, _)| i);
+        let continues = piece.len() == t.len()
+            && digits.len() == 3
+            && digits.bytes().all(|b| b.is_ascii_digit())
+            && pieces
+                .last()
+                .is_some_and(|p| p.contains(':') && p.ends_with(|c: char| c.is_ascii_digit()));
+        match pieces.last_mut() {
+            Some(last) if continues => last.push_str(t),
+            _ => pieces.push(t.to_string()),
+        }
+    }
+    pieces
+        .iter()
+        .map(|p| match p.split_once(':') {
+            Some((name, amount)) => format!("{}:{}", name.trim(), tidy_number(amount)),
+            None => p.clone(),
+        })
+        .collect::<Vec<_>>()
+        .join(",")
+}
+
 /// The query as the API reads it: empty fields dropped, and numbers typed the
 /// way a person types them ("250,000", "6.5%") written plainly. With `lists`,
 /// a number field may hold several values separated by commas (the compare
@@ -420,7 +449,9 @@ pub fn normalize(pairs: &[(String, String)], lists: bool) -> Vec<(String, String
             let kind = spec(k).map(|s| s.kind);
             let money_or_rate = kind == Some(Kind::Number);
             let number = money_or_rate || kind == Some(Kind::Whole) || k == "term_months";
-            let value = if !number {
+            let value = if k == "prepaid_finance_charges" {
+                tidy_named_amounts(v)
+            } else if !number {
                 v.trim().to_string()
             } else if !lists || money_or_rate && grouped_by_thousands(v) {
                 tidy_number(v)
@@ -485,6 +516,20 @@ mod tests {
         );
         let n = normalize(&pairs(&[("annual_rate_percent", "6%, 6.5%")]), true);
         assert_eq!(n, pairs(&[("annual_rate_percent", "6,6.5")]));
+        let n = normalize(
+            &pairs(&[(
+                "prepaid_finance_charges",
+                "origination:2,500, points: $1,250.50,fee:300",
+            )]),
+            false,
+        );
+        assert_eq!(
+            n,
+            pairs(&[(
+                "prepaid_finance_charges",
+                "origination:2500,points:1250.50,fee:300"
+            )])
+        );
     }
 
     #[test]

@@ -342,25 +342,29 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             money(c, s.payment),
             c.format(s.payment),
             format!("{} {}", s.terms.payment_frequency.name(), c.code()),
-        ),
+        )
+        .keyed("payment"),
         Figure::new(
             "Number of payments",
             s.number_of_payments.to_string(),
             s.number_of_payments.to_string(),
             years_text,
-        ),
+        )
+        .keyed("number_of_payments"),
         Figure::new(
             "Total interest",
             money(c, s.ledger.total_interest),
             c.format(s.ledger.total_interest),
             "",
-        ),
+        )
+        .keyed("total_interest"),
         Figure::new(
             "Total paid",
             money(c, s.ledger.total_paid),
             c.format(s.ledger.total_paid),
             "",
-        ),
+        )
+        .keyed("total_paid"),
     ];
     figures.push(match s.payoff_date {
         Some(d) => Figure::new(
@@ -368,7 +372,8 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             d.to_string(),
             d.to_string(),
             "the last payment",
-        ),
+        )
+        .keyed("payoff_date"),
         None => Figure::new(
             "Payoff",
             format!("with payment {}", s.number_of_payments),
@@ -376,10 +381,11 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             "give a first payment date to date the schedule",
         ),
     });
-    if s.final_payment != s.payment + s.ledger.rows.last().map_or(Decimal::ZERO, |r| r.extra)
-        || s.plan.balloon.is_some()
-    {
-        figures.push(Figure::new(
+    let level = s.final_payment
+        == s.payment + s.ledger.rows.last().map_or(Decimal::ZERO, |r| r.extra)
+        && s.plan.balloon.is_none();
+    figures.push(
+        Figure::new(
             if s.plan.balloon.is_some() {
                 "Final payment with balloon"
             } else {
@@ -387,9 +393,16 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             },
             money(c, s.final_payment),
             c.format(s.final_payment),
-            "",
-        ));
-    }
+            if s.plan.balloon.is_some() {
+                "the balance still due, paid with the last payment"
+            } else if level {
+                "the same as the others"
+            } else {
+                "adjusted to close the balance to the cent"
+            },
+        )
+        .keyed("final_payment"),
+    );
     figures.push(Figure::new(
         "Periodic rate",
         percent(s.periodic_rate * Decimal::ONE_HUNDRED),
@@ -398,18 +411,24 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
     ));
     let mut changed = Vec::new();
     if let Some(v) = s.savings {
-        changed.push(Figure::new(
-            "Interest saved",
-            money(c, v.interest_saved),
-            c.format(v.interest_saved),
-            "against the same loan without extra payments",
-        ));
-        changed.push(Figure::new(
-            "Payments saved",
-            v.payments_saved.to_string(),
-            v.payments_saved.to_string(),
-            "",
-        ));
+        changed.push(
+            Figure::new(
+                "Interest saved",
+                money(c, v.interest_saved),
+                c.format(v.interest_saved),
+                "against the same loan without extra payments",
+            )
+            .keyed("interest_saved"),
+        );
+        changed.push(
+            Figure::new(
+                "Payments saved",
+                v.payments_saved.to_string(),
+                v.payments_saved.to_string(),
+                "",
+            )
+            .keyed("payments_saved"),
+        );
         changed.push(Figure::new(
             "Extra paid",
             money(c, s.plan.total_extra),

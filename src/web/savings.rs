@@ -187,61 +187,82 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
     };
     let mut figures = Vec::new();
     if let Some(d) = &s.deposit {
-        figures.push(Figure::new(
-            if p.form.shape.is_level() {
-                "Deposit"
-            } else {
-                "First deposit"
-            },
-            g(d),
-            d.clone(),
-            format!("{} {}", s.deposit_frequency, s.currency),
-        ));
+        figures.push(
+            Figure::new(
+                if p.form.shape.is_level() {
+                    "Deposit"
+                } else {
+                    "First deposit"
+                },
+                g(d),
+                d.clone(),
+                format!("{} {}", s.deposit_frequency, s.currency),
+            )
+            .keyed("deposit"),
+        );
     }
     if let Some(w) = &s.withdrawal {
-        figures.push(Figure::new(
-            "Withdrawal",
-            g(w),
-            w.clone(),
-            format!("{} {}", s.deposit_frequency, s.currency),
-        ));
+        figures.push(
+            Figure::new(
+                "Withdrawal",
+                g(w),
+                w.clone(),
+                format!("{} {}", s.deposit_frequency, s.currency),
+            )
+            .keyed("withdrawal"),
+        );
     }
-    figures.push(Figure::new(
-        "Number of periods",
-        s.number_of_periods.to_string(),
-        s.number_of_periods.to_string(),
-        if s.lasts_indefinitely {
-            "the balance never runs out".to_string()
-        } else {
-            String::new()
-        },
-    ));
-    figures.push(Figure::new(
-        "Final balance",
-        g(&s.final_balance),
-        s.final_balance.clone(),
-        "",
-    ));
-    figures.push(Figure::new(
-        "Total deposited",
-        g(&s.total_deposited),
-        s.total_deposited.clone(),
-        "",
-    ));
-    if drawdown {
-        figures.push(Figure::new(
-            "Total withdrawn",
-            g(&s.total_withdrawn),
-            s.total_withdrawn.clone(),
+    figures.push(
+        Figure::new(
+            "Number of periods",
+            s.number_of_periods.to_string(),
+            s.number_of_periods.to_string(),
+            if s.lasts_indefinitely {
+                "the balance never runs out".to_string()
+            } else {
+                String::new()
+            },
+        )
+        .keyed("number_of_periods"),
+    );
+    figures.push(
+        Figure::new(
+            "Final balance",
+            g(&s.final_balance),
+            s.final_balance.clone(),
             "",
-        ));
+        )
+        .keyed("final_balance"),
+    );
+    figures.push(
+        Figure::new(
+            "Total deposited",
+            g(&s.total_deposited),
+            s.total_deposited.clone(),
+            "",
+        )
+        .keyed("total_deposited"),
+    );
+    if drawdown {
+        figures.push(
+            Figure::new(
+                "Total withdrawn",
+                g(&s.total_withdrawn),
+                s.total_withdrawn.clone(),
+                "",
+            )
+            .keyed("total_withdrawn"),
+        );
     }
-    figures.push(Figure::new(
-        "Total interest",
-        g(&s.total_interest),
-        s.total_interest.clone(),
-        "",
-    ));
+    figures.push(
+        Figure::new(
+            "Total interest",
+            g(&s.total_interest),
+            s.total_interest.clone(),
+            "",
+        )
+        .keyed("total_interest"),
+    );
     if let Some(goal) = &s.goal {
         let when = s.goal_reached_at.as_ref().map_or_else(
             || "not reached".to_string(),
@@ -250,14 +271,17 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
                 None => format!("reached at period {}", r.period),
             },
         );
-        figures.push(Figure::new("Goal", g(goal), goal.clone(), when));
+        figures.push(Figure::new("Goal", g(goal), goal.clone(), when).keyed("goal"));
     }
-    figures.push(Figure::new(
-        "APY",
-        format!("{} %", s.apy_percent),
-        s.apy_percent.clone(),
-        "of the account rate",
-    ));
+    figures.push(
+        Figure::new(
+            "APY",
+            format!("{} %", s.apy_percent),
+            s.apy_percent.clone(),
+            "of the account rate",
+        )
+        .keyed("apy_percent"),
+    );
     let (schedule, bars) = schedule_view(&p, flow_name);
     let mut points = vec![(0, p.terms.opening_balance)];
     points.extend(p.ledger.rows.iter().map(|r| (r.number, r.balance)));

@@ -3,18 +3,30 @@
 use crate::api::json::{self, Json};
 
 /// The scenario files, in the order the home page lists them.
-pub const FILES: [(&str, &str); 6] = [
+pub const FILES: [(&str, &str); 10] = [
     (
         "first-home-three-terms.json",
         include_str!("../../demo-scenarios/first-home-three-terms.json"),
     ),
     (
-        "used-car-quarter-rate.json",
-        include_str!("../../demo-scenarios/used-car-quarter-rate.json"),
+        "used-car-odd-first-period.json",
+        include_str!("../../demo-scenarios/used-car-odd-first-period.json"),
     ),
     (
-        "zero-percent-furniture.json",
-        include_str!("../../demo-scenarios/zero-percent-furniture.json"),
+        "bakery-balloon.json",
+        include_str!("../../demo-scenarios/bakery-balloon.json"),
+    ),
+    (
+        "quote-to-check.json",
+        include_str!("../../demo-scenarios/quote-to-check.json"),
+    ),
+    (
+        "member-savings-growing.json",
+        include_str!("../../demo-scenarios/member-savings-growing.json"),
+    ),
+    (
+        "retiree-drawdown.json",
+        include_str!("../../demo-scenarios/retiree-drawdown.json"),
     ),
     (
         "workshop-fixed-payment.json",
@@ -23,6 +35,10 @@ pub const FILES: [(&str, &str); 6] = [
     (
         "canadian-semiannual-compounding.json",
         include_str!("../../demo-scenarios/canadian-semiannual-compounding.json"),
+    ),
+    (
+        "zero-percent-furniture.json",
+        include_str!("../../demo-scenarios/zero-percent-furniture.json"),
     ),
     (
         "yen-renovation.json",

@@ -51,6 +51,8 @@ pub struct Figure {
     pub raw: String,
     /// A short explanation under the figure (may be empty).
     pub note: String,
+    /// The API's field name for this figure (`data-figure`), or empty.
+    pub key: &'static str,
 }
 
 impl Figure {
@@ -65,7 +67,15 @@ impl Figure {
             value: value.into(),
             raw: raw.into(),
             note: note.into(),
+            key: "",
         }
+    }
+
+    /// Names the figure by the API's field (`data-figure="…"`), a stable hook for tests and scripts.
+    #[must_use]
+    pub fn keyed(mut self, key: &'static str) -> Self {
+        self.key = key;
+        self
     }
 }
 

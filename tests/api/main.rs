@@ -5,6 +5,7 @@
 //! client sees: status line, headers and body.
 
 mod batch;
+mod catalogue;
 mod disclosure;
 mod errors;
 mod health;
@@ -14,3 +15,4 @@ mod plans;
 mod recurrence;
 mod savings;
 mod schedule;
+mod security;

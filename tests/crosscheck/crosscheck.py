@@ -14,12 +14,12 @@ references that share none of its code:
   `values` and with the service's closed form (modes and impulses evaluated
   here in exact Fractions from the strings). If rsolve fails or takes too
   long on a case, the check falls back on exact stepping and says so.
-* exact stepping — x[k+1] = a·x[k] + f[k] run in exact rationals, the most
-  literal reading of the problem, compared as fractions.Fraction values (every
-  x[k] is a terminating decimal, so the steps run on integers scaled by powers
-  of ten: Fraction's gcd at every step would take a quarter of an hour at
-  k = 6000 with 28-digit factors). A second reference for the values and the
-  reference for the power series of the service's transform.
+* exact stepping — x[k+1] = a·x[k] + f[k] run exactly, the most literal
+  reading of the problem, compared as fractions.Fraction values. Every x[k] is
+  a terminating decimal, so the steps run in decimal.Decimal with unlimited
+  precision and every rounding trapped (Fraction's gcd at every step would take
+  a quarter of an hour at k = 6000 with 28-digit factors). A second reference
+  for the values and the reference for the transform's power series.
 * sympy (cancel, roots, residue) on the exact X(z)/z of the transform table
   (impulse c ↔ c, step c ↔ c·z/(z − 1), geometric c·g^k ↔ c·z/(z − g),
   ramp c·k ↔ c·z/(z − 1)²): the service's numerator, its cancelled poles, its
@@ -75,6 +75,7 @@ import time
 import urllib.error
 import urllib.request
 from dataclasses import dataclass, field
+import decimal
 from decimal import Decimal
 from fractions import Fraction
 from math import comb
@@ -294,51 +295,17 @@ def frac(r) -> Fraction:
     return Fraction(int(r.p), int(r.q))
 
 
-class Dec:
-    """An exact terminating decimal n·10^-e (n an int): every x[k] here is one.
-
-    Stepping in these is exact rational arithmetic like fractions.Fraction, but
-    skips Fraction's gcd on every operation, which at k = 6000 with two 28-digit
-    factors (numbers of ~170,000 digits) takes a quarter of an hour.
-    """
-
-    __slots__ = ("n", "e")
-
-    def __init__(self, n: int, e: int = 0):
-        self.n, self.e = n, e
-
-    @classmethod
-    def of(cls, value) -> "Dec":
-        sign, digits, exp = Decimal(str(value)).as_tuple()
-        n = int("".join(map(str, digits)) or "0") * (-1 if sign else 1)
-        return cls(n, -exp) if exp < 0 else cls(n * 10**exp, 0)
-
-    def __add__(self, o: "Dec") -> "Dec":
-        if self.e >= o.e:
-            return Dec(self.n + o.n * 10 ** (self.e - o.e), self.e)
-        return Dec(self.n * 10 ** (o.e - self.e) + o.n, o.e)
-
-    def __neg__(self) -> "Dec":
-        return Dec(-self.n, self.e)
-
-    def __sub__(self, o: "Dec") -> "Dec":
-        return self + (-o)
-
-    def __mul__(self, o: "Dec") -> "Dec":
-        return Dec(self.n * o.n, self.e + o.e)
-
-    def fraction(self) -> Fraction:
-        return Fraction(self.n, 10**self.e)
-
-    def __float__(self) -> float:
-        return self.n / 10**self.e  # int true division rounds correctly for any size
-
-    def sign(self) -> int:
-        return (self.n > 0) - (self.n < 0)
+# Exact decimal arithmetic: unlimited precision, and any rounding at all raises
+# decimal.Inexact, so a value that comes out is exact. Sums of long decimals align
+# by shifting limbs, where Fraction would take a gcd of ~170,000-digit numbers at
+# every step (a quarter of an hour for k = 6000 with two 28-digit factors).
+EXACT = decimal.Context(prec=decimal.MAX_PREC, Emax=decimal.MAX_EMAX, Emin=decimal.MIN_EMIN,
+                        traps=[decimal.Inexact, decimal.Rounded, decimal.InvalidOperation,
+                               decimal.Overflow, decimal.DivisionByZero])
 
 
 class Stepped:
-    """x[0..kmax] by exact stepping; indexing gives fractions.Fraction, `.raw` the Decs."""
+    """x[0..kmax] by exact stepping; indexing gives fractions.Fraction, `.raw` the Decimals."""
 
     def __init__(self, raw: list):
         self.raw = raw
@@ -349,29 +316,31 @@ class Stepped:
 
     def __getitem__(self, k: int) -> Fraction:
         if k not in self._cache:
-            self._cache[k] = self.raw[k].fraction()
+            self._cache[k] = Fraction(self.raw[k])
         return self._cache[k]
 
 
 def exact_stepping(case: Case, kmax: int) -> Stepped:
-    """Reference: exact rational stepping (fractions.Fraction values) of
-    x[k+1] = a·x[k] + f[k], the most literal reading of the problem."""
-    a, x = Dec.of(case.a), Dec.of(case.x0)
+    """Reference: exact stepping of x[k+1] = a·x[k] + f[k], the most literal reading
+    of the problem, in decimal.Decimal with every rounding trapped (so exact
+    rationals, compared as fractions.Fraction)."""
+    D = lambda v: EXACT.create_decimal(str(v))  # noqa: E731
+    a, x = D(case.a), D(case.x0)
     out = [x]
-    geo = [(Dec.of(i["amount"]), Dec.of(i["ratio"])) for i in case.inputs if i["kind"] == "geometric"]
-    powers = [Dec(1)] * len(geo)  # g^k, kept incrementally
-    others = [(i["kind"], Dec.of(i["amount"])) for i in case.inputs if i["kind"] != "geometric"]
+    geo = [(D(i["amount"]), D(i["ratio"])) for i in case.inputs if i["kind"] == "geometric"]
+    powers = [D(1)] * len(geo)  # g^k, kept incrementally
+    others = [(i["kind"], D(i["amount"])) for i in case.inputs if i["kind"] != "geometric"]
     for k in range(kmax):
-        f = Dec(0)
+        f = D(0)
         for kind, c in others:
             if kind == "step" or (kind == "impulse" and k == 0):
-                f = f + c
+                f = EXACT.add(f, c)
             elif kind == "ramp":
-                f = f + c * Dec(k)
+                f = EXACT.add(f, EXACT.multiply(c, k))
         for n, (c, g) in enumerate(geo):
-            f = f + c * powers[n]
-            powers[n] = powers[n] * g
-        x = a * x + f
+            f = EXACT.add(f, EXACT.multiply(c, powers[n]))
+            powers[n] = EXACT.multiply(powers[n], g)
+        x = EXACT.add(EXACT.multiply(a, x), f)
         out.append(x)
     return Stepped(out)
 
@@ -921,7 +890,9 @@ def check_loan(base: str, name: str, body: dict, rep: Report):
 
     # Reference: exact stepping (fractions.Fraction values) of the posted recurrence; the closed form,
     # evaluated exactly from its strings, must agree to 1e-20 of max(1, M_k).
-    case = Case(name, str(a), str(body["principal"]), [step(str(-payment))], [])
+    # Decimal strings for the stepping (str() of a Fraction would be "201/200").
+    a_text = str(EXACT.add(Decimal(1), EXACT.create_decimal(s["periodic_rate"])))
+    case = Case(name, a_text, str(body["principal"]), [step(str(EXACT.minus(EXACT.create_decimal(s["payment"]))))], [])
     stepped = exact_stepping(case, n)
     mags = magnitudes(case, n)
     ks = sorted({0, 1, 2, n // 3, n // 2, max(n - 1, 0), n})
@@ -942,7 +913,7 @@ def check_loan(base: str, name: str, body: dict, rep: Report):
                   f"service {s['payment']}, exact {float(exact_p):.10f}")
     else:
         # Reference: exact stepping — the first n with x[n] ≤ 0 under the given payment.
-        first = next((k for k, x in enumerate(stepped.raw) if x.sign() <= 0 and k > 0), None)
+        first = next((k for k, x in enumerate(stepped.raw) if x <= 0 and k > 0), None)
         ok = first == n
         rep.check(name, "number of payments vs exact stepping", ok,
                   f"service {n}, first k with x[k] ≤ 0: {first}")
@@ -985,7 +956,7 @@ def check_loan(base: str, name: str, body: dict, rep: Report):
     if rec_dto is None:
         rep.skip(name, "reconciliation largest_drift", "no reconciliation reported")
     else:
-        drifts = [(int(r["number"]), abs(float(Dec.of(b_) - stepped.raw[int(r["number"])])))
+        drifts = [(int(r["number"]), abs(float(EXACT.subtract(b_, stepped.raw[int(r["number"])]))))
                   for r, b_ in zip(rows[:-1], B[:-1])]
         largest = max((dr for _, dr in drifts), default=0.0)
         got = float(q(rec_dto["largest_drift"]))

@@ -1,0 +1,152 @@
+#!/usr/bin/env bash
+# Load figures for the README, against the release build on 127.0.0.1.
+#
+#   bash scripts/load.sh [path/to/release/residue]
+#
+# Needs wrk (`apt-get install -y wrk`) and curl. Not part of CI: it measures.
+# Each wrk run lasts LOAD_DURATION (default 10s) with 2 threads. It prints:
+#   1. /healthz and the 360-payment JSON schedule in the same run: both request
+#      rates and their ratio;
+#   2. a batch of BATCH_LINES (default 20000) level-payment loan checks (payment
+#      and APR) posted as NDJSON with curl --data-binary: lines per second;
+#   3. the saturating concurrency of the schedule (short sweep), then an overload
+#      run at three times it: the count of each status (only 200 and 503 with
+#      Retry-After are expected), wrk's p99 latency, and the server's resident
+#      memory (VmRSS sampled during the run, and VmHWM, the peak).
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+binary="${1:-target/release/residue}"
+duration="${LOAD_DURATION:-10s}"
+batch_lines="${BATCH_LINES:-20000}"
+addr="${LOAD_ADDR:-127.0.0.1:18700}"
+base="http://$addr"
+schedule="$base/api/v1/loans/schedule?principal=100000&annual_rate_percent=6&term_months=360"
+
+command -v wrk >/dev/null || { echo "load: wrk is missing (apt-get install -y wrk)" >&2; exit 2; }
+if [[ ! -x "$binary" ]]; then
+    echo "load: building the release binary" >&2
+    cargo build --release --bin residue
+    binary=target/release/residue
+fi
+
+work="$(mktemp -d -t residue-load.XXXXXX)"
+server_pid=""
+cleanup() {
+    if [[ -n "$server_pid" ]] && kill -0 "$server_pid" 2>/dev/null; then
+        kill "$server_pid" 2>/dev/null || true
+        wait "$server_pid" 2>/dev/null || true
+    fi
+    rm -rf "$work"
+}
+trap cleanup EXIT
+
+RESIDUE_LOG=warn "$binary" --addr "$addr" >"$work/server.log" 2>&1 &
+server_pid=$!
+for _ in $(seq 1 100); do
+    curl -fs "$base/healthz" >/dev/null 2>&1 && break
+    sleep 0.1
+done
+curl -fs "$base/healthz" >/dev/null || { echo "load: the server did not start" >&2; cat "$work/server.log" >&2; exit 1; }
+echo "server: $binary on $addr (pid $server_pid), $(nproc) cores"
+
+rate() { awk '/^Requests\/sec:/ {print $2}' "$1"; }
+
+# 1. /healthz against the 360-payment schedule, one after the other in the same run.
+wrk -t2 -c32 -d"$duration" --latency "$base/healthz" >"$work/healthz.txt"
+wrk -t2 -c32 -d"$duration" --latency "$schedule" >"$work/schedule.txt"
+h="$(rate "$work/healthz.txt")"
+s="$(rate "$work/schedule.txt")"
+echo
+echo "== request rates (wrk -t2 -c32 -d$duration) =="
+echo "GET /healthz:                     $h requests/s"
+echo "GET 360-payment JSON schedule:    $s requests/s"
+awk -v h="$h" -v s="$s" 'BEGIN {printf "schedule / healthz:               %.1f %%\n", 100 * s / h}'
+
+# 2. A batch of level-payment loan checks.
+awk -v n="$batch_lines" 'BEGIN {
+    for (i = 1; i <= n; i++) {
+        principal = 50000 + (i * 7919) % 450000;
+        rate = 3 + (i % 80) / 10;
+        term = (i % 3 == 0) ? 180 : 360;
+        printf "{\"id\":%d,\"job\":\"loan_check\",\"request\":{\"principal\":\"%d\",\"annual_rate_percent\":\"%.1f\",\"term_months\":%d}}\n", i, principal, rate, term;
+    }
+}' >"$work/batch.ndjson"
+seconds="$(curl -s -o "$work/batch.out" -w '%{time_total}' -H 'Content-Type: application/x-ndjson' \
+    --data-binary @"$work/batch.ndjson" "$base/api/v1/batch")"
+answered="$(wc -l <"$work/batch.out")"
+ok="$(grep -c '"ok":true' "$work/batch.out" || true)"
+echo
+echo "== batch (POST /api/v1/batch, $batch_lines loan_check lines, $(du -k "$work/batch.ndjson" | cut -f1) KiB) =="
+echo "answered $answered lines ($ok ok) in $seconds s"
+awk -v n="$answered" -v t="$seconds" 'BEGIN {printf "%.0f lines/s\n", n / t}'
+
+# 3. Saturation, then three times it.
+echo
+echo "== saturation sweep of the schedule (wrk -t2, 3 s each) =="
+best=0
+best_c=1
+for c in 2 4 8 16 32; do
+    wrk -t2 -c"$c" -d3s "$schedule" >"$work/sweep.txt"
+    r="$(rate "$work/sweep.txt")"
+    echo "c=$c: $r requests/s"
+    if awk -v r="$r" -v b="$best" 'BEGIN {exit !(r > 1.05 * b)}'; then
+        best="$r"
+        best_c="$c"
+    fi
+done
+overload=$((3 * best_c))
+[[ "$overload" -lt 2 ]] && overload=2
+echo "saturating concurrency: $best_c ($best requests/s); overload at $overload"
+
+cat >"$work/count.lua" <<'EOF'
+local threads = {}
+function setup(thread)
+    table.insert(threads, thread)
+end
+function init(args)
+    counts = {}
+    no_retry_after = 0
+end
+function response(status, headers, body)
+    counts[status] = (counts[status] or 0) + 1
+    if status == 503 and headers["retry-after"] == nil and headers["Retry-After"] == nil then
+        no_retry_after = no_retry_after + 1
+    end
+end
+function done(summary, latency, requests)
+    local total, missing = {}, 0
+    for _, t in ipairs(threads) do
+        for status, n in pairs(t:get("counts")) do
+            total[status] = (total[status] or 0) + n
+        end
+        missing = missing + t:get("no_retry_after")
+    end
+    for status, n in pairs(total) do
+        io.write(string.format("status %d: %d\n", status, n))
+    end
+    io.write(string.format("503 without Retry-After: %d\n", missing))
+    io.write(string.format("socket errors: connect %d, read %d, write %d, timeout %d\n",
+        summary.errors.connect, summary.errors.read, summary.errors.write, summary.errors.timeout))
+    io.write(string.format("p50 %.2f ms, p99 %.2f ms, max %.2f ms\n",
+        latency:percentile(50) / 1000, latency:percentile(99) / 1000, latency.max / 1000))
+end
+EOF
+rss_max=0
+(
+    while kill -0 "$server_pid" 2>/dev/null; do
+        awk '/^VmRSS:/ {print $2}' "/proc/$server_pid/status" 2>/dev/null || true
+        sleep 0.25
+    done
+) >"$work/rss.txt" &
+sampler=$!
+wrk -t2 -c"$overload" -d"$duration" --latency -s "$work/count.lua" "$schedule" >"$work/overload.txt"
+kill "$sampler" 2>/dev/null || true
+wait "$sampler" 2>/dev/null || true
+rss_max="$(sort -n "$work/rss.txt" | tail -1)"
+hwm="$(awk '/^VmHWM:/ {print $2}' "/proc/$server_pid/status")"
+echo
+echo "== overload: wrk -t2 -c$overload -d$duration on the schedule =="
+grep -E '^(status|503|socket|p50)' "$work/overload.txt"
+awk '/^Requests\/sec:/ {print "answers/s: " $2}' "$work/overload.txt"
+awk -v r="$rss_max" -v h="$hwm" 'BEGIN {printf "server RSS: %.1f MB at most during the run (VmHWM %.1f MB)\n", r / 1024, h / 1024}'
