@@ -167,6 +167,42 @@ mod tests {
     }
 
     #[test]
+    fn monthly_due_dates_agree_with_jiffs_calendar_arithmetic() {
+        // Reference: jiff's own month arithmetic (Date + Span::months(k) clamps the day to
+        // the month's end), a general-purpose date library; ours is computed separately.
+        for first in [
+            date(2027, 1, 31),
+            date(2027, 1, 30),
+            date(2027, 1, 29),
+            date(2028, 2, 29),
+            date(2027, 8, 31),
+            date(2099, 12, 31),
+        ] {
+            for (frequency, months) in [
+                (Frequency::Monthly, 1),
+                (Frequency::Quarterly, 3),
+                (Frequency::Semiannual, 6),
+                (Frequency::Annual, 12),
+            ] {
+                let ours = due_dates(first, 120, frequency).unwrap();
+                for (k, d) in ours.iter().enumerate() {
+                    let reference = first
+                        .checked_add(Span::new().months(months * k as i64))
+                        .unwrap();
+                    assert_eq!(*d, reference, "{first} + {k} × {months} months");
+                }
+            }
+            let weekly = due_dates(first, 300, Frequency::Biweekly).unwrap();
+            for (k, d) in weekly.iter().enumerate() {
+                assert_eq!(
+                    *d,
+                    first.checked_add(Span::new().days(14 * k as i64)).unwrap()
+                );
+            }
+        }
+    }
+
+    #[test]
     fn one_period_before_a_first_payment() {
         assert_eq!(
             period_before(date(2027, 3, 1), Frequency::Monthly).unwrap(),
