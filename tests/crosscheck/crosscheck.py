@@ -58,6 +58,8 @@ Tolerances (all stated where they are used):
   pole error where clustered poles make float64 worse (see check_scipy; each
   line prints the tolerance used). The case with distinct poles 1e-10 apart
   skips scipy: float64 cannot tell them from a repeated pole.
+* Periodic rates: 1e-26 absolute against mpmath (28 decimal places hold a
+  rate to 1e-28; a root and a power cost a few units of the last place).
 
 Usage: python tests/crosscheck/crosscheck.py --base-url http://127.0.0.1:18531
 Prints one line per check and ends with `crosscheck: N passed, M failed`;
@@ -74,8 +76,8 @@ import sys
 import time
 import urllib.error
 import urllib.request
-from dataclasses import dataclass, field
 import decimal
+from dataclasses import dataclass, field
 from decimal import Decimal
 from fractions import Fraction
 from math import comb
