@@ -13,7 +13,7 @@ use residue::engine::recurrence::{Input, Recurrence};
 use residue::engine::savings::{
     plan as savings_plan, Flow, Growth, GrowthEvery, Question, SavingsTerms, Timing,
 };
-use residue::engine::schedule::{schedule, schedule_with, LoanTerm, LoanTerms};
+use residue::engine::schedule::{schedule, schedule_for_comparison, LoanTerm, LoanTerms};
 use rust_decimal::Decimal;
 
 fn d(s: &str) -> Decimal {
@@ -124,7 +124,7 @@ fn benches(c: &mut Criterion) {
     c.bench_function("compare_four_30_year_plans_with_extras", |b| {
         b.iter(|| {
             for (t, o) in &plans {
-                black_box(schedule_with(t, o).unwrap());
+                black_box(schedule_for_comparison(t, o).unwrap());
             }
         })
     });

@@ -13,7 +13,7 @@ use super::fields::{Fields, Source};
 use super::json::Json;
 use super::loans::{schedule_request_from, ScheduleRequest};
 use super::problem::{ApiError, FieldError};
-use crate::engine::schedule::{schedule_with, LoanSchedule, CAUTION};
+use crate::engine::schedule::{schedule_for_comparison, LoanSchedule, CAUTION};
 
 /// The most plans a comparison may hold.
 pub const MAX_PLANS: usize = 4;
@@ -46,8 +46,8 @@ pub struct Comparison {
 fn compute(requests: Vec<(ScheduleRequest, String)>) -> Result<Comparison, ApiError> {
     let mut plans = Vec::with_capacity(requests.len());
     for (index, (r, pointer)) in requests.into_iter().enumerate() {
-        let s =
-            schedule_with(&r.terms, &r.options).map_err(|e| ApiError::from_engine(e, &pointer))?;
+        let s = schedule_for_comparison(&r.terms, &r.options)
+            .map_err(|e| ApiError::from_engine(e, &pointer))?;
         let label = r.label.unwrap_or_else(|| {
             if index == 0 {
                 "base".into()

@@ -370,6 +370,20 @@ fn rounded_payment(terms: &LoanTerms, balance: Decimal, i: Decimal, n: u32) -> R
 /// # Errors
 /// Inconsistent options, a payment that does not cover the interest, an overflow.
 pub fn post(terms: &LoanTerms, o: &PlanOptions, with_extras: bool) -> Result<Plan> {
+    post_with(terms, o, with_extras, true)
+}
+
+/// As [`post`]; with `reconcile = false` the ledger is not compared with the
+/// closed forms (`largest_drift` is `None`), for answers that show no reconciliation.
+///
+/// # Errors
+/// As [`post`].
+pub fn post_with(
+    terms: &LoanTerms,
+    o: &PlanOptions,
+    with_extras: bool,
+    reconcile_ledger: bool,
+) -> Result<Plan> {
     terms.check()?;
     let c = terms.currency;
     let e = c.minor_units();
@@ -533,7 +547,11 @@ pub fn post(terms: &LoanTerms, o: &PlanOptions, with_extras: bool) -> Result<Pla
         }
     }
     let segments = solve_segments(terms.principal, &rows, &inputs, e)?;
-    let largest_drift = reconcile(&rows, &segments)?;
+    let largest_drift = if reconcile_ledger {
+        reconcile(&rows, &segments)?
+    } else {
+        None
+    };
     Ok(Plan {
         rows,
         segments,

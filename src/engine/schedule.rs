@@ -6,7 +6,7 @@ use super::error::{EngineError, OrOverflow, Result};
 use super::ledger::{Ledger, Reconciliation, Row};
 use super::loan::{payment_for_term, solve_balance, UnitResponses, MAX_PAYMENTS};
 use super::money::{Currency, InterestRounding, PaymentRounding};
-use super::plan::{milestones, post, Milestones, OddDaysInterest, Plan, PlanOptions};
+use super::plan::{milestones, post_with, Milestones, OddDaysInterest, Plan, PlanOptions};
 use super::rate::{AnnualRate, Frequency};
 use super::recurrence::Solution;
 
@@ -178,6 +178,23 @@ pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
 /// # Errors
 /// Out-of-range or inconsistent terms, a payment that never repays, or an overflow.
 pub fn schedule_with(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSchedule> {
+    schedule_inner(terms, options, true)
+}
+
+/// As [`schedule_with`] without reconciling the ledger with the closed forms:
+/// for comparisons, whose answer shows totals, not derivations.
+///
+/// # Errors
+/// As [`schedule_with`].
+pub fn schedule_for_comparison(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSchedule> {
+    schedule_inner(terms, options, false)
+}
+
+fn schedule_inner(
+    terms: &LoanTerms,
+    options: &PlanOptions,
+    reconcile_ledger: bool,
+) -> Result<LoanSchedule> {
     terms.check()?;
     let i = terms.periodic_rate()?;
     let currency = terms.currency;
@@ -194,7 +211,7 @@ pub fn schedule_with(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSch
             terms.payment_frequency.name()
         ));
     }
-    let plan = post(terms, options, true)?;
+    let plan = post_with(terms, options, true, reconcile_ledger)?;
     let payment = plan.payment;
     if payment <= Decimal::ZERO {
         return Err(EngineError::no_solution(
@@ -238,7 +255,7 @@ pub fn schedule_with(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSch
     let base = if options.extras.is_empty() {
         None
     } else {
-        Some(post(terms, options, false)?)
+        Some(post_with(terms, options, false, false)?)
     };
     let milestone_base = base.as_ref().unwrap_or(&plan);
     let (milestones, milestone_notes) =
@@ -280,8 +297,12 @@ pub fn schedule_with(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSch
         .rows
         .last()
         .map_or(Decimal::ZERO, |r| r.payment + r.extra);
-    let reconciliation = reconcile_plan(&plan, currency)?;
-    if reconciliation.is_none() {
+    let reconciliation = if reconcile_ledger {
+        reconcile_plan(&plan, currency)?
+    } else {
+        None
+    };
+    if reconciliation.is_none() && reconcile_ledger {
         notes.push("The ledger could not be reconciled with the closed form: a^k leaves the range of 28-digit decimals for this term and rate.".into());
     }
     if let (LoanTerm::Payments(n), true) = (
