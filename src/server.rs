@@ -76,7 +76,10 @@ pub fn app(state: AppState) -> Router {
             "/api/v1/loans/schedule.csv",
             get(handlers::schedule_get_csv),
         )
-        .route("/api/v1/loans/compare", get(handlers::compare_get).post(handlers::compare_post))
+        .route(
+            "/api/v1/loans/compare",
+            get(handlers::compare_get).post(handlers::compare_post),
+        )
         .route("/api/v1/loans/compare.csv", get(handlers::compare_get_csv))
         .route("/api/v1/recurrence", post(handlers::recurrence_post))
         .route(
@@ -121,7 +124,10 @@ pub fn app(state: AppState) -> Router {
 
 async fn metrics(State(state): State<AppState>) -> Response {
     (
-        [(header::CONTENT_TYPE, "text/plain; version=0.0.4; charset=utf-8")],
+        [(
+            header::CONTENT_TYPE,
+            "text/plain; version=0.0.4; charset=utf-8",
+        )],
         state.metrics.render(),
     )
         .into_response()
@@ -173,7 +179,8 @@ async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next)
             ),
         )
         .into_response(),
-        Err(_) => ApiError::new(ProblemKind::Internal, "the request could not be computed").into_response(),
+        Err(_) => ApiError::new(ProblemKind::Internal, "the request could not be computed")
+            .into_response(),
     }
 }
 

@@ -82,9 +82,16 @@ fuzz_target!(|input: Input| {
     if let Ok(s) = schedule_with(&terms, &PlanOptions::default()) {
         let rows = &s.ledger.rows;
         let last = rows.last().expect("a schedule has a payment");
-        assert!(last.balance.is_zero(), "{terms:?}: the balance ends at {}", last.balance);
+        assert!(
+            last.balance.is_zero(),
+            "{terms:?}: the balance ends at {}",
+            last.balance
+        );
         let paid: Decimal = rows.iter().map(|r| r.principal + r.extra).sum();
-        assert_eq!(paid, principal, "{terms:?}: the principal parts sum to {paid}");
+        assert_eq!(
+            paid, principal,
+            "{terms:?}: the principal parts sum to {paid}"
+        );
         assert_eq!(rows.len() as u32, s.number_of_payments, "{terms:?}");
     }
 });

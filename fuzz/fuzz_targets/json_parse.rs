@@ -15,7 +15,10 @@ fn depth(v: &Json) -> usize {
 
 fuzz_target!(|data: &[u8]| {
     if let Ok(v) = parse(data) {
-        assert!(depth(&v) <= MAX_DEPTH + 1, "nesting beyond the bound was accepted");
+        assert!(
+            depth(&v) <= MAX_DEPTH + 1,
+            "nesting beyond the bound was accepted"
+        );
         if let Json::Object(members) = &v {
             for (i, (k, _)) in members.iter().enumerate() {
                 assert!(

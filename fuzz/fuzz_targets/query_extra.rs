@@ -19,6 +19,10 @@ fuzz_target!(|tail: &str| {
     };
     if let Ok(s) = schedule_with(&request.terms, &request.options) {
         let last = s.ledger.rows.last().expect("a schedule has a payment");
-        assert!(last.balance.is_zero(), "the balance ends at {}", last.balance);
+        assert!(
+            last.balance.is_zero(),
+            "the balance ends at {}",
+            last.balance
+        );
     }
 });

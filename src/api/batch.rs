@@ -225,6 +225,7 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
     };
     let (tx, rx) = tokio::sync::mpsc::channel::<Bytes>(64);
     let metrics = state.metrics.clone();
+    let idle_timeout = state.config.request_timeout;
     let mut body = req.into_body().into_data_stream();
     tokio::spawn(async move {
         let _permit = permit;
@@ -232,13 +233,20 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         let mut lines = 0usize;
         let mut finished = false;
         let mut too_long = false;
+        let mut stalled = false;
         'read: loop {
-            let chunk = match body.next().await {
-                Some(Ok(c)) => c,
-                Some(Err(_)) => break,
-                None => {
+            // A client that stalls longer than the request timeout between two
+            // chunks loses its batch (and frees the batch permit).
+            let chunk = match tokio::time::timeout(idle_timeout, body.next()).await {
+                Ok(Some(Ok(c))) => c,
+                Ok(Some(Err(_))) => break,
+                Ok(None) => {
                     finished = true;
                     Bytes::new()
+                }
+                Err(_) => {
+                    stalled = true;
+                    break;
                 }
             };
             pending.extend_from_slice(&chunk);
@@ -281,20 +289,32 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                 break;
             }
         }
-        let closing = if too_long {
-            Some(format!(
-                "line {} is longer than {MAX_LINE_BYTES} bytes: the batch stops here",
-                lines + 1
+        let closing = if stalled {
+            Some((
+                ProblemKind::Timeout,
+                format!(
+                    "no data for {} s after line {lines}: the batch stops here",
+                    idle_timeout.as_secs_f64()
+                ),
+            ))
+        } else if too_long {
+            Some((
+                ProblemKind::TooLarge,
+                format!(
+                    "line {} is longer than {MAX_LINE_BYTES} bytes: the batch stops here",
+                    lines + 1
+                ),
             ))
         } else if lines > MAX_LINES {
-            Some(format!(
-                "a batch may hold at most {MAX_LINES} lines: the batch stops here"
+            Some((
+                ProblemKind::TooLarge,
+                format!("a batch may hold at most {MAX_LINES} lines: the batch stops here"),
             ))
         } else {
             None
         };
-        if let Some(message) = closing {
-            let p = ApiError::new(ProblemKind::TooLarge, message);
+        if let Some((kind, message)) = closing {
+            let p = ApiError::new(kind, message);
             let mut v = serde_json::to_vec(
                 &serde_json::json!({"id": null, "ok": false, "problem": p.problem()}),
             )

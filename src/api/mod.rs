@@ -2,8 +2,8 @@
 
 pub mod apr;
 pub mod apy;
-pub mod check;
 pub mod batch;
+pub mod check;
 pub mod compare;
 pub mod derivation;
 pub mod fields;

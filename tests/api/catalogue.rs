@@ -726,10 +726,52 @@ fn a_client_that_stalls_in_its_headers_is_closed_within_a_bounded_time() {
         .unwrap();
     let started = Instant::now();
     let mut buf = [0u8; 256];
-    let closed = matches!(slow.read(&mut buf), Ok(_));
+    let closed = slow.read(&mut buf).is_ok();
     assert!(
         closed && started.elapsed() < Duration::from_secs(35),
         "the stalled connection is still open after {:?}",
         started.elapsed()
     );
+}
+
+#[test]
+fn stalled_batch_uploads_end_with_a_timeout_line_and_free_the_batch_permits() {
+    // Arrange: two batches (the most that run at once) stall after one line.
+    let app = app_with_timeout(1);
+    let first = ndjson(&[job(1, "loan_schedule", good_loan())]);
+    let mut stalled: Vec<TcpStream> = (0..2)
+        .map(|_| {
+            let mut s = open_post(&app, BATCH, "application/x-ndjson", 10_000);
+            s.write_all(&first).unwrap();
+            s
+        })
+        .collect();
+    let started = Instant::now();
+
+    // Act
+    let answers: Vec<Response> = stalled.iter_mut().map(read_to_end).collect();
+    let after = app.post(BATCH, "application/x-ndjson", &first);
+
+    // Assert
+    assert!(
+        started.elapsed() < Duration::from_secs(5),
+        "the stalled batches ended after {:?}",
+        started.elapsed()
+    );
+    for r in &answers {
+        let lines: Vec<Value> = r
+            .text()
+            .lines()
+            .map(|l| serde_json::from_str(l).expect("an NDJSON line"))
+            .collect();
+        assert_eq!(
+            lines.len(),
+            2,
+            "the answered line, then the closing problem"
+        );
+        assert_eq!(lines[0]["ok"], true);
+        assert_eq!(lines[1]["problem"]["type"], "/api#problem-timeout");
+    }
+    assert_eq!(after.status, 200, "a new batch runs: {}", after.text());
+    assert_eq!(after.text().lines().count(), 1);
 }
