@@ -11,7 +11,7 @@ use residue::engine::plan::{first_at_or_below, post, Extra, PlanOptions};
 use residue::engine::rate::{AnnualRate, Frequency};
 use residue::engine::recurrence::{Input, Recurrence};
 use residue::engine::savings::{
-    plan as savings_plan, Flow, Growth, GrowthEvery, Question, SavingsTerms, Timing,
+    plan as savings_plan, repost, Flow, Growth, GrowthEvery, Question, SavingsTerms, Timing,
 };
 use residue::engine::schedule::{schedule, schedule_for_comparison, LoanTerm, LoanTerms};
 use rust_decimal::Decimal;
@@ -154,6 +154,9 @@ fn benches(c: &mut Criterion) {
     let form = solved.form.clone();
     c.bench_function("savings_final_balance_closed_form_480", |b| {
         b.iter(|| form.balance_at(black_box(480)).unwrap())
+    });
+    c.bench_function("savings_posted_ledger_480", |b| {
+        b.iter(|| repost(black_box(&solved)).unwrap())
     });
     c.bench_function("savings_plan_job_480_with_ledger", |b| {
         b.iter(|| savings_plan(black_box(&savings)).unwrap())

@@ -508,6 +508,23 @@ impl Posting {
     }
 }
 
+/// Posts a solved plan's ledger again for as many periods as it has: the posting
+/// alone (for benchmarks and checks).
+///
+/// # Errors
+/// As the posting of [`plan`].
+pub fn repost(p: &SavingsPlan) -> Result<SavingsLedger> {
+    post(
+        &p.form.shape,
+        p.terms.opening_balance,
+        p.flow,
+        p.step,
+        p.periodic_rate,
+        p.terms.currency,
+        Posting::periods(p.ledger.rows.len() as u32),
+    )
+}
+
 /// Posts the plan: interest rounded half up to the minor unit each period, growing
 /// deposits rounded half up to the minor unit; a withdrawal never takes more than
 /// the balance (the last one is then smaller and the ledger stops).

@@ -252,14 +252,19 @@ fn schedule_inner(
         }
         LoanTerm::Payment(_) => None,
     };
-    let base = if options.extras.is_empty() {
+    // A comparison shows neither milestones nor savings against the loan without
+    // extras (its rows compare plans with each other), so it skips both.
+    let base = if options.extras.is_empty() || !reconcile_ledger {
         None
     } else {
         Some(post_with(terms, options, false, false)?)
     };
     let milestone_base = base.as_ref().unwrap_or(&plan);
-    let (milestones, milestone_notes) =
-        milestones(&plan, milestone_base, options.property_value, currency)?;
+    let (milestones, milestone_notes) = if reconcile_ledger {
+        milestones(&plan, milestone_base, options.property_value, currency)?
+    } else {
+        (Milestones::default(), Vec::new())
+    };
     notes.extend(plan.notes.iter().cloned());
     notes.extend(milestone_notes);
     if plan.odd_days != 0 {
