@@ -4,6 +4,7 @@
 use std::hint::black_box;
 
 use criterion::{criterion_group, criterion_main, Criterion};
+use residue::engine::apr::{solve_apr, UnitFlow, UnitPeriod};
 use residue::engine::ledger::{post_level, reconcile};
 use residue::engine::loan::{payment_for_term, rate_for_payment, solve_balance};
 use residue::engine::money::{Currency, InterestRounding, PaymentRounding};
@@ -168,8 +169,39 @@ fn benches(c: &mut Criterion) {
         },
         ..savings.clone()
     };
+    // The same job without the search, over the number of periods the search finds:
+    // the difference of the two is the search itself.
+    let found = savings_plan(&to_goal).unwrap().ledger.rows.len() as u32;
+    let same_length = SavingsTerms {
+        question: Question::FinalBalance {
+            flow: Flow::Deposit(d("350")),
+            periods: found,
+        },
+        ..savings.clone()
+    };
+    c.bench_function("savings_same_plan_without_the_search", |b| {
+        b.iter(|| savings_plan(black_box(&same_length)).unwrap())
+    });
     c.bench_function("savings_periods_to_goal_growing_job", |b| {
         b.iter(|| savings_plan(black_box(&to_goal)).unwrap())
+    });
+    // APR (Regulation Z Appendix J): a 360-payment level loan as one run, and 100 irregular flows.
+    let advance = [UnitFlow::single(d("245000"), 0, Decimal::ZERO)];
+    let level = [UnitFlow::run(payment, 1, Decimal::ZERO, 360)];
+    c.bench_function("apr_360_payment_level_loan", |b| {
+        b.iter(|| solve_apr(black_box(&advance), &level, UnitPeriod::Month).unwrap())
+    });
+    let irregular: Vec<UnitFlow> = (1..=100u32)
+        .map(|k| {
+            UnitFlow::single(
+                Decimal::from(2600 + (k * 37) % 500),
+                k,
+                Decimal::new(i64::from(k % 7), 1),
+            )
+        })
+        .collect();
+    c.bench_function("apr_100_irregular_flows", |b| {
+        b.iter(|| solve_apr(black_box(&advance), &irregular, UnitPeriod::Month).unwrap())
     });
     c.bench_function("milestone_lookup_80_percent_closed_form", |b| {
         b.iter(|| first_at_or_below(black_box(&cf), d("200000"), 0, 359).unwrap())

@@ -1023,12 +1023,24 @@ fn walk_from(estimate: u32, done: &dyn Fn(u32) -> Result<bool>) -> Result<Option
 
 /// The smallest n in 1..=MAX_PERIODS with done(n) by bisection (done monotone, false at 0),
 /// with the number of evaluations.
+///
+/// The bracket is found by doubling from 16 periods (most goals are reached long
+/// before the 6,000-period limit, and early periods have cheaper powers), then
+/// bisected.
 fn bisect(done: &dyn Fn(u32) -> Result<bool>) -> Result<Option<(u32, u32)>> {
-    let mut evaluations = 1;
-    if !done(MAX_PERIODS)? {
-        return Ok(None);
+    let mut evaluations = 0;
+    let (mut lo, mut hi) = (0u32, 16u32);
+    loop {
+        evaluations += 1;
+        if done(hi)? {
+            break;
+        }
+        if hi == MAX_PERIODS {
+            return Ok(None);
+        }
+        lo = hi;
+        hi = (hi * 2).min(MAX_PERIODS);
     }
-    let (mut lo, mut hi) = (0u32, MAX_PERIODS);
     while hi - lo > 1 {
         let mid = lo + (hi - lo) / 2;
         evaluations += 1;
