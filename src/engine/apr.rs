@@ -368,12 +368,12 @@ fn unit_equation(
     let mut slope = Decimal::ZERO;
     for (flows, sign) in [(payments, Decimal::ONE), (advances, Decimal::NEGATIVE_ONE)] {
         for flow in flows {
-            let (pv, dpv) = flow_present_value(flow, i, v)?;
+            let (discounted, discounted_slope) = flow_present_value(flow, i, v)?;
             value = value
-                .checked_add(sign * pv)
+                .checked_add(sign * discounted)
                 .or_overflow("the rate equation")?;
             slope = slope
-                .checked_add(sign * dpv)
+                .checked_add(sign * discounted_slope)
                 .or_overflow("the slope of the rate equation")?;
         }
     }
@@ -1298,17 +1298,19 @@ fn aprc_equation(
         (drawdowns, Decimal::NEGATIVE_ONE),
     ] {
         for flow in flows {
-            let pv = flow
+            let discounted = flow
                 .amount
                 .checked_mul(discount(flow.years, v, log)?)
                 .or_overflow(what)?;
             // d/dX (1 + X)^(−t) = −t·(1 + X)^(−t)·v
-            let dpv = -(pv
+            let discounted_slope = -(discounted
                 .checked_mul(flow.years)
                 .and_then(|p| p.checked_mul(v))
                 .or_overflow(what)?);
-            value = value.checked_add(sign * pv).or_overflow(what)?;
-            slope = slope.checked_add(sign * dpv).or_overflow(what)?;
+            value = value.checked_add(sign * discounted).or_overflow(what)?;
+            slope = slope
+                .checked_add(sign * discounted_slope)
+                .or_overflow(what)?;
         }
     }
     Ok((value, slope))
@@ -1325,9 +1327,9 @@ fn aprc_equation_f64(
         for flow in flows {
             let a = flow.amount.to_f64()?;
             let t = flow.years.to_f64()?;
-            let pv = a * (1.0 + x).powf(-t);
-            value += sign * pv;
-            slope += sign * (-t * pv / (1.0 + x));
+            let discounted = a * (1.0 + x).powf(-t);
+            value += sign * discounted;
+            slope += sign * (-t * discounted / (1.0 + x));
         }
     }
     (value.is_finite() && slope.is_finite()).then_some((value, slope))

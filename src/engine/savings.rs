@@ -1693,26 +1693,26 @@ mod tests {
 
     #[test]
     fn future_value_of_an_ordinary_annuity() {
-        // FV = P·((1 + i)^n − 1)/i (common practice, no source): 100 a month for 120
+        // Future value = P·((1 + i)^n − 1)/i (common practice, no source): 100 a month for 120
         // months at 0.5 % a month.
         let s = shape("0.005", 12, Timing::End, Pattern::Level);
-        let fv = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
+        let accumulated = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
         let want = d("100") * (d("1.005").powi(120) - Decimal::ONE) / d("0.005");
-        close(fv.balance_at(120).unwrap(), want, "1e-18");
+        close(accumulated.balance_at(120).unwrap(), want, "1e-18");
         // Rounded to the cent: 16387.93 (the same formula, evaluated here).
         assert_eq!(Currency::USD.format(want), "16387.93");
     }
 
     #[test]
     fn future_value_of_an_annuity_due_is_the_ordinary_one_times_one_plus_i() {
-        // FV_due = P·((1 + i)^n − 1)/i·(1 + i) (common practice, no source).
+        // Future value of an annuity due = P·((1 + i)^n − 1)/i·(1 + i) (common practice, no source).
         let s = shape("0.005", 12, Timing::Start, Pattern::Level);
-        let fv = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
+        let accumulated = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
         let want = d("100") * (d("1.005").powi(120) - Decimal::ONE) / d("0.005") * d("1.005");
-        close(fv.balance_at(120).unwrap(), want, "1e-18");
+        close(accumulated.balance_at(120).unwrap(), want, "1e-18");
         // The derivation's recurrence is the end-of-period one with the deposit a·d.
         assert_eq!(
-            fv.period.recurrence.inputs,
+            accumulated.period.recurrence.inputs,
             vec![Input::Step {
                 amount: d("100.500")
             }]
@@ -1721,7 +1721,7 @@ mod tests {
 
     #[test]
     fn growing_annuity_matches_its_formula() {
-        // FV = P·(a^n − g^n)/(a − g) for deposits P·g^k at the end of period k + 1
+        // Future value = P·(a^n − g^n)/(a − g) for deposits P·g^k at the end of period k + 1
         // (common practice, no source).
         let s = shape(
             "0.004",
@@ -1729,9 +1729,9 @@ mod tests {
             Timing::End,
             Pattern::EachPeriod { ratio: d("1.002") },
         );
-        let fv = s.solve(d("0"), d("250"), Decimal::ZERO).unwrap();
+        let accumulated = s.solve(d("0"), d("250"), Decimal::ZERO).unwrap();
         let want = d("250") * (d("1.004").powi(240) - d("1.002").powi(240)) / d("0.002");
-        close(fv.balance_at(240).unwrap(), want, "1e-16");
+        close(accumulated.balance_at(240).unwrap(), want, "1e-16");
     }
 
     #[test]
@@ -1743,29 +1743,29 @@ mod tests {
             Timing::End,
             Pattern::EachPeriod { ratio: d("1.004") },
         );
-        let fv = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
-        assert!(fv
+        let accumulated = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
+        assert!(accumulated
             .period
             .fractions
             .iter()
             .any(|f| f.pole == d("1.004") && f.multiplicity == 2));
         let want = d("100") * d("360") * d("1.004").powi(359);
-        close(fv.balance_at(360).unwrap(), want, "1e-16");
+        close(accumulated.balance_at(360).unwrap(), want, "1e-16");
     }
 
     #[test]
     fn zero_interest_level_deposits_have_a_double_pole_at_one() {
         let s = shape("0", 12, Timing::End, Pattern::Level);
-        let fv = s.solve(d("500"), d("25"), Decimal::ZERO).unwrap();
-        assert_eq!(fv.period.fractions.len(), 1);
+        let accumulated = s.solve(d("500"), d("25"), Decimal::ZERO).unwrap();
+        assert_eq!(accumulated.period.fractions.len(), 1);
         assert_eq!(
             (
-                fv.period.fractions[0].pole,
-                fv.period.fractions[0].multiplicity
+                accumulated.period.fractions[0].pole,
+                accumulated.period.fractions[0].multiplicity
             ),
             (Decimal::ONE, 2)
         );
-        assert_eq!(fv.balance_at(48).unwrap().normalize(), d("1700"));
+        assert_eq!(accumulated.balance_at(48).unwrap().normalize(), d("1700"));
     }
 
     #[test]
@@ -1777,9 +1777,9 @@ mod tests {
             Timing::End,
             Pattern::EachPeriod { ratio: d("1.01") },
         );
-        let fv = s.solve(Decimal::ZERO, d("10"), Decimal::ZERO).unwrap();
+        let accumulated = s.solve(Decimal::ZERO, d("10"), Decimal::ZERO).unwrap();
         close(
-            fv.balance_at(100).unwrap(),
+            accumulated.balance_at(100).unwrap(),
             d("10") * (d("1.01").powi(100) - Decimal::ONE) / d("0.01"),
             "1e-18",
         );
@@ -1793,18 +1793,22 @@ mod tests {
                 ratio: Decimal::ONE,
             },
         );
-        let fv = s.solve(Decimal::ZERO, d("100"), d("10")).unwrap();
-        let yearly = fv.yearly.as_ref().unwrap();
+        let accumulated = s.solve(Decimal::ZERO, d("100"), d("10")).unwrap();
+        let yearly = accumulated.yearly.as_ref().unwrap();
         assert_eq!(yearly.year.fractions[0].pole, Decimal::ONE);
         assert_eq!(yearly.year.fractions[0].multiplicity, 3);
         // 12·Σ_{y<5} (100 + 10y) = 12·(500 + 100) = 7200.
-        assert_eq!(fv.balance_at(60).unwrap().normalize(), d("7200"));
+        assert_eq!(accumulated.balance_at(60).unwrap().normalize(), d("7200"));
         // Each year by a percentage: poles at 1 and g.
         let s = shape("0", 12, Timing::End, Pattern::EachYear { ratio: d("1.03") });
-        let fv = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
+        let accumulated = s.solve(Decimal::ZERO, d("100"), Decimal::ZERO).unwrap();
         let stepped = stepped(&s, Decimal::ZERO, d("100"), Decimal::ZERO, 120);
         for k in [0u32, 1, 11, 12, 13, 59, 60, 119, 120] {
-            close(fv.balance_at(k).unwrap(), stepped[k as usize], "1e-18");
+            close(
+                accumulated.balance_at(k).unwrap(),
+                stepped[k as usize],
+                "1e-18",
+            );
         }
     }
 
@@ -1812,11 +1816,15 @@ mod tests {
     fn yearly_growth_two_level_form_matches_stepping_with_staircase_deposits() {
         for timing in [Timing::End, Timing::Start] {
             let s = shape("0.0035", 12, timing, Pattern::EachYear { ratio: d("1.03") });
-            let fv = s.solve(d("1000"), d("200"), d("15")).unwrap();
+            let accumulated = s.solve(d("1000"), d("200"), d("15")).unwrap();
             let want = stepped(&s, d("1000"), d("200"), d("15"), 480);
-            let all = fv.balances(480).unwrap();
+            let all = accumulated.balances(480).unwrap();
             for k in 0..=480u32 {
-                close(fv.balance_at(k).unwrap(), want[k as usize], "1e-17");
+                close(
+                    accumulated.balance_at(k).unwrap(),
+                    want[k as usize],
+                    "1e-17",
+                );
                 close(all[k as usize], want[k as usize], "1e-17");
             }
         }
@@ -1831,15 +1839,15 @@ mod tests {
             Timing::End,
             Pattern::EachYear { ratio: d("1.05") },
         );
-        let fv = s.solve(Decimal::ZERO, d("1000"), Decimal::ZERO).unwrap();
-        let yearly = fv.yearly.as_ref().unwrap();
+        let accumulated = s.solve(Decimal::ZERO, d("1000"), Decimal::ZERO).unwrap();
+        let yearly = accumulated.yearly.as_ref().unwrap();
         assert!(yearly
             .year
             .fractions
             .iter()
             .any(|f| f.pole == d("1.05") && f.multiplicity == 2));
         close(
-            fv.balance_at(30).unwrap(),
+            accumulated.balance_at(30).unwrap(),
             d("1000") * d("30") * d("1.05").powi(29),
             "1e-16",
         );

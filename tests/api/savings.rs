@@ -158,13 +158,13 @@ fn three_hundred_fifty_a_month_for_eight_years_at_4_1_percent_matches_the_ordina
     assert_eq!(summary["deposit"], "350.00");
     assert_eq!(summary["total_deposited"], "33600.00");
     assert_eq!(summary["goal_reached_at"], Value::Null);
-    // FV = P·((1 + i)^n − 1)/i (common practice, no source); the posted ledger rounds
+    // Future value = P·((1 + i)^n − 1)/i (common practice, no source); the posted ledger rounds
     // each period's interest, so it may differ by a few cents.
-    let fv = dec("350") * ((Decimal::ONE + i).powi(96) - Decimal::ONE) / i;
+    let accumulated = dec("350") * ((Decimal::ONE + i).powi(96) - Decimal::ONE) / i;
     let final_balance = dec_of(&summary["final_balance"]);
     assert!(
-        (final_balance - fv).abs() < dec("0.50"),
-        "{final_balance} vs {fv}"
+        (final_balance - accumulated).abs() < dec("0.50"),
+        "{final_balance} vs {accumulated}"
     );
     let want = simulate(Decimal::ZERO, i, std::iter::repeat_n(dec("350"), 96), false);
     assert_ledger_matches(&s, &want);
@@ -176,7 +176,10 @@ fn three_hundred_fifty_a_month_for_eight_years_at_4_1_percent_matches_the_ordina
         .iter()
         .map(|m| dec_of(&m["polynomial"][0]) * dec_of(&m["pole"]).powi(96))
         .sum();
-    assert!((x96 - fv).abs() < dec("1e-15"), "{x96} vs {fv}");
+    assert!(
+        (x96 - accumulated).abs() < dec("1e-15"),
+        "{x96} vs {accumulated}"
+    );
     // Regulation DD (12 CFR 1030) Appendix A, Part I.A: a 365-day year's interest on
     // 1,000 at 4.1 % compounded monthly is 1000·((1 + 0.041/12)^12 − 1) = 41.78…, so
     // APY = 100·41.78…/1000 = 4.18.
@@ -209,12 +212,13 @@ fn deposits_at_the_start_of_each_period_match_the_annuity_due_and_say_so() {
     );
 
     // Assert
-    // FV_due = P·((1 + i)^n − 1)/i·(1 + i) (common practice, no source).
-    let fv = dec("100") * ((Decimal::ONE + i).powi(120) - Decimal::ONE) / i * (Decimal::ONE + i);
+    // Future value of an annuity due = P·((1 + i)^n − 1)/i·(1 + i) (common practice, no source).
+    let accumulated =
+        dec("100") * ((Decimal::ONE + i).powi(120) - Decimal::ONE) / i * (Decimal::ONE + i);
     let final_balance = dec_of(&s["summary"]["final_balance"]);
     assert!(
-        (final_balance - fv).abs() < dec("0.50"),
-        "{final_balance} vs {fv}"
+        (final_balance - accumulated).abs() < dec("0.50"),
+        "{final_balance} vs {accumulated}"
     );
     let input = &s["derivation"]["period"]["recurrence"]["inputs"][0];
     assert_eq!(input["kind"], "step");
