@@ -494,3 +494,29 @@ proptest! {
         }
     }
 }
+
+/// Regression (found by `no_input_in_range_panics`): deposits growing 45.53 % a year for
+/// 2,023 months push the balance past 96 bits; the posting must answer an overflow error,
+/// not panic.
+#[test]
+fn a_balance_beyond_decimal_range_is_an_error_not_a_panic() {
+    let terms = SavingsTerms {
+        opening_balance: Decimal::ZERO,
+        currency: Currency::USD,
+        rate: AnnualRate::from_percent(Decimal::new(1, 2)).unwrap(),
+        frequency: Frequency::Monthly,
+        compounding: None,
+        timing: Timing::Start,
+        growth: Some(Growth {
+            percent: Decimal::new(4553, 2),
+            every: GrowthEvery::Year,
+        }),
+        deposit_step: Decimal::ZERO,
+        question: Question::FinalBalance {
+            flow: Flow::Deposit(Decimal::new(1, 2)),
+            periods: 2023,
+        },
+        start_date: Some("2027-01-31".parse().unwrap()),
+    };
+    let _ = plan(&terms);
+}

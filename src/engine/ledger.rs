@@ -80,7 +80,9 @@ impl InterestPoster {
             };
             return Ok(if up { q + product.signum() } else { q });
         }
-        let b = Decimal::from_i128_with_scale(balance, self.minor_units);
+        // A balance beyond 96 bits of mantissa is beyond decimal arithmetic too.
+        let b = Decimal::try_from_i128_with_scale(balance, self.minor_units)
+            .map_err(|_| EngineError::overflow("a balance"))?;
         let exact = b
             .checked_mul(self.rate)
             .or_overflow("a period's interest")?;
