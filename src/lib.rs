@@ -7,6 +7,7 @@
 //! - [`server`]: router, middleware and shutdown.
 
 pub mod api;
+pub mod cache;
 pub mod engine;
 pub mod metrics;
 pub mod server;

@@ -22,6 +22,17 @@ struct Args {
     /// Longest time a request may take, in seconds.
     #[arg(long, env = "RESIDUE_REQUEST_TIMEOUT_SECS", default_value_t = 10)]
     request_timeout_secs: u64,
+    /// Megabytes of computed GET answers kept for repeated requests (0 turns the store off).
+    #[arg(long, env = "RESIDUE_ANSWER_CACHE_MB", default_value_t = 32)]
+    answer_cache_mb: usize,
+    /// Origins whose browser scripts may read the answers (CORS), comma-separated;
+    /// `*` allows any. None by default.
+    #[arg(
+        long = "cors-origin",
+        env = "RESIDUE_CORS_ORIGINS",
+        value_delimiter = ','
+    )]
+    cors_origins: Vec<String>,
 }
 
 #[tokio::main]
@@ -38,6 +49,13 @@ async fn main() -> std::io::Result<()> {
         max_body_bytes: args.max_body_bytes,
         max_in_flight: args.max_in_flight,
         request_timeout: Duration::from_secs(args.request_timeout_secs.max(1)),
+        answer_cache_bytes: args.answer_cache_mb.saturating_mul(1024 * 1024),
+        cors_origins: args
+            .cors_origins
+            .into_iter()
+            .map(|o| o.trim().trim_end_matches('/').to_string())
+            .filter(|o| !o.is_empty())
+            .collect(),
     };
     let (listener, local) = bind(config.addr).await?;
     tracing::info!("residue listening on http://{local}");

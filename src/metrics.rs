@@ -27,6 +27,7 @@ pub struct Metrics {
     problems: Mutex<BTreeMap<&'static str, u64>>,
     batch_lines: AtomicU64,
     in_flight_refused: AtomicU64,
+    cache_hits: AtomicU64,
 }
 
 impl Metrics {
@@ -56,6 +57,10 @@ impl Metrics {
         if slug == "overloaded" {
             self.in_flight_refused.fetch_add(1, Ordering::Relaxed);
         }
+    }
+
+    pub fn add_cache_hit(&self) {
+        self.cache_hits.fetch_add(1, Ordering::Relaxed);
     }
 
     pub fn add_batch_lines(&self, n: u64) {
@@ -113,6 +118,12 @@ impl Metrics {
             out,
             "residue_batch_lines_total {}",
             self.batch_lines.load(Ordering::Relaxed)
+        );
+        out.push_str("# HELP residue_answer_cache_hits_total GET answers served from the answer store.\n# TYPE residue_answer_cache_hits_total counter\n");
+        let _ = writeln!(
+            out,
+            "residue_answer_cache_hits_total {}",
+            self.cache_hits.load(Ordering::Relaxed)
         );
         out
     }

@@ -6,7 +6,7 @@ use std::sync::Arc;
 use std::time::{Duration, Instant};
 
 use axum::extract::{Request, State};
-use axum::http::{header, HeaderValue, Method};
+use axum::http::{header, HeaderValue, Method, StatusCode};
 use axum::middleware::{self, Next};
 use axum::response::{IntoResponse, Response};
 use axum::routing::{get, post};
@@ -16,6 +16,7 @@ use tokio::sync::Semaphore;
 
 use crate::api::handlers;
 use crate::api::problem::{ApiError, ProblemKind};
+use crate::cache::{AnswerCache, Stored};
 use crate::web;
 
 /// Limits and addresses, from flags or environment variables (see `main.rs`).
@@ -28,6 +29,10 @@ pub struct Config {
     pub max_in_flight: usize,
     /// The longest a request may take before it is answered 503.
     pub request_timeout: Duration,
+    /// Bytes of computed GET answers kept for repeated requests (0: none).
+    pub answer_cache_bytes: usize,
+    /// Origins allowed to read answers from a browser (CORS); empty: none, `*`: any.
+    pub cors_origins: Vec<String>,
 }
 
 impl Default for Config {
@@ -37,6 +42,8 @@ impl Default for Config {
             max_body_bytes: 1024 * 1024,
             max_in_flight: 16,
             request_timeout: Duration::from_secs(10),
+            answer_cache_bytes: 32 * 1024 * 1024,
+            cors_origins: Vec::new(),
         }
     }
 }
@@ -49,13 +56,16 @@ pub struct AppState {
     /// Batches running at once (each streams many jobs).
     pub batches: Arc<Semaphore>,
     pub metrics: Arc<crate::metrics::Metrics>,
+    pub cache: Arc<AnswerCache>,
     next_request_id: Arc<AtomicU64>,
 }
 
 impl AppState {
     pub fn new(config: Config) -> Self {
         let permits = config.max_in_flight.max(1);
+        let cache = Arc::new(AnswerCache::new(config.answer_cache_bytes));
         Self {
+            cache,
             config: Arc::new(config),
             in_flight: Arc::new(Semaphore::new(permits)),
             batches: Arc::new(Semaphore::new(2)),
@@ -154,6 +164,80 @@ async fn method_not_allowed(method: Method) -> ApiError {
 /// (otherwise CPU-bound requests would queue inside the runtime without bound).
 /// The time limit is applied on that thread too, so an abandoned request ends there.
 async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next) -> Response {
+    let key = cache_key(&state, &req);
+    let if_none_match = req.headers().get(header::IF_NONE_MATCH).cloned();
+    if let Some(hit) = key.as_deref().and_then(|k| state.cache.get(k)) {
+        state.metrics.add_cache_hit();
+        return stored_answer(&hit, if_none_match.as_ref());
+    }
+    let response = compute(&state, req, next).await;
+    match key {
+        Some(key) if response.status() == StatusCode::OK => {
+            let (parts, body) = response.into_parts();
+            let Ok(bytes) = axum::body::to_bytes(body, usize::MAX).await else {
+                return ApiError::new(ProblemKind::Internal, "the answer could not be read")
+                    .into_response();
+            };
+            let headers = [header::CONTENT_TYPE, header::CONTENT_DISPOSITION]
+                .into_iter()
+                .filter_map(|name| parts.headers.get(&name).map(|v| (name, v.clone())))
+                .collect();
+            // A copy of exactly the body's size: the buffer it was written into is larger.
+            let stored = state
+                .cache
+                .put(key, headers, axum::body::Bytes::copy_from_slice(&bytes));
+            stored_answer(&stored, if_none_match.as_ref())
+        }
+        _ => response,
+    }
+}
+
+/// The key of a GET answer that may be stored: the address with its query and
+/// the Accept header (CSV can be asked for by Accept). Static files are served
+/// with their own validators and are not stored.
+fn cache_key(state: &AppState, req: &Request) -> Option<String> {
+    if !state.cache.enabled()
+        || req.method() != Method::GET
+        || req.uri().path().starts_with("/static/")
+    {
+        return None;
+    }
+    let accept = req
+        .headers()
+        .get(header::ACCEPT)
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("");
+    let target = req
+        .uri()
+        .path_and_query()
+        .map_or("/", axum::http::uri::PathAndQuery::as_str);
+    Some(format!("{target}\n{accept}"))
+}
+
+/// A stored answer, or 304 when the client already holds it.
+fn stored_answer(stored: &Stored, if_none_match: Option<&HeaderValue>) -> Response {
+    let held = if_none_match
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|v| {
+            v.split(',')
+                .any(|t| t.trim() == "*" || t.trim() == stored.etag.to_str().unwrap_or(""))
+        });
+    let mut response = if held {
+        StatusCode::NOT_MODIFIED.into_response()
+    } else {
+        let mut r = Response::new(axum::body::Body::from(stored.body.clone()));
+        for (name, value) in &stored.headers {
+            r.headers_mut().insert(name.clone(), value.clone());
+        }
+        r
+    };
+    response
+        .headers_mut()
+        .insert(header::ETAG, stored.etag.clone());
+    response
+}
+
+async fn compute(state: &AppState, req: Request, next: Next) -> Response {
     let Ok(permit) = state.in_flight.clone().try_acquire_owned() else {
         return ApiError::new(
             ProblemKind::Overloaded,
@@ -187,6 +271,16 @@ async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next)
 /// Security headers on every answer; one log line per request with its id.
 async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next) -> Response {
     let id = state.next_request_id.fetch_add(1, Ordering::Relaxed);
+    let origin = allowed_origin(&state.config, &req);
+    if let Some(origin) = &origin {
+        if req.method() == Method::OPTIONS
+            && req
+                .headers()
+                .contains_key(header::ACCESS_CONTROL_REQUEST_METHOD)
+        {
+            return preflight(origin);
+        }
+    }
     let method = req.method().clone();
     let path = req.uri().path().to_string();
     let route = req
@@ -196,21 +290,26 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
     let started = Instant::now();
     let mut response = next.run(req).await;
     let h = response.headers_mut();
-    h.insert(
-        header::CONTENT_SECURITY_POLICY,
-        HeaderValue::from_static(
-            "default-src 'none'; style-src 'self'; img-src 'self' data:; script-src 'self'; form-action 'self'; base-uri 'none'; frame-ancestors 'none'",
-        ),
+    set_static(
+        h,
+        &[
+            (
+                header::CONTENT_SECURITY_POLICY,
+                "default-src 'none'; style-src 'self'; img-src 'self' data:; script-src 'self'; form-action 'self'; base-uri 'none'; frame-ancestors 'none'",
+            ),
+            (header::X_CONTENT_TYPE_OPTIONS, "nosniff"),
+            (header::REFERRER_POLICY, "no-referrer"),
+            (header::X_FRAME_OPTIONS, "DENY"),
+        ],
     );
-    h.insert(
-        header::X_CONTENT_TYPE_OPTIONS,
-        HeaderValue::from_static("nosniff"),
-    );
-    h.insert(
-        header::REFERRER_POLICY,
-        HeaderValue::from_static("no-referrer"),
-    );
-    h.insert(header::X_FRAME_OPTIONS, HeaderValue::from_static("DENY"));
+    if let Some(origin) = origin {
+        h.insert(header::ACCESS_CONTROL_ALLOW_ORIGIN, origin);
+        h.insert(
+            header::ACCESS_CONTROL_EXPOSE_HEADERS,
+            HeaderValue::from_static("etag, retry-after, x-request-id"),
+        );
+        h.append(header::VARY, HeaderValue::from_static("origin"));
+    }
     if let Ok(v) = HeaderValue::from_str(&id.to_string()) {
         h.insert("x-request-id", v);
     }
@@ -225,6 +324,46 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         tracing::info!(request_id = id, %method, path, status, micros = started.elapsed().as_micros() as u64, "request");
     }
     response
+}
+
+/// The request's Origin when the configuration lets it read answers.
+fn allowed_origin(config: &Config, req: &Request) -> Option<HeaderValue> {
+    if config.cors_origins.is_empty() {
+        return None;
+    }
+    let origin = req.headers().get(header::ORIGIN)?;
+    let text = origin.to_str().ok()?;
+    config
+        .cors_origins
+        .iter()
+        .any(|o| o == "*" || o.eq_ignore_ascii_case(text))
+        .then(|| origin.clone())
+}
+
+/// The answer to a CORS preflight from an allowed origin.
+fn preflight(origin: &HeaderValue) -> Response {
+    let mut r = StatusCode::NO_CONTENT.into_response();
+    let h = r.headers_mut();
+    h.insert(header::ACCESS_CONTROL_ALLOW_ORIGIN, origin.clone());
+    set_static(
+        h,
+        &[
+            (header::ACCESS_CONTROL_ALLOW_METHODS, "GET, POST"),
+            (
+                header::ACCESS_CONTROL_ALLOW_HEADERS,
+                "content-type, accept, if-none-match",
+            ),
+            (header::ACCESS_CONTROL_MAX_AGE, "600"),
+            (header::VARY, "origin"),
+        ],
+    );
+    r
+}
+
+fn set_static(h: &mut axum::http::HeaderMap, pairs: &[(header::HeaderName, &'static str)]) {
+    for (name, value) in pairs {
+        h.insert(name.clone(), HeaderValue::from_static(value));
+    }
 }
 
 /// Binds the listener (port 0 picks a free one) and returns it with its address.

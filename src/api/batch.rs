@@ -35,17 +35,16 @@ enum Detail {
     Full,
 }
 
-fn to_value<T: Serialize>(v: &T) -> Result<Value, ApiError> {
-    serde_json::to_value(v)
+fn to_bytes<T: Serialize>(v: &T) -> Result<Vec<u8>, ApiError> {
+    serde_json::to_vec(v)
         .map_err(|_| ApiError::new(ProblemKind::Internal, "the answer could not be written"))
 }
 
-/// Keeps only the summary and the notes of a full answer.
-fn summarize(mut v: Value) -> Value {
-    if let Value::Object(m) = &mut v {
-        m.retain(|k, _| k == "summary" || k == "notes");
-    }
-    v
+/// The summary and the notes of a full answer, in that order.
+#[derive(Serialize)]
+struct SummaryOnly<'a, S: Serialize> {
+    summary: &'a S,
+    notes: &'a [String],
 }
 
 fn members(request: &Json) -> Result<&[(String, Json)], ApiError> {
@@ -58,7 +57,8 @@ fn members(request: &Json) -> Result<&[(String, Json)], ApiError> {
     }
 }
 
-fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Value, ApiError> {
+/// Runs one job and writes its result as JSON.
+fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Vec<u8>, ApiError> {
     let fields = |m| {
         Fields::new(Source::Json {
             members: m,
@@ -70,16 +70,19 @@ fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Value, ApiError>
             let r = super::loans::schedule_request_from(fields(members(request)?))?;
             let s = crate::engine::schedule::schedule_with(&r.terms, &r.options)
                 .map_err(|e| ApiError::from_engine(e, "/"))?;
-            let v = to_value(&super::loans::LoanScheduleDto::from_schedule(&s))?;
-            Ok(if detail == Detail::Summary {
-                summarize(v)
+            let dto = super::loans::LoanScheduleDto::from_schedule(&s);
+            if detail == Detail::Summary {
+                to_bytes(&SummaryOnly {
+                    summary: &dto.summary,
+                    notes: &dto.notes,
+                })
             } else {
-                v
-            })
+                to_bytes(&dto)
+            }
         }
-        "loan_check" => to_value(&super::check::check_answer(fields(members(request)?))?),
-        "apr" => to_value(&super::apr::answer(&super::apr::read_json(request)?)?),
-        "apy" => to_value(&super::apy::answer(
+        "loan_check" => to_bytes(&super::check::check_answer(fields(members(request)?))?),
+        "apr" => to_bytes(&super::apr::answer(&super::apr::read_json(request)?)?),
+        "apy" => to_bytes(&super::apy::answer(
             &super::apy::read_apy(fields(members(request)?))?,
             "/",
         )?),
@@ -87,12 +90,15 @@ fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Value, ApiError>
             let terms = super::savings::savings_terms_from(fields(members(request)?))?;
             let p =
                 crate::engine::savings::plan(&terms).map_err(|e| ApiError::from_engine(e, "/"))?;
-            let v = to_value(&super::savings::SavingsPlanDto::from_plan(&p))?;
-            Ok(if detail == Detail::Summary {
-                summarize(v)
+            let dto = super::savings::SavingsPlanDto::from_plan(&p);
+            if detail == Detail::Summary {
+                to_bytes(&SummaryOnly {
+                    summary: &dto.summary,
+                    notes: &dto.notes,
+                })
             } else {
-                v
-            })
+                to_bytes(&dto)
+            }
         }
         _ => unreachable!("the job name is checked before"),
     }
@@ -118,6 +124,41 @@ fn json_to_value(j: &Json) -> Value {
     }
 }
 
+/// Answers the lines `jobs` (start, end, line number) of `text`, in order. A
+/// chunk's lines are split between the runtime thread and one blocking thread,
+/// so a batch uses two cores; the answers are joined back in the lines' order.
+async fn answer_lines(text: &[u8], jobs: &[(usize, usize, usize)]) -> Vec<u8> {
+    let run = |text: &[u8], jobs: &[(usize, usize, usize)]| {
+        let mut out = Vec::with_capacity(jobs.len() * 1024);
+        for (from, to, number) in jobs {
+            out.extend(answer_line(&text[*from..*to], *number));
+        }
+        out
+    };
+    if jobs.len() < 8 {
+        return tokio::task::block_in_place(|| run(text, jobs));
+    }
+    let half = jobs.len() / 2;
+    let offset = jobs[half].0;
+    let end = jobs[jobs.len() - 1].1;
+    let second_text: Vec<u8> = text[offset..end].to_vec();
+    let second_jobs: Vec<(usize, usize, usize)> = jobs[half..]
+        .iter()
+        .map(|(f, t, n)| (f - offset, t - offset, *n))
+        .collect();
+    let second = tokio::task::spawn_blocking(move || run(&second_text, &second_jobs));
+    let mut out = tokio::task::block_in_place(|| run(text, &jobs[..half]));
+    match second.await {
+        Ok(rest) => out.extend(rest),
+        Err(_) => {
+            for (from, to, number) in &jobs[half..] {
+                out.extend(answer_line(&text[*from..*to], *number));
+            }
+        }
+    }
+    out
+}
+
 /// Answers one line (never fails: a failure is the line's problem).
 pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
     let (id, outcome) = match json::parse(line) {
@@ -133,16 +174,26 @@ pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
             (id, answer_parsed(&v))
         }
     };
-    let out = match outcome {
-        Ok(result) => serde_json::json!({"id": id, "ok": true, "result": result}),
-        Err(problem) => serde_json::json!({"id": id, "ok": false, "problem": problem.problem()}),
-    };
-    let mut bytes = serde_json::to_vec(&out).unwrap_or_default();
-    bytes.push(b'\n');
+    let id = serde_json::to_vec(&id).unwrap_or_else(|_| b"null".to_vec());
+    let mut bytes = Vec::with_capacity(2048);
+    bytes.extend_from_slice(b"{\"id\":");
+    bytes.extend_from_slice(&id);
+    match outcome {
+        Ok(result) => {
+            bytes.extend_from_slice(b",\"ok\":true,\"result\":");
+            bytes.extend_from_slice(&result);
+        }
+        Err(problem) => {
+            bytes.extend_from_slice(b",\"ok\":false,\"problem\":");
+            let written = serde_json::to_vec(&problem.problem()).unwrap_or_else(|_| b"{}".to_vec());
+            bytes.extend_from_slice(&written);
+        }
+    }
+    bytes.extend_from_slice(b"}\n");
     bytes
 }
 
-fn answer_parsed(v: &Json) -> Result<Value, ApiError> {
+fn answer_parsed(v: &Json) -> Result<Vec<u8>, ApiError> {
     let Json::Object(m) = v else {
         return Err(ApiError::fields(vec![FieldError {
             pointer: String::new(),
@@ -251,23 +302,32 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
             };
             pending.extend_from_slice(&chunk);
             let before = lines;
-            let mut out = Vec::new();
+            let mut jobs: Vec<(usize, usize, usize)> = Vec::new();
             let mut start = 0;
+            let mut over = false;
             while let Some(pos) = pending[start..]
                 .iter()
                 .position(|b| *b == b'\n')
                 .map(|p| p + start)
             {
-                let line = &pending[start..pos];
+                let (from, to) = (start, pos);
                 start = pos + 1;
-                if line.iter().all(|b| b.is_ascii_whitespace()) {
+                if pending[from..to].iter().all(|b| b.is_ascii_whitespace()) {
                     continue;
                 }
                 lines += 1;
                 if lines > MAX_LINES {
-                    break 'read;
+                    over = true;
+                    break;
                 }
-                out.extend(tokio::task::block_in_place(|| answer_line(line, lines)));
+                jobs.push((from, to, lines));
+            }
+            let mut out = answer_lines(&pending[..start], &jobs).await;
+            if over {
+                if !out.is_empty() && tx.send(Bytes::from(out)).await.is_err() {
+                    return;
+                }
+                break 'read;
             }
             pending.drain(..start);
             if pending.len() > MAX_LINE_BYTES {

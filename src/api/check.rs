@@ -16,7 +16,13 @@
 //!   in a query `prepaid_finance_charges=origination:1250.00,points:2500`
 //!   (name, a colon, the amount; items separated by commas; names without commas);
 //! - `mortgage`: `true` (default) or `false`, selecting the finance-charge
-//!   tolerance of §1026.18(d)(1) or (d)(2).
+//!   tolerance of §1026.18(d)(1) or (d)(2);
+//! - the plan fields of the schedule request that shape the scheduled payments:
+//!   `funding_date` and `first_payment_date` (with `day_count` and
+//!   `odd_days_interest`: an odd first period), `interest_only_payments`,
+//!   `balloon_after_payments`, `rate_changes` and `rate_change_keeps`. With a
+//!   funding date and a first payment date the APR is found from the dates.
+//!   `extra_payments` are refused: a disclosure counts scheduled payments only.
 //!
 //! Every quote is optional; without one the answer gives the figures alone.
 //!
@@ -41,12 +47,14 @@ use super::derivation::full;
 use super::fields::{parse_decimal, Fields, Raw, Source};
 use super::handlers::{json_answer, query_pairs, JsonBody};
 use super::json::Json;
-use super::loans::read_loan_terms;
+use super::loans::{read_loan_terms, read_plan_options};
 use super::problem::{ApiError, FieldError};
 use crate::engine::disclosure::{
-    check_loan, form_dollars, form_percent, LoanCheck, PrepaidFinanceCharge, Quotes,
+    check_loan_with, form_dollars, form_percent, LoanCheck, PrepaidFinanceCharge, Quotes,
 };
 use crate::engine::money::Currency;
+use crate::engine::plan::PlanOptions;
+use crate::engine::rate::Frequency;
 use crate::engine::schedule::LoanTerms;
 
 /// The most prepaid finance charges a request may list.
@@ -58,6 +66,7 @@ const MAX_NAME: usize = 80;
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct CheckRequest {
     pub terms: LoanTerms,
+    pub options: PlanOptions,
     pub prepaid: Vec<PrepaidFinanceCharge>,
     pub quotes: Quotes,
     pub mortgage: bool,
@@ -228,6 +237,16 @@ fn read_charges(
 pub fn read_check(mut f: Fields<'_>) -> Result<CheckRequest, ApiError> {
     let terms = read_loan_terms(&mut f);
     let currency = terms.as_ref().map_or(Currency::USD, |t| t.currency);
+    let frequency = terms
+        .as_ref()
+        .map_or(Frequency::Monthly, |t| t.payment_frequency);
+    let options = read_plan_options(&mut f, currency, frequency);
+    if !options.extras.is_empty() {
+        f.error(
+            "extra_payments",
+            "a disclosure counts the scheduled payments only: leave extra payments out of a check",
+        );
+    }
     let quotes = Quotes {
         payment: f.decimal("quoted_payment"),
         apr_percent: f.decimal("quoted_apr_percent"),
@@ -248,6 +267,7 @@ pub fn read_check(mut f: Fields<'_>) -> Result<CheckRequest, ApiError> {
     match (terms, mortgage) {
         (Some(terms), Some(mortgage)) if all.is_empty() => Ok(CheckRequest {
             terms,
+            options,
             prepaid,
             quotes,
             mortgage,
@@ -459,8 +479,14 @@ impl CheckAnswer {
 pub fn check_answer(f: Fields<'_>) -> Result<CheckAnswer, ApiError> {
     let prefix = f.pointer("");
     let req = read_check(f)?;
-    let c = check_loan(&req.terms, &req.prepaid, &req.quotes, req.mortgage)
-        .map_err(|e| ApiError::from_engine(e, &prefix))?;
+    let c = check_loan_with(
+        &req.terms,
+        &req.options,
+        &req.prepaid,
+        &req.quotes,
+        req.mortgage,
+    )
+    .map_err(|e| ApiError::from_engine(e, &prefix))?;
     Ok(CheckAnswer::from_check(&c))
 }
 

@@ -103,7 +103,19 @@ pub fn query_pairs(q: Option<&str>) -> Result<Vec<(String, String)>, ApiError> {
 
 /// A JSON answer with the right media type.
 pub fn json_answer<T: Serialize>(value: &T) -> Response {
-    JsonResponse(value).into_response()
+    // Room for a 360-row schedule at once: growing a small buffer copies it each time.
+    let mut body = Vec::with_capacity(64 * 1024);
+    match serde_json::to_writer(&mut body, value) {
+        Ok(()) => (
+            [(
+                header::CONTENT_TYPE,
+                HeaderValue::from_static("application/json"),
+            )],
+            body,
+        )
+            .into_response(),
+        Err(_) => JsonResponse(value).into_response(),
+    }
 }
 
 /// A CSV answer (RFC 4180), offered as a download with a file name.

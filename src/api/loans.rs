@@ -7,9 +7,10 @@ use super::derivation::{full, DerivationDto};
 use super::fields::{Fields, Raw, Source};
 use super::json::Json;
 use super::problem::{ApiError, FieldError};
+use super::text::IsoDate;
 use crate::engine::calendar::DayCount;
 use crate::engine::loan::MAX_PAYMENTS;
-use crate::engine::money::{Currency, InterestRounding, PaymentRounding};
+use crate::engine::money::{AmountText, Currency, InterestRounding, PaymentRounding};
 use crate::engine::plan::{Extra, OddDaysInterest, PlanOptions, RateChange, RateChangeKeeps};
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::schedule::{payments_in_months, LoanSchedule, LoanTerm, LoanTerms};
@@ -236,12 +237,18 @@ pub struct ReconciliationDto {
 #[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct RowDto {
     pub number: u32,
-    pub date: Option<String>,
-    pub payment: String,
-    pub extra: String,
-    pub interest: String,
-    pub principal: String,
-    pub balance: String,
+    #[schema(value_type = Option<String>)]
+    pub date: Option<IsoDate>,
+    #[schema(value_type = String)]
+    pub payment: AmountText,
+    #[schema(value_type = String)]
+    pub extra: AmountText,
+    #[schema(value_type = String)]
+    pub interest: AmountText,
+    #[schema(value_type = String)]
+    pub principal: AmountText,
+    #[schema(value_type = String)]
+    pub balance: AmountText,
 }
 
 #[derive(Debug, Serialize, utoipa::ToSchema)]
@@ -413,12 +420,12 @@ impl LoanScheduleDto {
                 .iter()
                 .map(|r| RowDto {
                     number: r.number,
-                    date: date(r.date),
-                    payment: money(r.payment),
-                    extra: money(r.extra),
-                    interest: money(r.interest),
-                    principal: money(r.principal),
-                    balance: money(r.balance),
+                    date: r.date.map(IsoDate),
+                    payment: c.text(r.payment),
+                    extra: c.text(r.extra),
+                    interest: c.text(r.interest),
+                    principal: c.text(r.principal),
+                    balance: c.text(r.balance),
                 })
                 .collect(),
             notes: s.notes.clone(),

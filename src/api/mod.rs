@@ -14,3 +14,4 @@ pub mod openapi;
 pub mod problem;
 pub mod recurrence;
 pub mod savings;
+pub mod text;

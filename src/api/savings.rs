@@ -30,7 +30,8 @@ use super::fields::{Fields, Source};
 use super::handlers::{csv_answer, json_answer, query_pairs, wants_csv, JsonBody};
 use super::json::Json;
 use super::problem::{ApiError, FieldError};
-use crate::engine::money::Currency;
+use super::text::IsoDate;
+use crate::engine::money::{AmountText, Currency};
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::savings::{
     periods_in_months, plan, Flow, Growth, GrowthEvery, PeriodSearch, Question, SavingsPlan,
@@ -399,11 +400,15 @@ pub struct SavingsReconciliationDto {
 #[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct SavingsRowDto {
     pub number: u32,
-    pub date: Option<String>,
+    #[schema(value_type = Option<String>)]
+    pub date: Option<IsoDate>,
     /// Negative for a withdrawal.
-    pub deposit: String,
-    pub interest: String,
-    pub balance: String,
+    #[schema(value_type = String)]
+    pub deposit: AmountText,
+    #[schema(value_type = String)]
+    pub interest: AmountText,
+    #[schema(value_type = String)]
+    pub balance: AmountText,
 }
 
 /// The JSON answer of the savings plan operation.
@@ -421,6 +426,7 @@ impl SavingsPlanDto {
         let t = &p.terms;
         let c = t.currency;
         let money = |d: Decimal| c.format(d);
+        let currency_text = |d: Decimal| c.text(d);
         let drawdown = t.question.is_drawdown();
         let what = if drawdown { "withdrawal" } else { "deposit" };
         let m = p.form.shape.periods_per_year;
@@ -509,7 +515,7 @@ impl SavingsPlanDto {
                     "The closed form gives n through a logarithm; its binary-floating-point estimate ({estimate}) was confirmed exactly with the decimal closed form"
                 ),
                 PeriodSearch::Bisection { evaluations } => format!(
-                    "The {what}s grow, so n comes from a bisection over whole periods on the closed form ({evaluations} evaluations, each O(1))"
+                    "The {what}s grow, so n comes from a bisection over whole periods on the closed form ({evaluations} evaluations, each O(1), in binary floating point), confirmed exactly with the decimal closed form at n − 1 and n"
                 ),
                 PeriodSearch::Scan => format!(
                     "The {what}s grow and the balance may rise before it falls, so the closed form was scanned period by period"
@@ -605,10 +611,10 @@ impl SavingsPlanDto {
                 .iter()
                 .map(|r| SavingsRowDto {
                     number: r.number,
-                    date: r.date.map(|d| d.to_string()),
-                    deposit: money(r.deposit),
-                    interest: money(r.interest),
-                    balance: money(r.balance),
+                    date: r.date.map(IsoDate),
+                    deposit: currency_text(r.deposit),
+                    interest: currency_text(r.interest),
+                    balance: currency_text(r.balance),
                 })
                 .collect(),
             notes: p.notes.clone(),

@@ -364,11 +364,12 @@ fn unit_equation(
     let v = Decimal::ONE
         .checked_div(one_plus)
         .or_overflow("the discount factor")?;
+    let mut powers = Powers::new(v);
     let mut value = Decimal::ZERO;
     let mut slope = Decimal::ZERO;
     for (flows, sign) in [(payments, Decimal::ONE), (advances, Decimal::NEGATIVE_ONE)] {
         for flow in flows {
-            let (discounted, discounted_slope) = flow_present_value(flow, i, v)?;
+            let (discounted, discounted_slope) = flow_present_value(flow, i, v, &mut powers)?;
             value = value
                 .checked_add(sign * discounted)
                 .or_overflow("the rate equation")?;
@@ -380,21 +381,74 @@ fn unit_equation(
     Ok((value, slope))
 }
 
+/// The powers v^t one evaluation of the equation needs, each taken from the
+/// nearest lower power already known: flows in time order cost one product each,
+/// not a fresh exponentiation.
+struct Powers {
+    v: Decimal,
+    /// (t, v^t), ascending in t; starts with (0, 1).
+    known: Vec<(u32, Decimal)>,
+}
+
+impl Powers {
+    fn new(v: Decimal) -> Self {
+        Self {
+            v,
+            known: vec![(0, Decimal::ONE)],
+        }
+    }
+
+    fn get(&mut self, t: u32) -> Result<Decimal> {
+        let what = "a present value";
+        let at = match self.known.binary_search_by_key(&t, |(k, _)| *k) {
+            Ok(at) => return Ok(self.known[at].1),
+            Err(at) => at,
+        };
+        let (below, base) = self.known[at - 1];
+        let gap = t - below;
+        let step = if gap == 1 {
+            self.v
+        } else {
+            self.v.checked_powi(i64::from(gap)).or_overflow(what)?
+        };
+        let value = base.checked_mul(step).or_overflow(what)?;
+        self.known.insert(at, (t, value));
+        Ok(value)
+    }
+}
+
 /// amount × v^t / (1 + f·i) × S_n(i), and its derivative in i, where
 /// S_n = Σ_{m=0}^{n−1} v^m is the run's annuity factor.
-fn flow_present_value(flow: &UnitFlow, i: Decimal, v: Decimal) -> Result<(Decimal, Decimal)> {
+fn flow_present_value(
+    flow: &UnitFlow,
+    i: Decimal,
+    v: Decimal,
+    powers: &mut Powers,
+) -> Result<(Decimal, Decimal)> {
     let what = "a present value";
-    let vt = v.checked_powi(i64::from(flow.periods)).or_overflow(what)?;
-    let simple = Decimal::ONE
-        .checked_add(flow.fraction.checked_mul(i).or_overflow(what)?)
-        .or_overflow(what)?;
-    let base = vt.checked_div(simple).or_overflow(what)?;
+    let vt = powers.get(flow.periods)?;
+    // 1/(1 + f·i), one division shared by the value and the slope.
+    let inverse_simple = if flow.fraction.is_zero() {
+        Decimal::ONE
+    } else {
+        Decimal::ONE
+            .checked_div(
+                Decimal::ONE
+                    .checked_add(flow.fraction.checked_mul(i).or_overflow(what)?)
+                    .or_overflow(what)?,
+            )
+            .or_overflow(what)?
+    };
+    let base = vt.checked_mul(inverse_simple).or_overflow(what)?;
     // d(v^t)/di = −t·v^(t+1); d(1/(1 + f·i))/di = −f/(1 + f·i)².
     let log_slope = -(Decimal::from(flow.periods)
         .checked_mul(v)
         .or_overflow(what)?)
-        - flow.fraction.checked_div(simple).or_overflow(what)?;
-    let (s, ds) = annuity_factor(i, v, flow.count)?;
+        - flow
+            .fraction
+            .checked_mul(inverse_simple)
+            .or_overflow(what)?;
+    let (s, ds) = annuity_factor(i, v, flow.count, powers)?;
     let scaled = flow.amount.checked_mul(base).or_overflow(what)?;
     let value = scaled.checked_mul(s).or_overflow(what)?;
     let slope = scaled
@@ -414,7 +468,12 @@ fn flow_present_value(flow: &UnitFlow, i: Decimal, v: Decimal) -> Result<(Decima
 /// S' = [n·v^n − (1 − v^n)/i]/i. At i = 0: S = n, S' = −n(n − 1)/2. Below
 /// [`SMALL_RATE`] the sum is taken term by term (S' = −Σ m·v^(m+1)) to avoid the
 /// cancellation in 1 − v^n.
-fn annuity_factor(i: Decimal, v: Decimal, n: u32) -> Result<(Decimal, Decimal)> {
+fn annuity_factor(
+    i: Decimal,
+    v: Decimal,
+    n: u32,
+    powers: &mut Powers,
+) -> Result<(Decimal, Decimal)> {
     let what = "an annuity factor";
     if n == 1 {
         return Ok((Decimal::ONE, Decimal::ZERO));
@@ -438,7 +497,7 @@ fn annuity_factor(i: Decimal, v: Decimal, n: u32) -> Result<(Decimal, Decimal)> 
         }
         return Ok((s, ds));
     }
-    let vn = v.checked_powi(i64::from(n)).or_overflow(what)?;
+    let vn = powers.get(n)?;
     let w = Decimal::ONE - vn;
     let w_over_i = w.checked_div(i).or_overflow(what)?;
     let s = w_over_i.checked_mul(Decimal::ONE + i).or_overflow(what)?;
@@ -540,6 +599,29 @@ fn solve_falling(
     estimate: Option<Decimal>,
     field: &'static str,
 ) -> Result<(Decimal, u32)> {
+    // The binary estimate comes from the same bracketed iteration, so a Newton
+    // step from it that converges (a step below the tolerance) has polished that
+    // root; two or three evaluations then suffice. Otherwise, the full bracket.
+    if let Some(e) = estimate.filter(|e| *e > Decimal::ZERO) {
+        let mut x = e;
+        for step in 1..=3 {
+            let (value, slope) = g(x)?;
+            if value.is_zero() {
+                return Ok((x, step));
+            }
+            let Some(next) = value
+                .checked_div(slope)
+                .and_then(|q| x.checked_sub(q))
+                .filter(|n| *n > Decimal::ZERO)
+            else {
+                break;
+            };
+            if (next - x).abs() < TOLERANCE {
+                return Ok((next, step));
+            }
+            x = next;
+        }
+    }
     let mut lo = Decimal::ZERO;
     let mut hi = Decimal::ONE;
     let mut doublings = 0;
@@ -1769,14 +1851,17 @@ mod tests {
         ] {
             let i = d(rate);
             let v = Decimal::ONE / (Decimal::ONE + i);
-            let (_, ds) = annuity_factor(i, v, n).unwrap();
+            let (_, ds) = annuity_factor(i, v, n, &mut Powers::new(v)).unwrap();
             let h = d("1e-12");
-            let (s_plus, _) =
-                annuity_factor(i + h, Decimal::ONE / (Decimal::ONE + i + h), n).unwrap();
+            let (s_plus, _) = {
+                let v = Decimal::ONE / (Decimal::ONE + i + h);
+                annuity_factor(i + h, v, n, &mut Powers::new(v)).unwrap()
+            };
             let (s_minus, _) = if i.is_zero() {
                 (Decimal::from(n), Decimal::ZERO)
             } else {
-                annuity_factor(i - h, Decimal::ONE / (Decimal::ONE + i - h), n).unwrap()
+                let v = Decimal::ONE / (Decimal::ONE + i - h);
+                annuity_factor(i - h, v, n, &mut Powers::new(v)).unwrap()
             };
             let quotient = if i.is_zero() {
                 (s_plus - s_minus) / h

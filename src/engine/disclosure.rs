@@ -27,12 +27,13 @@
 
 use rust_decimal::{Decimal, MathematicalOps, RoundingStrategy};
 
-use super::apr::{solve_apr, AprResult, UnitFlow, UnitPeriod};
+use super::apr::{apr_from_dates, solve_apr, AprResult, DatedFlow, UnitFlow, UnitPeriod};
 use super::error::{EngineError, ErrorKind, OrOverflow, Result};
 use super::loan::rate_for_payment;
 use super::money::Currency;
+use super::plan::PlanOptions;
 use super::rate::{nth_root, Frequency};
-use super::schedule::{schedule, LoanSchedule, LoanTerm, LoanTerms, CAUTION};
+use super::schedule::{schedule_without_reconciling, LoanSchedule, LoanTerm, LoanTerms, CAUTION};
 
 /// The sentence every check carries after the caution.
 pub const TOOL_NOT_OPINION: &str = "This check is a tool, not a compliance opinion.";
@@ -302,6 +303,13 @@ pub struct LoanDisclosure {
     pub unit_period: UnitPeriod,
     pub apr_tolerance: AprTolerance,
     pub in_five_years: InFiveYears,
+    /// Prepaid interest of an odd first period collected at closing: a prepaid
+    /// finance charge (listed among `prepaid_finance_charges`), counted in the
+    /// total interest percentage.
+    pub prepaid_interest: Decimal,
+    /// When the APR was found from the funding date and the payments' due dates
+    /// (Appendix J (b)(4) then chose the unit-period), the funding date.
+    pub dated_from: Option<jiff::civil::Date>,
 }
 
 /// Consecutive equal amounts as runs one unit-period apart, the first at period
@@ -328,10 +336,37 @@ pub fn runs_of(amounts: &[Decimal], first_period: u32) -> Vec<UnitFlow> {
 /// A negative charge, charges that leave no amount financed, or an error of
 /// the APR solver.
 pub fn disclose(s: &LoanSchedule, prepaid: &[PrepaidFinanceCharge]) -> Result<LoanDisclosure> {
+    disclose_dated(s, prepaid, None)
+}
+
+/// The name under which prepaid interest is listed among the prepaid finance charges.
+pub const PREPAID_INTEREST: &str = "prepaid interest (odd first period)";
+
+/// As [`disclose`]; with a `funding_date` and a schedule whose payments have due
+/// dates, the APR is found from those dates: the amount financed advanced on the
+/// funding date, each posted payment on its due date, the unit-period chosen by
+/// Appendix J (b)(4) and an odd first period counted in unit-periods and days.
+/// Prepaid interest collected at closing joins the prepaid finance charges.
+///
+/// # Errors
+/// As [`disclose`], or dates the APR cannot be placed on.
+pub fn disclose_dated(
+    s: &LoanSchedule,
+    prepaid: &[PrepaidFinanceCharge],
+    funding_date: Option<jiff::civil::Date>,
+) -> Result<LoanDisclosure> {
     let field = "prepaid_finance_charges";
     let currency = s.terms.currency;
+    let prepaid_interest = s.plan.prepaid_interest.max(Decimal::ZERO);
+    let mut prepaid: Vec<PrepaidFinanceCharge> = prepaid.to_vec();
+    if !prepaid_interest.is_zero() {
+        prepaid.push(PrepaidFinanceCharge {
+            name: PREPAID_INTEREST.into(),
+            amount: prepaid_interest,
+        });
+    }
     let mut prepaid_total = Decimal::ZERO;
-    for charge in prepaid {
+    for charge in &prepaid {
         if charge.amount.is_sign_negative() && !charge.amount.is_zero() {
             return Err(EngineError::out_of_range(
                 field,
@@ -359,23 +394,61 @@ pub fn disclose(s: &LoanSchedule, prepaid: &[PrepaidFinanceCharge]) -> Result<Lo
     let total_of_payments = s.ledger.total_paid;
     let finance_charge = total_of_payments - amount_financed;
     let total_interest = s.ledger.total_interest;
-    let total_interest_percentage = total_interest
+    // §1026.37(l)(3) and its commentary: prepaid interest counts as interest.
+    let total_interest_percentage = (total_interest + prepaid_interest)
         .checked_mul(Decimal::ONE_HUNDRED)
         .and_then(|x| x.checked_div(principal))
         .or_overflow("the total interest percentage")?;
-    let unit_period = unit_period_of(s.terms.payment_frequency);
-    let apr = solve_apr(
-        &[UnitFlow::single(amount_financed, 0, Decimal::ZERO)],
-        &runs_of(&amounts, 1),
-        unit_period,
-    )?;
+    let dated = match funding_date {
+        Some(start) if rows.iter().all(|r| r.date.is_some()) => Some(start),
+        _ => None,
+    };
+    let (apr, unit_period) = match dated {
+        Some(start) => {
+            let payments: Vec<DatedFlow> = rows
+                .iter()
+                .filter_map(|r| {
+                    r.date.map(|date| DatedFlow {
+                        amount: r.payment,
+                        date,
+                    })
+                })
+                .collect();
+            let found = apr_from_dates(
+                &[DatedFlow {
+                    amount: amount_financed,
+                    date: start,
+                }],
+                &payments,
+            )
+            .map_err(|e| EngineError {
+                field: Some("funding_date"),
+                ..e
+            })?;
+            (found.apr, found.unit_period)
+        }
+        None => {
+            let unit_period = unit_period_of(s.terms.payment_frequency);
+            let apr = solve_apr(
+                &[UnitFlow::single(amount_financed, 0, Decimal::ZERO)],
+                &runs_of(&amounts, 1),
+                unit_period,
+            )?;
+            (apr, unit_period)
+        }
+    };
     let apr_tolerance = apr_tolerance(1, true, &amounts, currency);
     let through = (5 * s.terms.payment_frequency.per_year()).min(rows.len() as u32);
     let counted = &rows[..through as usize];
     let payments: Decimal = counted.iter().map(|r| r.payment).sum();
     let principal_paid: Decimal = counted.iter().map(|r| r.principal).sum();
+    // Prepaid interest is a closing cost of its own kind (a prepaid item), not a
+    // loan cost of §1026.37(l)(1)(i).
+    let loan_costs = prepaid_total - prepaid_interest;
     Ok(LoanDisclosure {
-        prepaid_finance_charges: prepaid.to_vec(),
+        prepaid_interest,
+        dated_from: dated,
+        prepaid_finance_charges: prepaid,
         prepaid_total,
         amount_financed,
         total_of_payments,
@@ -388,8 +461,8 @@ pub fn disclose(s: &LoanSchedule, prepaid: &[PrepaidFinanceCharge]) -> Result<Lo
         in_five_years: InFiveYears {
             through_payment: through,
             payments,
-            loan_costs: prepaid_total,
-            total_paid: payments + prepaid_total,
+            loan_costs,
+            total_paid: payments + loan_costs,
             principal_paid,
         },
     })
@@ -486,6 +559,29 @@ pub fn check_loan(
     quotes: &Quotes,
     mortgage: bool,
 ) -> Result<LoanCheck> {
+    check_loan_with(terms, &PlanOptions::default(), prepaid, quotes, mortgage)
+}
+
+/// As [`check_loan`], for a loan with plan options: a funding date and a first
+/// payment date (an odd first period, its interest added to the first payment or
+/// prepaid at closing), an interest-only start, a balloon, rate steps. Extra
+/// payments are not part of a disclosure and are refused.
+///
+/// # Errors
+/// As [`check_loan`], and extra payments.
+pub fn check_loan_with(
+    terms: &LoanTerms,
+    options: &PlanOptions,
+    prepaid: &[PrepaidFinanceCharge],
+    quotes: &Quotes,
+    mortgage: bool,
+) -> Result<LoanCheck> {
+    if !options.extras.is_empty() {
+        return Err(EngineError::out_of_range(
+            "extra_payments",
+            "a disclosure counts the scheduled payments only: leave extra payments out of a check",
+        ));
+    }
     let currency = terms.currency;
     let money_field = |field: &'static str, value: Decimal, positive: bool| -> Result<()> {
         if value.is_sign_negative() && !value.is_zero() || positive && value.is_zero() {
@@ -536,8 +632,8 @@ pub fn check_loan(
             ));
         }
     }
-    let s = schedule(terms)?;
-    let disclosure = disclose(&s, prepaid)?;
+    let s = schedule_without_reconciling(terms, options)?;
+    let disclosure = disclose_dated(&s, prepaid, options.funding_date)?;
     let mut notes = vec![CAUTION.to_string(), TOOL_NOT_OPINION.to_string()];
     notes.extend(s.notes.iter().filter(|n| n.as_str() != CAUTION).cloned());
     let n = match terms.term {
@@ -592,19 +688,35 @@ pub fn check_loan(
             mortgage,
         )
     });
-    notes.push(format!(
-        "APR by 12 CFR 1026 Appendix J: the amount financed ({}) advanced at consummation and the {} posted payments, the first one payment period later (a regular first period); the unit-period is the payment period ({}), solved in closed form over runs of equal payments.",
-        currency.format(disclosure.amount_financed),
-        s.number_of_payments,
-        disclosure.unit_period
-    ));
+    match disclosure.dated_from {
+        Some(start) => notes.push(format!(
+            "APR by 12 CFR 1026 Appendix J: the amount financed ({}) advanced on the funding date {start} and each of the {} posted payments on its due date; the unit-period ({}) chosen by (b)(4), an odd first period counted in whole unit-periods and a fraction (b)(5); equal payments one unit-period apart summed in closed form.",
+            currency.format(disclosure.amount_financed),
+            s.number_of_payments,
+            disclosure.unit_period
+        )),
+        None => notes.push(format!(
+            "APR by 12 CFR 1026 Appendix J: the amount financed ({}) advanced at consummation and the {} posted payments, the first one payment period later (a regular first period); the unit-period is the payment period ({}), solved in closed form over runs of equal payments.",
+            currency.format(disclosure.amount_financed),
+            s.number_of_payments,
+            disclosure.unit_period
+        )),
+    }
+    if !disclosure.prepaid_interest.is_zero() {
+        notes.push(format!(
+            "Prepaid interest of {} for the odd first period is a prepaid finance charge: it lowers the amount financed and counts in the total interest percentage; it is not a loan cost of the in-5-years figure.",
+            currency.format(disclosure.prepaid_interest)
+        ));
+    }
     if apr.is_some() {
         notes.push("The quoted APR is compared with the computed APR unrounded; a difference of exactly the tolerance is within it.".into());
     }
     if disclosure.prepaid_total > Decimal::ZERO {
         notes.push("In 5 years counts the prepaid finance charges as loan costs paid at consummation (§1026.37(l)(1)(i)); mortgage insurance and loan costs that are not finance charges are not known here and not included.".into());
     }
-    notes.push("The total interest percentage counts the scheduled interest of the posted ledger; no prepaid interest is included (none can be given).".into());
+    if disclosure.prepaid_interest.is_zero() {
+        notes.push("The total interest percentage counts the scheduled interest of the posted ledger (odd-days interest added to the first payment included); no interest is prepaid.".into());
+    }
     if currency != Currency::USD {
         notes.push(format!(
             "Regulation Z is a US rule stated in US dollars; its dollar tolerances are applied to these {} figures as they stand.",
@@ -627,6 +739,7 @@ mod tests {
     use super::*;
     use crate::engine::money::{InterestRounding, PaymentRounding};
     use crate::engine::rate::AnnualRate;
+    use crate::engine::schedule::schedule;
 
     fn d(s: &str) -> Decimal {
         s.parse().unwrap()

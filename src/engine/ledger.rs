@@ -170,7 +170,8 @@ pub struct Reconciliation {
     pub bound: Decimal,
 }
 
-/// Compares every posted balance with the closed form (evaluated with incremental powers).
+/// Compares every posted balance with the closed form (screened in binary floating
+/// point, the largest gaps measured in decimal: [`ClosedForm::largest_gap`]).
 pub fn reconcile(
     ledger: &Ledger,
     closed_form: &ClosedForm,
@@ -178,31 +179,27 @@ pub fn reconcile(
     currency: Currency,
 ) -> Result<Reconciliation> {
     let n = ledger.rows.len() as u32;
-    let values = closed_form.values(n)?;
-    let mut largest = Decimal::ZERO;
-    let mut at = 0;
-    for row in ledger.rows.iter().take(ledger.rows.len().saturating_sub(1)) {
-        let drift = (row.balance - values[row.number as usize]).abs();
-        if drift > largest || at == 0 {
-            largest = drift;
-            at = row.number;
-        }
-    }
+    // Every row but the last (which takes the residue) is compared.
+    let compared = n.saturating_sub(1);
+    let (largest, at) = closed_form
+        .largest_gap(compared, |m| ledger.rows[m as usize - 1].balance)?
+        .unwrap_or((Decimal::ZERO, 0));
     let final_drift = match ledger.rows.last() {
         Some(last) => {
             last.payment
-                - a.checked_mul(values[n as usize - 1])
+                - a.checked_mul(closed_form.eval(n - 1)?)
                     .or_overflow("the final payment")?
         }
         None => Decimal::ZERO,
     };
-    // Σ_{j<at} a^j, stepped (a bound for the report, not an answer).
-    let mut sum = Decimal::ZERO;
-    let mut power = Decimal::ONE;
-    for _ in 0..at {
-        sum = sum.checked_add(power).or_overflow("the drift bound")?;
-        power = power.checked_mul(a).or_overflow("the drift bound")?;
-    }
+    // Σ_{j<at} a^j = (a^at − 1)/(a − 1), or `at` when a = 1 (a bound for the report).
+    let sum = if a == Decimal::ONE {
+        Decimal::from(at)
+    } else {
+        (super::zdomain::pow(a, at)? - Decimal::ONE)
+            .checked_div(a - Decimal::ONE)
+            .or_overflow("the drift bound")?
+    };
     let bound = currency.minor_unit() / Decimal::TWO * sum;
     Ok(Reconciliation {
         largest_drift: largest,

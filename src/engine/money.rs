@@ -150,8 +150,91 @@ impl Currency {
 
     /// The amount as text with exactly the currency's decimals ("1110.21", "1234", "0.125").
     pub fn format(&self, amount: Decimal) -> String {
-        self.round(amount, RoundingStrategy::MidpointAwayFromZero)
-            .to_string()
+        self.text(amount).as_str().to_owned()
+    }
+
+    /// As [`Currency::format`], written on the stack: rounded half away from zero
+    /// to the minor unit, no sign on zero.
+    pub fn text(&self, amount: Decimal) -> AmountText {
+        let rounded = if amount.scale() == self.minor_units {
+            amount
+        } else {
+            self.round(amount, RoundingStrategy::MidpointAwayFromZero)
+        };
+        AmountText::new(rounded, self.minor_units)
+    }
+}
+
+/// A decimal amount as text with a fixed number of decimals, held on the stack.
+#[derive(Clone, Copy)]
+pub struct AmountText {
+    bytes: [u8; 40],
+    len: u8,
+}
+
+impl AmountText {
+    /// `value` (whose scale is at most 28) with exactly `decimals` decimals; extra
+    /// decimals of `value` are cut, missing ones written as zeros.
+    fn new(value: Decimal, decimals: u32) -> Self {
+        let mut digits = [0u8; 32];
+        let mut n = 0;
+        let mut mantissa = value.mantissa().unsigned_abs();
+        // u64 division is far cheaper than u128: money almost always fits.
+        while mantissa > u128::from(u64::MAX) {
+            digits[n] = b'0' + (mantissa % 10) as u8;
+            mantissa /= 10;
+            n += 1;
+        }
+        let mut small = mantissa as u64;
+        while small > 0 {
+            digits[n] = b'0' + (small % 10) as u8;
+            small /= 10;
+            n += 1;
+        }
+        let scale = value.scale() as usize;
+        let decimals = decimals as usize;
+        // digits[] holds the mantissa least significant first; position p counts
+        // decimals from the point (p < scale: after it).
+        let digit = |p: usize| if p < n { digits[p] } else { b'0' };
+        let mut out = AmountText {
+            bytes: [0; 40],
+            len: 0,
+        };
+        let mut push = |b: u8| {
+            out.bytes[out.len as usize] = b;
+            out.len += 1;
+        };
+        if value.is_sign_negative() && value.mantissa() != 0 {
+            push(b'-');
+        }
+        let whole = n.saturating_sub(scale).max(1);
+        for i in (0..whole).rev() {
+            push(digit(scale + i));
+        }
+        if decimals > 0 {
+            push(b'.');
+            for j in 1..=decimals {
+                push(if j <= scale { digit(scale - j) } else { b'0' });
+            }
+        }
+        out
+    }
+
+    pub fn as_str(&self) -> &str {
+        // Only ASCII digits, '-' and '.' are ever written.
+        std::str::from_utf8(&self.bytes[..self.len as usize]).unwrap_or("")
+    }
+}
+
+impl fmt::Display for AmountText {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+impl fmt::Debug for AmountText {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.as_str())
     }
 }
 
@@ -215,6 +298,44 @@ mod tests {
         assert_eq!(Currency::parse("KWD").unwrap().minor_units(), 3);
         assert!(Currency::parse("XYZ").is_none());
         assert!(Currency::parse("usd").is_none());
+    }
+
+    #[test]
+    fn stack_text_agrees_with_the_decimal_display() {
+        // The decimal crate's own Display is the reference for every shape of amount.
+        let samples = [
+            "0",
+            "0.00",
+            "-0.00",
+            "0.004",
+            "-0.005",
+            "0.005",
+            "1110.205",
+            "-1110.215",
+            "79228162514264337593543950.335",
+            "18446744073709551615.99",
+            "18446744073709551616.01",
+            "0.0000000000000000000000000001",
+            "123456789.123456789",
+        ];
+        for c in ["USD", "JPY", "KWD"] {
+            let c = Currency::parse(c).unwrap();
+            for v in samples {
+                let v = d(v);
+                let mut want = c
+                    .round(v, RoundingStrategy::MidpointAwayFromZero)
+                    .to_string();
+                if want.starts_with('-') && want[1..].chars().all(|ch| ch == '0' || ch == '.') {
+                    want.remove(0);
+                }
+                assert_eq!(c.format(v), want, "{v} in {}", c.code());
+            }
+        }
+        // Where the decimal cannot hold two more digits, the text still shows them.
+        assert_eq!(
+            Currency::USD.format(d("-7922816251426433759354395033")),
+            "-7922816251426433759354395033.00"
+        );
     }
 
     #[test]

@@ -627,16 +627,19 @@ fn reconcile(rows: &[PlanRow], segments: &[Segment]) -> Result<Option<(Decimal, 
     let mut largest: Option<(Decimal, u32)> = None;
     for s in segments {
         let len = s.last_payment - s.first_payment + 1;
-        let values = match s.solution.closed_form.values(len) {
+        let offset = s.first_payment as usize;
+        let found = match s
+            .solution
+            .closed_form
+            .largest_gap(len, |m| rows[offset + m as usize - 2].balance)
+        {
             Ok(v) => v,
             Err(e) if e.kind == super::error::ErrorKind::Overflow => return Ok(None),
             Err(e) => return Err(e),
         };
-        for m in 1..=len {
-            let row = &rows[(s.first_payment + m - 2) as usize];
-            let drift = (row.balance - values[m as usize]).abs();
+        if let Some((drift, m)) = found {
             if largest.is_none_or(|(d, _)| drift > d) {
-                largest = Some((drift, row.number));
+                largest = Some((drift, rows[offset + m as usize - 2].number));
             }
         }
     }

@@ -426,6 +426,23 @@ impl PlanForm {
             .or_overflow("a balance")
     }
 
+    /// [`PlanForm::balance_at`] in binary floating point: for estimates only.
+    pub fn estimate_at(&self, k: u32) -> f64 {
+        use rust_decimal::prelude::ToPrimitive;
+        let Some(y) = &self.yearly else {
+            return self.period.closed_form.estimate(k);
+        };
+        let m = self.shape.periods_per_year;
+        let (year, r) = (k / m, k % m);
+        let boundary = y.year.closed_form.estimate(year);
+        if r == 0 {
+            return boundary;
+        }
+        let f = |d: Decimal| d.to_f64().unwrap_or(f64::NAN);
+        let c = f(y.flow) * f(y.ratio).powf(f64::from(year)) + f(y.step) * f64::from(year);
+        boundary * y.unit.principal_response.estimate(r) + c * y.unit.payment_response.estimate(r)
+    }
+
     /// The balances after periods 0, 1, …, n, in one pass (powers taken incrementally).
     ///
     /// # Errors
@@ -699,7 +716,8 @@ pub struct FlowDerivation {
 pub enum PeriodSearch {
     /// Level flows: a logarithm (estimated in binary floating point), confirmed exactly.
     Logarithm { estimate: u32 },
-    /// Growing deposits: bisection over whole periods on the O(1) closed form.
+    /// Growing deposits: bisection over whole periods on the O(1) closed form (in
+    /// binary floating point, confirmed in decimal at n − 1 and n).
     Bisection { evaluations: u32 },
     /// Growing withdrawals (the balance may rise before it falls): a scan of the closed form.
     Scan,
@@ -1019,6 +1037,31 @@ fn walk_from(estimate: u32, done: &dyn Fn(u32) -> Result<bool>) -> Result<Option
         }
     }
     Ok(bisect(done)?.map(|(n, _)| n))
+}
+
+/// [`bisect`] over a binary-floating-point test: the estimate and its evaluations.
+fn bisect_estimate(done: &dyn Fn(u32) -> bool) -> Option<(u32, u32)> {
+    bisect(&|n| Ok(done(n))).ok().flatten()
+}
+
+/// The smallest n with done(n) near an estimate, confirmed exactly: done(n) and
+/// not done(n − 1), walking a few periods when the estimate is off; `None` when
+/// the walk does not settle (the caller then bisects in decimal).
+fn confirm_from(estimate: u32, done: &dyn Fn(u32) -> Result<bool>) -> Result<Option<u32>> {
+    let mut n = estimate.clamp(1, MAX_PERIODS);
+    for _ in 0..16 {
+        if !done(n)? {
+            if n == MAX_PERIODS {
+                return Ok(None);
+            }
+            n += 1;
+        } else if n > 1 && done(n - 1)? {
+            n -= 1;
+        } else {
+            return Ok(Some(n));
+        }
+    }
+    Ok(None)
 }
 
 /// The smallest n in 1..=MAX_PERIODS with done(n) by bisection (done monotone, false at 0),
@@ -1400,11 +1443,25 @@ pub fn plan(terms: &SavingsTerms) -> Result<SavingsPlan> {
                         PeriodSearch::Logarithm { estimate },
                     )
                 } else {
-                    match bisect(&done)? {
-                        Some((n, evaluations)) => {
+                    // Bisection in binary floating point picks n; the decimal closed
+                    // form confirms it at n − 1 and n (walking should they disagree).
+                    use rust_decimal::prelude::ToPrimitive;
+                    let target = goal.to_f64().unwrap_or(f64::NAN);
+                    let screened = bisect_estimate(&|n| form.estimate_at(n) >= target);
+                    let confirmed = match screened {
+                        Some((estimate, _)) => confirm_from(estimate, &done)?,
+                        None => None,
+                    };
+                    match (confirmed, screened) {
+                        (Some(n), Some((_, evaluations))) => {
                             (Some(n), PeriodSearch::Bisection { evaluations })
                         }
-                        None => (None, PeriodSearch::Bisection { evaluations: 1 }),
+                        _ => match bisect(&done)? {
+                            Some((n, evaluations)) => {
+                                (Some(n), PeriodSearch::Bisection { evaluations })
+                            }
+                            None => (None, PeriodSearch::Bisection { evaluations: 1 }),
+                        },
                     }
                 };
                 let Some(n) = n else {

@@ -187,6 +187,19 @@ pub fn schedule_with(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSch
 /// # Errors
 /// As [`schedule_with`].
 pub fn schedule_for_comparison(terms: &LoanTerms, options: &PlanOptions) -> Result<LoanSchedule> {
+    schedule_without_reconciling(terms, options)
+}
+
+/// The posted schedule without its reconciliation, milestones or savings against
+/// the loan without extras: for answers that show totals, not derivations
+/// (comparisons, disclosure checks).
+///
+/// # Errors
+/// As [`schedule_with`].
+pub fn schedule_without_reconciling(
+    terms: &LoanTerms,
+    options: &PlanOptions,
+) -> Result<LoanSchedule> {
     schedule_inner(terms, options, false)
 }
 
@@ -385,16 +398,26 @@ fn reconcile_plan(plan: &Plan, currency: Currency) -> Result<Option<Reconciliati
     let half = currency.minor_unit() / Decimal::TWO;
     let mut bound = Decimal::ZERO;
     for s in &plan.segments {
-        let a = Decimal::ONE + s.periodic_rate;
-        for k in s.first_payment..=s.last_payment {
-            if k > at {
-                break;
-            }
-            bound = bound
-                .checked_mul(a)
-                .and_then(|b| b.checked_add(half))
-                .or_overflow("the drift bound")?;
+        if s.first_payment > at {
+            break;
         }
+        // count steps of b ← a·b + ½: b·a^count + ½·Σ_{j<count} a^j, in closed form.
+        let count = s.last_payment.min(at) - s.first_payment + 1;
+        let a = Decimal::ONE
+            .checked_add(s.periodic_rate)
+            .or_overflow("the drift bound")?;
+        let power = crate::engine::zdomain::pow(a, count)?;
+        let sum = if s.periodic_rate.is_zero() {
+            Decimal::from(count)
+        } else {
+            (power - Decimal::ONE)
+                .checked_div(s.periodic_rate)
+                .or_overflow("the drift bound")?
+        };
+        bound = bound
+            .checked_mul(power)
+            .and_then(|b| b.checked_add(half.checked_mul(sum)?))
+            .or_overflow("the drift bound")?;
     }
     let final_drift = match (plan.rows.last(), plan.segments.last()) {
         (Some(last), Some(s)) if last.number == s.last_payment + 1 => {

@@ -242,6 +242,97 @@ impl ClosedForm {
         Ok(total)
     }
 
+    /// The largest |observed(m) − x[m]| over m in 1..=len and the first m where it occurs
+    /// (`None` for len = 0).
+    ///
+    /// Binary floating point screens every m, the powers taken incrementally; the
+    /// decimal closed form then measures each m whose screened gap comes within the
+    /// screening's error bound of the largest, so the figure returned is decimal and
+    /// exact to the closed form. Where too many gaps tie (an exact ledger), every m is
+    /// measured in decimal.
+    ///
+    /// # Errors
+    /// An overflow of the decimal closed form.
+    pub fn largest_gap(
+        &self,
+        len: u32,
+        observed: impl Fn(u32) -> Decimal,
+    ) -> Result<Option<(Decimal, u32)>> {
+        use rust_decimal::prelude::ToPrimitive;
+        const MEASURED_AT_MOST: usize = 48;
+        if len == 0 {
+            return Ok(None);
+        }
+        let poles: Vec<f64> = self
+            .modes
+            .iter()
+            .map(|m| m.pole.to_f64().unwrap_or(f64::NAN))
+            .collect();
+        let polys: Vec<Vec<f64>> = self
+            .modes
+            .iter()
+            .map(|m| {
+                m.polynomial
+                    .iter()
+                    .map(|c| c.to_f64().unwrap_or(f64::NAN))
+                    .collect()
+            })
+            .collect();
+        let mut powers = vec![1.0f64; poles.len()];
+        let mut gaps = Vec::with_capacity(len as usize);
+        let mut magnitude = 0.0f64;
+        for k in 0..=len {
+            let kf = f64::from(k);
+            let (mut x, mut size) = (0.0f64, 0.0f64);
+            for ((poly, pole), power) in polys.iter().zip(&poles).zip(powers.iter_mut()) {
+                let mut v = 0.0;
+                for c in poly.iter().rev() {
+                    v = v * kf + c;
+                }
+                let term = v * *power;
+                x += term;
+                size += term.abs();
+                *power *= pole;
+            }
+            for (j, c) in &self.impulses {
+                if *j == k {
+                    let c = c.to_f64().unwrap_or(f64::NAN);
+                    x += c;
+                    size += c.abs();
+                }
+            }
+            if k >= 1 {
+                let seen = observed(k).to_f64().unwrap_or(f64::NAN);
+                gaps.push((seen - x).abs());
+                magnitude = magnitude.max(size + seen.abs());
+            }
+        }
+        let finite = gaps.iter().all(|g| g.is_finite()) && magnitude.is_finite();
+        let tolerance = magnitude * (f64::from(len) + 8.0) * 8.0 * f64::EPSILON;
+        let top = gaps.iter().copied().fold(0.0f64, f64::max);
+        let candidates: Vec<u32> = (1..=len)
+            .filter(|m| gaps[*m as usize - 1] >= top - 2.0 * tolerance)
+            .collect();
+        let mut largest: Option<(Decimal, u32)> = None;
+        if finite && candidates.len() <= MEASURED_AT_MOST {
+            for m in candidates {
+                let gap = (observed(m) - self.eval(m)?).abs();
+                if largest.is_none_or(|(g, _)| gap > g) {
+                    largest = Some((gap, m));
+                }
+            }
+        } else {
+            let values = self.values(len)?;
+            for m in 1..=len {
+                let gap = (observed(m) - values[m as usize]).abs();
+                if largest.is_none_or(|(g, _)| gap > g) {
+                    largest = Some((gap, m));
+                }
+            }
+        }
+        Ok(largest)
+    }
+
     /// x[0], x[1], …, x[n] in one pass, the powers p^k taken incrementally.
     pub fn values(&self, n: u32) -> Result<Vec<Decimal>> {
         let mut powers: Vec<Decimal> = vec![Decimal::ONE; self.modes.len()];
