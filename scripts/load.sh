@@ -55,13 +55,21 @@ rate() { awk '/^Requests\/sec:/ {print $2}' "$1"; }
 # 1. /healthz against the 360-payment schedule, one after the other in the same run.
 wrk -t2 -c32 -d"$duration" --latency "$base/healthz" >"$work/healthz.txt"
 wrk -t2 -c32 -d"$duration" --latency "$schedule" >"$work/schedule.txt"
+# Every request a different loan (the principal changes by cents): none is
+# served from the answer store, each one is computed. Answered at most
+# max_in_flight at once; the rest get 503 (counted apart).
+wrk -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base" >"$work/distinct.txt"
 h="$(rate "$work/healthz.txt")"
 s="$(rate "$work/schedule.txt")"
+u="$(rate "$work/distinct.txt")"
+refused="$(awk '/Non-2xx/ {print $5}' "$work/distinct.txt")"
 echo
 echo "== request rates (wrk -t2 -c32 -d$duration) =="
 echo "GET /healthz:                     $h requests/s"
-echo "GET 360-payment JSON schedule:    $s requests/s"
+echo "GET 360-payment JSON schedule:    $s requests/s (the same URL again and again: after the first, from the answer store)"
+echo "GET distinct 360-payment schedules: $u requests/s at 16 connections (each computed; ${refused:-0} answered 503)"
 awk -v h="$h" -v s="$s" 'BEGIN {printf "schedule / healthz:               %.1f %%\n", 100 * s / h}'
+awk -v h="$h" -v u="$u" 'BEGIN {printf "distinct schedules / healthz:     %.1f %%\n", 100 * u / h}'
 
 # 2. A batch of level-payment loan checks.
 awk -v n="$batch_lines" 'BEGIN {
@@ -83,11 +91,13 @@ awk -v n="$answered" -v t="$seconds" 'BEGIN {printf "%.0f lines/s\n", n / t}'
 
 # 3. Saturation, then three times it.
 echo
-echo "== saturation sweep of the schedule (wrk -t2, 3 s each) =="
+# The sweep and the overload ask for distinct schedules: each one is computed,
+# none served from the answer store.
+echo "== saturation sweep of distinct schedules (wrk -t2, 3 s each) =="
 best=0
 best_c=1
 for c in 2 4 8 16 32; do
-    wrk -t2 -c"$c" -d3s "$schedule" >"$work/sweep.txt"
+    wrk -t2 -c"$c" -d3s -s scripts/distinct-schedules.lua "$base" >"$work/sweep.txt"
     r="$(rate "$work/sweep.txt")"
     echo "c=$c: $r requests/s"
     if awk -v r="$r" -v b="$best" 'BEGIN {exit !(r > 1.05 * b)}'; then
@@ -99,7 +109,8 @@ overload=$((3 * best_c))
 [[ "$overload" -lt 2 ]] && overload=2
 echo "saturating concurrency: $best_c ($best requests/s); overload at $overload"
 
-cat >"$work/count.lua" <<'EOF'
+cp scripts/distinct-schedules.lua "$work/count.lua"
+cat >>"$work/count.lua" <<'EOF'
 local threads = {}
 function setup(thread)
     table.insert(threads, thread)
@@ -140,7 +151,7 @@ rss_max=0
     done
 ) >"$work/rss.txt" &
 sampler=$!
-wrk -t2 -c"$overload" -d"$duration" --latency -s "$work/count.lua" "$schedule" >"$work/overload.txt"
+wrk -t2 -c"$overload" -d"$duration" --latency -s "$work/count.lua" "$base" >"$work/overload.txt"
 kill "$sampler" 2>/dev/null || true
 wait "$sampler" 2>/dev/null || true
 rss_max="$(sort -n "$work/rss.txt" | tail -1)"

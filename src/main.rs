@@ -22,6 +22,10 @@ struct Args {
     /// Longest time a request may take, in seconds.
     #[arg(long, env = "RESIDUE_REQUEST_TIMEOUT_SECS", default_value_t = 10)]
     request_timeout_secs: u64,
+    /// Longest time a client may take to send its request headers (or keep an idle
+    /// connection open), in seconds.
+    #[arg(long, env = "RESIDUE_HEADER_TIMEOUT_SECS", default_value_t = 10)]
+    header_timeout_secs: u64,
     /// Megabytes of computed GET answers kept for repeated requests (0 turns the store off).
     #[arg(long, env = "RESIDUE_ANSWER_CACHE_MB", default_value_t = 32)]
     answer_cache_mb: usize,
@@ -49,6 +53,7 @@ async fn main() -> std::io::Result<()> {
         max_body_bytes: args.max_body_bytes,
         max_in_flight: args.max_in_flight,
         request_timeout: Duration::from_secs(args.request_timeout_secs.max(1)),
+        header_read_timeout: Duration::from_secs(args.header_timeout_secs.max(1)),
         answer_cache_bytes: args.answer_cache_mb.saturating_mul(1024 * 1024),
         cors_origins: args
             .cors_origins

@@ -29,6 +29,9 @@ pub struct Config {
     pub max_in_flight: usize,
     /// The longest a request may take before it is answered 503.
     pub request_timeout: Duration,
+    /// The longest a client may take to send a request's headers (and the longest
+    /// an open connection may sit idle before its next request).
+    pub header_read_timeout: Duration,
     /// Bytes of computed GET answers kept for repeated requests (0: none).
     pub answer_cache_bytes: usize,
     /// Origins allowed to read answers from a browser (CORS); empty: none, `*`: any.
@@ -42,6 +45,7 @@ impl Default for Config {
             max_body_bytes: 1024 * 1024,
             max_in_flight: 16,
             request_timeout: Duration::from_secs(10),
+            header_read_timeout: Duration::from_secs(10),
             answer_cache_bytes: 32 * 1024 * 1024,
             cors_origins: Vec::new(),
         }
@@ -378,13 +382,63 @@ pub async fn bind(addr: SocketAddr) -> std::io::Result<(TcpListener, SocketAddr)
 
 /// Serves until SIGTERM or Ctrl-C, then finishes the requests in flight and returns.
 ///
+/// Each connection is served by HTTP/1.1 with a header read timeout: a client that
+/// does not finish its request headers in time (or leaves a kept-alive connection
+/// idle that long) is disconnected, so slow or idle clients cannot hold
+/// connections for ever. On the signal the listener closes, idle connections
+/// close, and requests in flight are answered before the function returns (at
+/// most the request timeout plus the header timeout later).
+///
 /// # Errors
 /// The server fails to run.
 pub async fn serve(listener: TcpListener, config: Config) -> std::io::Result<()> {
+    use hyper_util::rt::{TokioIo, TokioTimer};
+    use hyper_util::service::TowerToHyperService;
+    use tower::ServiceExt;
+
+    let header_timeout = config.header_read_timeout;
+    let drain_limit = config.request_timeout + config.header_read_timeout;
     let app = app(AppState::new(config));
-    axum::serve(listener, app)
-        .with_graceful_shutdown(shutdown_signal())
+    let graceful = hyper_util::server::graceful::GracefulShutdown::new();
+    let mut shutdown = std::pin::pin!(shutdown_signal());
+    loop {
+        let (stream, _peer) = tokio::select! {
+            accepted = listener.accept() => match accepted {
+                Ok(pair) => pair,
+                Err(e) => {
+                    // Out of file descriptors and the like: wait a little, go on.
+                    tracing::warn!(error = %e, "accept failed");
+                    tokio::time::sleep(Duration::from_millis(20)).await;
+                    continue;
+                }
+            },
+            () = &mut shutdown => break,
+        };
+        let _ = stream.set_nodelay(true);
+        let service = TowerToHyperService::new(
+            app.clone()
+                .map_request(|req: Request<hyper::body::Incoming>| req.map(axum::body::Body::new)),
+        );
+        let mut builder = hyper::server::conn::http1::Builder::new();
+        builder
+            .timer(TokioTimer::new())
+            .header_read_timeout(header_timeout)
+            .keep_alive(true);
+        let connection = graceful.watch(builder.serve_connection(TokioIo::new(stream), service));
+        tokio::spawn(async move {
+            if let Err(e) = connection.await {
+                tracing::debug!(error = %e, "connection ended");
+            }
+        });
+    }
+    drop(listener);
+    if tokio::time::timeout(drain_limit, graceful.shutdown())
         .await
+        .is_err()
+    {
+        tracing::warn!("shutdown: some connections were still open after {drain_limit:?}");
+    }
+    Ok(())
 }
 
 async fn shutdown_signal() {

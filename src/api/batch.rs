@@ -15,7 +15,7 @@ use axum::body::{Body, Bytes};
 use axum::extract::{Request, State};
 use axum::http::{header, HeaderValue};
 use axum::response::{IntoResponse, Response};
-use futures_util::StreamExt;
+use futures_util::{FutureExt, StreamExt};
 use serde::Serialize;
 use serde_json::Value;
 
@@ -28,6 +28,8 @@ use crate::server::AppState;
 pub const MAX_LINES: usize = 100_000;
 /// The longest line, in bytes.
 pub const MAX_LINE_BYTES: usize = 64 * 1024;
+/// Lines answered together at most, once they have arrived.
+const GROUP: usize = 512;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Detail {
@@ -80,7 +82,14 @@ fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Vec<u8>, ApiErro
                 to_bytes(&dto)
             }
         }
-        "loan_check" => to_bytes(&super::check::check_answer(fields(members(request)?))?),
+        "loan_check" => {
+            let mut answer = super::check::check_answer(fields(members(request)?))?;
+            if detail == Detail::Summary {
+                // Every figure and note stays; the form-rounding table is in `full`.
+                answer.disclosure_rounding.clear();
+            }
+            to_bytes(&answer)
+        }
         "apr" => to_bytes(&super::apr::answer(&super::apr::read_json(request)?)?),
         "apy" => to_bytes(&super::apy::answer(
             &super::apy::read_apy(fields(members(request)?))?,
@@ -278,41 +287,49 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
     let metrics = state.metrics.clone();
     let idle_timeout = state.config.request_timeout;
     let mut body = req.into_body().into_data_stream();
+    // Reading the first chunk before answering lets the server send
+    // "100 Continue" to a client that waits for it (Expect: 100-continue).
+    let first = tokio::time::timeout(idle_timeout, body.next()).await.ok();
     tokio::spawn(async move {
         let _permit = permit;
         let mut pending: Vec<u8> = Vec::new();
+        // pending[..start] holds whole lines not yet answered (`jobs`: start, end,
+        // number); pending[start..scanned] is a line still incomplete.
+        let (mut start, mut scanned) = (0usize, 0usize);
+        let mut jobs: Vec<(usize, usize, usize)> = Vec::new();
         let mut lines = 0usize;
         let mut finished = false;
         let mut too_long = false;
-        let mut stalled = false;
-        'read: loop {
+        let mut over = false;
+        let mut stalled = first.is_none();
+        let mut early = first;
+        while !stalled {
             // A client that stalls longer than the request timeout between two
-            // chunks loses its batch (and frees the batch permit).
-            let chunk = match tokio::time::timeout(idle_timeout, body.next()).await {
-                Ok(Some(Ok(c))) => c,
-                Ok(Some(Err(_))) => break,
-                Ok(None) => {
-                    finished = true;
-                    Bytes::new()
-                }
-                Err(_) => {
-                    stalled = true;
-                    break;
-                }
+            // chunks loses the rest of its batch (and frees the batch permit).
+            let item = match early.take() {
+                Some(item) => item,
+                None => match tokio::time::timeout(idle_timeout, body.next()).await {
+                    Ok(item) => item,
+                    Err(_) => {
+                        stalled = true;
+                        break;
+                    }
+                },
             };
-            pending.extend_from_slice(&chunk);
-            let before = lines;
-            let mut jobs: Vec<(usize, usize, usize)> = Vec::new();
-            let mut start = 0;
-            let mut over = false;
-            while let Some(pos) = pending[start..]
+            match item {
+                Some(Ok(chunk)) => pending.extend_from_slice(&chunk),
+                Some(Err(_)) => break,
+                None => finished = true,
+            }
+            while let Some(pos) = pending[scanned..]
                 .iter()
                 .position(|b| *b == b'\n')
-                .map(|p| p + start)
+                .map(|p| p + scanned)
             {
-                let (from, to) = (start, pos);
+                let from = start;
                 start = pos + 1;
-                if pending[from..to].iter().all(|b| b.is_ascii_whitespace()) {
+                scanned = start;
+                if pending[from..pos].iter().all(|b| b.is_ascii_whitespace()) {
                     continue;
                 }
                 lines += 1;
@@ -320,33 +337,46 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                     over = true;
                     break;
                 }
-                jobs.push((from, to, lines));
+                jobs.push((from, pos, lines));
             }
-            let mut out = answer_lines(&pending[..start], &jobs).await;
-            if over {
-                if !out.is_empty() && tx.send(Bytes::from(out)).await.is_err() {
-                    return;
-                }
-                break 'read;
-            }
-            pending.drain(..start);
-            if pending.len() > MAX_LINE_BYTES {
-                too_long = true;
-                break;
-            }
-            if finished && !pending.iter().all(|b| b.is_ascii_whitespace()) {
+            scanned = pending.len();
+            if finished && !over && !pending[start..].iter().all(|b| b.is_ascii_whitespace()) {
                 lines += 1;
-                let last = std::mem::take(&mut pending);
-                if lines <= MAX_LINES {
-                    out.extend(tokio::task::block_in_place(|| answer_line(&last, lines)));
+                if lines > MAX_LINES {
+                    over = true;
+                } else {
+                    jobs.push((start, pending.len(), lines));
+                    start = pending.len();
                 }
             }
-            metrics.add_batch_lines(lines.min(MAX_LINES).saturating_sub(before) as u64);
+            too_long = !over && pending.len() - start > MAX_LINE_BYTES;
+            // Lines already here are answered together (split over two cores);
+            // a slow client still gets each answer as soon as its line is in.
+            if !(finished || over || too_long) && jobs.len() < GROUP {
+                if let Some(item) = body.next().now_or_never() {
+                    early = Some(item);
+                    continue;
+                }
+            }
+            let out = answer_lines(&pending[..start], &jobs).await;
+            tracing::debug!(lines = jobs.len(), "batch group answered");
+            metrics.add_batch_lines(jobs.len() as u64);
+            jobs.clear();
+            pending.drain(..start);
+            scanned -= start;
+            start = 0;
             if !out.is_empty() && tx.send(Bytes::from(out)).await.is_err() {
                 return; // the client went away
             }
-            if finished {
+            if finished || over || too_long {
                 break;
+            }
+        }
+        if !jobs.is_empty() {
+            let out = answer_lines(&pending[..start], &jobs).await;
+            metrics.add_batch_lines(jobs.len() as u64);
+            if tx.send(Bytes::from(out)).await.is_err() {
+                return;
             }
         }
         let closing = if stalled {
@@ -365,7 +395,7 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                     lines + 1
                 ),
             ))
-        } else if lines > MAX_LINES {
+        } else if over {
             Some((
                 ProblemKind::TooLarge,
                 format!("a batch may hold at most {MAX_LINES} lines: the batch stops here"),

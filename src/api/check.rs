@@ -347,6 +347,8 @@ pub struct CheckAnswer {
     pub total_interest_percentage_full: String,
     pub in_five_years: InFiveYearsDto,
     pub finance_charge_tolerance: Option<FinanceChargeToleranceDto>,
+    /// How a disclosure form would show each figure (left out of a batch's summary).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
     pub disclosure_rounding: Vec<RoundingDto>,
     pub notes: Vec<String>,
 }

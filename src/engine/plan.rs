@@ -384,6 +384,26 @@ pub fn post_with(
     with_extras: bool,
     reconcile_ledger: bool,
 ) -> Result<Plan> {
+    post_inner(terms, o, with_extras, reconcile_ledger, true)
+}
+
+/// The posted rows and totals alone: no closed-form segments (`segments` is
+/// empty) and no reconciliation, for answers that show totals only (comparisons,
+/// disclosure checks).
+///
+/// # Errors
+/// As [`post`].
+pub fn post_totals(terms: &LoanTerms, o: &PlanOptions) -> Result<Plan> {
+    post_inner(terms, o, true, false, false)
+}
+
+fn post_inner(
+    terms: &LoanTerms,
+    o: &PlanOptions,
+    with_extras: bool,
+    reconcile_ledger: bool,
+    with_segments: bool,
+) -> Result<Plan> {
     terms.check()?;
     let c = terms.currency;
     let e = c.minor_units();
@@ -488,8 +508,12 @@ pub fn post_with(
                 format!("at payment {k} the payment does not exceed the interest, so the balance never falls"),
             ));
         }
-        let (recurring, lump) = extras_at(extras, k);
-        let (recurring, lump) = (to_minor(recurring, e)?, to_minor(lump, e)?);
+        let (recurring, lump) = if extras.is_empty() {
+            (0, 0)
+        } else {
+            let (recurring, lump) = extras_at(extras, k);
+            (to_minor(recurring, e)?, to_minor(lump, e)?)
+        };
         let mut extra = recurring + lump;
         let last = k == limit || o.balloon_after_payments == Some(k);
         if owed <= regular + extra || last {
@@ -546,7 +570,13 @@ pub fn post_with(
             row.date = Some(d);
         }
     }
-    let segments = solve_segments(terms.principal, &rows, &inputs, e)?;
+    // The closed-form segments serve the derivation and the reconciliation; an
+    // answer that shows neither (a comparison, a check) skips them.
+    let segments = if with_segments {
+        solve_segments(terms.principal, &rows, &inputs, e)?
+    } else {
+        Vec::new()
+    };
     let largest_drift = if reconcile_ledger {
         reconcile(&rows, &segments)?
     } else {

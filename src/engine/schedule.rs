@@ -6,7 +6,9 @@ use super::error::{EngineError, OrOverflow, Result};
 use super::ledger::{Ledger, Reconciliation, Row};
 use super::loan::{payment_for_term, solve_balance, UnitResponses, MAX_PAYMENTS};
 use super::money::{Currency, InterestRounding, PaymentRounding};
-use super::plan::{milestones, post_with, Milestones, OddDaysInterest, Plan, PlanOptions};
+use super::plan::{
+    milestones, post_totals, post_with, Milestones, OddDaysInterest, Plan, PlanOptions,
+};
 use super::rate::{AnnualRate, Frequency};
 use super::recurrence::Solution;
 
@@ -224,7 +226,11 @@ fn schedule_inner(
             terms.payment_frequency.name()
         ));
     }
-    let plan = post_with(terms, options, true, reconcile_ledger)?;
+    let plan = if reconcile_ledger {
+        post_with(terms, options, true, true)?
+    } else {
+        post_totals(terms, options)?
+    };
     let payment = plan.payment;
     if payment <= Decimal::ZERO {
         return Err(EngineError::no_solution(
@@ -236,6 +242,7 @@ fn schedule_inner(
         ));
     }
     let derivation = match terms.term {
+        LoanTerm::Payments(_) if !reconcile_ledger => None,
         LoanTerm::Payments(n) => {
             let amortizing = n - options.interest_only_payments;
             let balance = plan

@@ -578,6 +578,7 @@ fn an_extra_payment_after_payoff_is_answered_200_with_one_more_note() {
 fn app_with_timeout(secs: u64) -> TestApp {
     spawn_app_with(Config {
         request_timeout: Duration::from_secs(secs),
+        header_read_timeout: Duration::from_secs(secs),
         ..Config::default()
     })
 }
@@ -712,11 +713,9 @@ fn a_client_that_stalls_in_its_headers_does_not_block_others() {
     assert_still_healthy(&app);
 }
 
-/// Known gap (see the reliability report): no header read timeout is set, so a
-/// connection that never finishes its headers, or never sends anything, is held
-/// open for ever (slowloris). Run with `--ignored` once the server sets one.
+/// Slowloris: a client that never finishes its headers is disconnected once the
+/// header read timeout (1 s here) has passed.
 #[test]
-#[ignore = "the server sets no header read timeout yet: an idle connection is never closed"]
 fn a_client_that_stalls_in_its_headers_is_closed_within_a_bounded_time() {
     let app = app_with_timeout(1);
     let mut slow = TcpStream::connect(app.addr).unwrap();
@@ -732,6 +731,23 @@ fn a_client_that_stalls_in_its_headers_is_closed_within_a_bounded_time() {
         "the stalled connection is still open after {:?}",
         started.elapsed()
     );
+}
+
+#[test]
+fn a_connection_that_sends_nothing_is_closed_within_a_bounded_time() {
+    let app = app_with_timeout(1);
+    let mut idle = TcpStream::connect(app.addr).unwrap();
+    idle.set_read_timeout(Some(Duration::from_secs(20)))
+        .unwrap();
+    let started = Instant::now();
+    let mut buf = [0u8; 256];
+    let outcome = idle.read(&mut buf);
+    assert!(
+        outcome.is_ok() && started.elapsed() < Duration::from_secs(10),
+        "the idle connection is still open after {:?} ({outcome:?})",
+        started.elapsed()
+    );
+    assert_still_healthy(&app);
 }
 
 #[test]

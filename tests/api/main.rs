@@ -11,6 +11,7 @@ mod errors;
 mod health;
 mod helpers;
 mod openapi;
+mod operations;
 mod plans;
 mod recurrence;
 mod savings;

@@ -7,6 +7,7 @@
 #              BATCH_LINES (lines of the batch in flight at SIGTERM, default 600).
 #
 # 1. Saturation: wrk at MAX_IN_FLIGHT connections for 3 s gives the throughput.
+# (The answer store is off, so every request is computed.)
 # 2. Overload: wrk at 3 x MAX_IN_FLIGHT connections for DURATION s; checks only 200s
 #    and 503s, every 503 with Retry-After, VmRSS sampled each second under 200 MB,
 #    /healthz polled every 0.5 s answers 200 throughout.
@@ -39,7 +40,7 @@ check() { local what=$1; shift; if "$@"; then pass "$what"; else fail "$what"; f
 
 PORT=$(python3 -c 'import socket; s=socket.socket(); s.bind(("127.0.0.1",0)); print(s.getsockname()[1])')
 BASE="http://127.0.0.1:$PORT"
-RESIDUE_LOG=warn "$BIN" --addr "127.0.0.1:$PORT" --max-in-flight "$MAX_IN_FLIGHT" \
+RESIDUE_LOG=warn "$BIN" --addr "127.0.0.1:$PORT" --max-in-flight "$MAX_IN_FLIGHT" --answer-cache-mb 0 \
   --request-timeout-secs 10 >"$WORK/server.log" 2>&1 &
 PID=$!
 for _ in $(seq 100); do curl -sf -o /dev/null "$BASE/healthz" && break; sleep 0.1; done
