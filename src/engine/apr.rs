@@ -370,11 +370,14 @@ fn unit_equation(
     for (flows, sign) in [(payments, Decimal::ONE), (advances, Decimal::NEGATIVE_ONE)] {
         for flow in flows {
             let (discounted, discounted_slope) = flow_present_value(flow, i, v, &mut powers)?;
-            value = value
-                .checked_add(sign * discounted)
-                .or_overflow("the rate equation")?;
+            let (d, ds) = if sign.is_sign_negative() {
+                (-discounted, -discounted_slope)
+            } else {
+                (discounted, discounted_slope)
+            };
+            value = value.checked_add(d).or_overflow("the rate equation")?;
             slope = slope
-                .checked_add(sign * discounted_slope)
+                .checked_add(ds)
                 .or_overflow("the slope of the rate equation")?;
         }
     }
@@ -388,6 +391,8 @@ struct Powers {
     v: Decimal,
     /// (t, v^t), ascending in t; starts with (0, 1).
     known: Vec<(u32, Decimal)>,
+    /// (f, 1/(1 + f·i)) for the fractions met so far (dated flows share few).
+    simple: Vec<(Decimal, Decimal)>,
 }
 
 impl Powers {
@@ -395,7 +400,30 @@ impl Powers {
         Self {
             v,
             known: vec![(0, Decimal::ONE)],
+            simple: Vec::new(),
         }
+    }
+
+    /// 1/(1 + f·i), computed once per fraction.
+    fn inverse_simple(&mut self, f: Decimal, i: Decimal) -> Result<Decimal> {
+        let what = "a present value";
+        if f.is_zero() {
+            return Ok(Decimal::ONE);
+        }
+        if let Some((_, inv)) = self.simple.iter().find(|(g, _)| *g == f) {
+            return Ok(*inv);
+        }
+        let inv = Decimal::ONE
+            .checked_div(
+                Decimal::ONE
+                    .checked_add(f.checked_mul(i).or_overflow(what)?)
+                    .or_overflow(what)?,
+            )
+            .or_overflow(what)?;
+        if self.simple.len() < 64 {
+            self.simple.push((f, inv));
+        }
+        Ok(inv)
     }
 
     fn get(&mut self, t: u32) -> Result<Decimal> {
@@ -428,17 +456,7 @@ fn flow_present_value(
     let what = "a present value";
     let vt = powers.get(flow.periods)?;
     // 1/(1 + f·i), one division shared by the value and the slope.
-    let inverse_simple = if flow.fraction.is_zero() {
-        Decimal::ONE
-    } else {
-        Decimal::ONE
-            .checked_div(
-                Decimal::ONE
-                    .checked_add(flow.fraction.checked_mul(i).or_overflow(what)?)
-                    .or_overflow(what)?,
-            )
-            .or_overflow(what)?
-    };
+    let inverse_simple = powers.inverse_simple(flow.fraction, i)?;
     let base = vt.checked_mul(inverse_simple).or_overflow(what)?;
     // d(v^t)/di = −t·v^(t+1); d(1/(1 + f·i))/di = −f/(1 + f·i)².
     let log_slope = -(Decimal::from(flow.periods)
@@ -448,8 +466,13 @@ fn flow_present_value(
             .fraction
             .checked_mul(inverse_simple)
             .or_overflow(what)?;
-    let (s, ds) = annuity_factor(i, v, flow.count, powers)?;
     let scaled = flow.amount.checked_mul(base).or_overflow(what)?;
+    if flow.count == 1 {
+        // S = 1, S' = 0.
+        let slope = scaled.checked_mul(log_slope).or_overflow(what)?;
+        return Ok((scaled, slope));
+    }
+    let (s, ds) = annuity_factor(i, v, flow.count, powers)?;
     let value = scaled.checked_mul(s).or_overflow(what)?;
     let slope = scaled
         .checked_mul(
