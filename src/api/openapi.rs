@@ -256,6 +256,24 @@ pub mod request {
         pub prepaid_finance_charges: Option<Vec<PrepaidFinanceCharge>>,
         /// Selects the finance-charge tolerance of §1026.18(d)(1) (true, default) or (d)(2).
         pub mortgage: Option<bool>,
+        /// ISO 8601: the APR's advance date; with `first_payment_date` the APR is found
+        /// from the dates and an odd first period accrues interest for its odd days.
+        #[schema(value_type = Option<String>, format = Date)]
+        pub funding_date: Option<String>,
+        /// ISO 8601; dates every payment.
+        #[schema(value_type = Option<String>, format = Date)]
+        pub first_payment_date: Option<String>,
+        pub day_count: Option<DayCount>,
+        /// `prepaid`: the odd days' interest is a prepaid finance charge.
+        pub odd_days_interest: Option<OddDaysInterest>,
+        #[schema(maximum = 6000)]
+        pub interest_only_payments: Option<u32>,
+        #[schema(maximum = 6000)]
+        pub balloon_after_payments: Option<u32>,
+        #[schema(max_items = 120)]
+        pub rate_changes: Option<Vec<RateChange>>,
+        pub rate_change_keeps: Option<RateChangeKeeps>,
+        pub property_value: Option<DecimalNumber>,
     }
 
     /// `us_actuarial` (Regulation Z Appendix J, default) or `eu_aprc` (Directive 2008/48/EC).
@@ -1209,8 +1227,15 @@ mod tests {
             sorted(properties(&doc, "SavingsPlanRequest")),
             sorted(savings)
         );
+        // The plan fields that shape scheduled payments; `extra_payments` is read
+        // only to be refused (a disclosure counts scheduled payments), `label` not at all.
         let check: Vec<String> = crate::api::loans::LOAN_FIELDS
             .iter()
+            .chain(
+                crate::api::loans::PLAN_FIELDS
+                    .iter()
+                    .filter(|f| !["extra_payments", "label"].contains(f)),
+            )
             .map(|s| s.to_string())
             .chain(
                 [

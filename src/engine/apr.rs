@@ -292,13 +292,100 @@ pub fn solve_apr(
     if total_paid == total_advanced {
         return result(Decimal::ZERO, 0);
     }
-    let estimate = estimate_rate(|i| unit_equation_f64(advances, payments, i));
+    let binary = BinaryFlows::new(advances, payments);
+    let estimate = binary
+        .as_ref()
+        .and_then(|b| estimate_rate(|i| b.equation(i)));
+    // The binary estimate polished by Newton steps on the decimal equation alone
+    // (its slope taken in binary floating point: a slope off by 1e-15 of itself
+    // changes each step by as little, not the root); the full bracketed iteration
+    // should the polish not settle.
+    if let (Some(b), Some(e)) = (&binary, estimate) {
+        if let Some(found) = polish(|i| unit_value(advances, payments, i), b, e)? {
+            return result(found.0, found.1);
+        }
+    }
     let (i, iterations) = solve_falling(
         |i| unit_equation(advances, payments, i),
         estimate,
         "payments",
     )?;
     result(i, iterations)
+}
+
+/// Newton steps x ← x − G(x)/G'(x) from `estimate`, G in decimal and G' in binary
+/// floating point; the root once a step is below [`TOLERANCE`], with the number
+/// of decimal evaluations, or `None` when the steps do not settle within four.
+fn polish(
+    value: impl Fn(Decimal) -> Result<Decimal>,
+    binary: &BinaryFlows,
+    estimate: Decimal,
+) -> Result<Option<(Decimal, u32)>> {
+    let Some(start) = estimate.to_f64() else {
+        return Ok(None);
+    };
+    let Some(slope) = binary
+        .equation(start)
+        .map(|(_, s)| s)
+        .filter(|s| s.is_finite() && *s < 0.0)
+        .and_then(Decimal::from_f64)
+    else {
+        return Ok(None);
+    };
+    if estimate <= Decimal::ZERO {
+        return Ok(None);
+    }
+    let mut x = estimate;
+    for step in 1..=4 {
+        let g = value(x)?;
+        if g.is_zero() {
+            return Ok(Some((x, step)));
+        }
+        let Some(delta) = g.checked_div(slope) else {
+            return Ok(None);
+        };
+        let next = x - delta;
+        if next <= Decimal::ZERO {
+            return Ok(None);
+        }
+        if delta.abs() < TOLERANCE {
+            return Ok(Some((next, step)));
+        }
+        x = next;
+    }
+    Ok(None)
+}
+
+/// G(i) alone (no slope): Σ payments' present values − Σ advances'.
+fn unit_value(advances: &[UnitFlow], payments: &[UnitFlow], i: Decimal) -> Result<Decimal> {
+    let what = "the rate equation";
+    let one_plus = Decimal::ONE.checked_add(i).or_overflow(what)?;
+    let v = Decimal::ONE.checked_div(one_plus).or_overflow(what)?;
+    let mut powers = Powers::new(v);
+    let mut total = Decimal::ZERO;
+    for (flows, paid) in [(payments, true), (advances, false)] {
+        for flow in flows {
+            let vt = powers.get(flow.periods)?;
+            let base = if flow.fraction.is_zero() {
+                vt
+            } else {
+                vt.checked_mul(powers.inverse_simple(flow.fraction, i)?)
+                    .or_overflow(what)?
+            };
+            let mut pv = flow.amount.checked_mul(base).or_overflow(what)?;
+            if flow.count > 1 {
+                let (s, _) = annuity_factor(i, v, flow.count, &mut powers)?;
+                pv = pv.checked_mul(s).or_overflow(what)?;
+            }
+            total = if paid {
+                total.checked_add(pv)
+            } else {
+                total.checked_sub(pv)
+            }
+            .or_overflow(what)?;
+        }
+    }
+    Ok(total)
 }
 
 /// Checks a list of flows and returns the total of their amounts.
@@ -532,33 +619,52 @@ fn annuity_factor(
     Ok((s, ds))
 }
 
-/// The same equation in binary floating point, for the first estimate only.
-fn unit_equation_f64(advances: &[UnitFlow], payments: &[UnitFlow], i: f64) -> Option<(f64, f64)> {
-    let v = 1.0 / (1.0 + i);
-    let mut value = 0.0;
-    let mut slope = 0.0;
-    for (flows, sign) in [(payments, 1.0), (advances, -1.0)] {
-        for flow in flows {
-            let a = flow.amount.to_f64()?;
-            let f = flow.fraction.to_f64()?;
-            let t = f64::from(flow.periods);
-            let n = f64::from(flow.count);
-            let base = v.powf(t) / (1.0 + f * i);
+/// The flows in binary floating point (sign, amount, fraction, periods, count),
+/// converted once, for the first estimate only.
+struct BinaryFlows {
+    flows: Vec<(f64, f64, f64, f64, f64)>,
+}
+
+impl BinaryFlows {
+    fn new(advances: &[UnitFlow], payments: &[UnitFlow]) -> Option<Self> {
+        let mut flows = Vec::with_capacity(advances.len() + payments.len());
+        for (list, sign) in [(payments, 1.0), (advances, -1.0)] {
+            for f in list {
+                flows.push((
+                    sign,
+                    f.amount.to_f64()?,
+                    f.fraction.to_f64()?,
+                    f64::from(f.periods),
+                    f64::from(f.count),
+                ));
+            }
+        }
+        Some(Self { flows })
+    }
+
+    /// G(i) and G'(i).
+    fn equation(&self, i: f64) -> Option<(f64, f64)> {
+        let v = 1.0 / (1.0 + i);
+        let ln_v = v.ln();
+        let mut value = 0.0;
+        let mut slope = 0.0;
+        for &(sign, a, f, t, n) in &self.flows {
+            let base = (t * ln_v).exp() / (1.0 + f * i);
             let log_slope = -t * v - f / (1.0 + f * i);
-            let (s, ds) = if flow.count == 1 {
+            let (s, ds) = if n == 1.0 {
                 (1.0, 0.0)
             } else if i.abs() < 1e-9 {
                 (n, -n * (n - 1.0) / 2.0)
             } else {
-                let vn = v.powf(n);
+                let vn = (n * ln_v).exp();
                 let w = 1.0 - vn;
                 (w * (1.0 + i) / i, (n * vn - w / i) / i)
             };
             value += sign * a * base * s;
             slope += sign * a * base * (log_slope * s + ds);
         }
+        (value.is_finite() && slope.is_finite()).then_some((value, slope))
     }
-    (value.is_finite() && slope.is_finite()).then_some((value, slope))
 }
 
 /// A first estimate of the root of a falling equation with g(0) > 0, in binary

@@ -52,6 +52,8 @@ pub struct InterestPoster {
     rate: Decimal,
     mantissa: i128,
     divisor: i128,
+    /// mantissa / divisor in binary floating point, for the quotient's estimate.
+    rate_f64: f64,
     minor_units: u32,
     rounding: InterestRounding,
 }
@@ -62,6 +64,7 @@ impl InterestPoster {
             rate,
             mantissa: rate.mantissa(),
             divisor: POW10[rate.scale() as usize],
+            rate_f64: rate.mantissa() as f64 / POW10[rate.scale() as usize] as f64,
             minor_units: currency.minor_units(),
             rounding,
         }
@@ -70,7 +73,9 @@ impl InterestPoster {
     /// The interest on `balance` minor units, in minor units.
     pub fn interest(&self, balance: i128) -> Result<i128> {
         if let Some(product) = balance.checked_mul(self.mantissa) {
-            let (q, r) = (product / self.divisor, product % self.divisor);
+            // balance × rate in binary floating point, within a unit or two of q.
+            let estimate = i64::try_from(balance).map_or(f64::NAN, |b| b as f64 * self.rate_f64);
+            let (q, r) = divide(product, self.divisor, estimate);
             let twice = r.abs() * 2;
             let up = match self.rounding {
                 InterestRounding::HalfUp => twice >= self.divisor,
@@ -91,6 +96,32 @@ impl InterestPoster {
     }
 }
 
+/// (product / divisor, product % divisor) as Rust's `/` and `%` give them (the
+/// quotient truncated toward zero), for divisor > 0.
+///
+/// A 128-bit division is a slow library call; a binary-floating-point quotient is
+/// within a unit or two of the exact one whenever it is below 2^52, and one
+/// multiplication and a correction make it exact. Larger quotients take the
+/// library division.
+fn divide(product: i128, divisor: i128, estimate: f64) -> (i128, i128) {
+    if !(estimate.abs() < 4.0e15) {
+        return (product / divisor, product % divisor);
+    }
+    // Below 2^52 the estimate converts through i64 (one instruction each way).
+    let mut q = i128::from(estimate as i64);
+    let mut r = product - q * divisor;
+    // Truncation toward zero: r carries the sign of product, |r| < divisor.
+    while r.signum() * product.signum() < 0 {
+        q -= product.signum();
+        r += product.signum() * divisor;
+    }
+    while r.abs() >= divisor {
+        q += product.signum();
+        r -= product.signum() * divisor;
+    }
+    (q, r)
+}
+
 /// An amount as an integer of minor units (it must already fit the currency).
 pub fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
     let mut a = amount;
@@ -102,6 +133,18 @@ pub fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
 }
 
 pub fn from_minor(amount: i128, minor_units: u32) -> Decimal {
+    let magnitude = amount.unsigned_abs();
+    if magnitude < (1u128 << 96) && minor_units <= 28 {
+        // The 96-bit mantissa as three words: what the checked constructor does,
+        // without its checks (both hold here).
+        return Decimal::from_parts(
+            magnitude as u32,
+            (magnitude >> 32) as u32,
+            (magnitude >> 64) as u32,
+            amount < 0,
+            minor_units,
+        );
+    }
     Decimal::from_i128_with_scale(amount, minor_units)
 }
 
@@ -215,6 +258,80 @@ mod tests {
 
     fn d(s: &str) -> Decimal {
         s.parse().unwrap()
+    }
+
+    #[test]
+    fn minor_units_read_as_the_decimal_constructor_reads_them() {
+        // The decimal crate's checked constructor is the reference.
+        for amount in [
+            0i128,
+            1,
+            -1,
+            99_955,
+            -123_456_789,
+            (1 << 96) - 1,
+            -((1 << 96) - 1),
+            1 << 70,
+        ] {
+            for e in [0, 2, 3] {
+                assert_eq!(
+                    from_minor(amount, e),
+                    Decimal::from_i128_with_scale(amount, e)
+                );
+                assert_eq!(
+                    from_minor(amount, e).to_string(),
+                    Decimal::from_i128_with_scale(amount, e).to_string()
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn the_quick_division_agrees_with_the_integer_division() {
+        // Rust's own i128 `/` and `%` are the reference.
+        let divisors = [
+            1i128,
+            7,
+            1000,
+            10i128.pow(18),
+            10i128.pow(28),
+            3 * 10i128.pow(27) + 1,
+        ];
+        let mut x: i128 = 0x1234_5678_9abc_def0;
+        for _ in 0..20_000 {
+            // A 128-bit linear congruential walk over products of every size.
+            x = x
+                .wrapping_mul(0x2545_f491_4f6c_dd1d)
+                .wrapping_add(0x9e37_79b9_7f4a_7c15);
+            let shift = (x as u128 % 120) as u32;
+            let product = x >> shift;
+            for d in divisors {
+                let estimate = product as f64 / d as f64;
+                assert_eq!(
+                    divide(product, d, estimate),
+                    (product / d, product % d),
+                    "{product} / {d}"
+                );
+            }
+        }
+        for product in [
+            0i128,
+            1,
+            -1,
+            i128::MAX,
+            i128::MIN + 1,
+            10i128.pow(28) - 1,
+            -(10i128.pow(28)),
+        ] {
+            for d in divisors {
+                let estimate = product as f64 / d as f64;
+                assert_eq!(
+                    divide(product, d, estimate),
+                    (product / d, product % d),
+                    "{product} / {d}"
+                );
+            }
+        }
     }
 
     #[test]

@@ -452,7 +452,9 @@ fn post_inner(
     let mut pay = to_minor(payment, e)?;
     let mut balance = to_minor(terms.principal, e)?;
     let mut rows: Vec<PlanRow> = Vec::with_capacity(n as usize);
-    let mut inputs: Vec<(Decimal, i128, i128, i128)> = Vec::with_capacity(n as usize); // (i, regular, recurring, lump)
+    // (i, regular, recurring, lump) of each payment, for the closed-form segments.
+    let mut inputs: Vec<(Decimal, i128, i128, i128)> =
+        Vec::with_capacity(if with_segments { n as usize } else { 0 });
     let mut balloon = None;
     let (mut total_paid, mut total_interest, mut total_extra) = (0i128, 0i128, 0i128);
     let mut limit = n;
@@ -547,7 +549,9 @@ fn post_inner(
             principal: from_minor(principal_part, e),
             balance: from_minor(balance, e),
         });
-        inputs.push((i, regular, recurring, lump));
+        if with_segments {
+            inputs.push((i, regular, recurring, lump));
+        }
         if balance == 0 {
             break;
         }
