@@ -104,7 +104,7 @@ impl InterestPoster {
 /// multiplication and a correction make it exact. Larger quotients take the
 /// library division.
 fn divide(product: i128, divisor: i128, estimate: f64) -> (i128, i128) {
-    if !(estimate.abs() < 4.0e15) {
+    if estimate.is_nan() || estimate.abs() >= 4.0e15 {
         return (product / divisor, product % divisor);
     }
     // Below 2^52 the estimate converts through i64 (one instruction each way).
