@@ -29,5 +29,28 @@ fn loan_page(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, loan_page);
+/// One batch line of a level-payment loan check (payment and APR), read, computed
+/// and written, as the batch answers it (the load script's lines look like it),
+/// and the 360-payment JSON schedule answer as the API writes it.
+fn api_answers(c: &mut Criterion) {
+    let line = br#"{"id":7,"job":"loan_check","request":{"principal":"246113","annual_rate_percent":"6.7","term_months":360}}"#;
+    c.bench_function("batch line: a 360-payment loan check", |b| {
+        b.iter(|| residue::api::batch::answer_line(std::hint::black_box(line), 7))
+    });
+    let pairs: Vec<(String, String)> = form_urlencoded::parse(LOAN.as_bytes())
+        .into_owned()
+        .collect();
+    c.bench_function("360-payment JSON schedule: read, compute, write", |b| {
+        b.iter(|| {
+            let fields = residue::api::fields::Fields::new(residue::api::fields::Source::Query(
+                std::hint::black_box(&pairs),
+            ));
+            let r = residue::api::loans::schedule_request_from(fields).expect("valid");
+            let s = residue::engine::schedule::schedule_with(&r.terms, &r.options).expect("solved");
+            residue::api::loans::LoanScheduleDto::answer_json(&s)
+        })
+    });
+}
+
+criterion_group!(benches, loan_page, api_answers);
 criterion_main!(benches);

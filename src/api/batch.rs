@@ -72,14 +72,14 @@ fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Vec<u8>, ApiErro
             let r = super::loans::schedule_request_from(fields(members(request)?))?;
             let s = crate::engine::schedule::schedule_with(&r.terms, &r.options)
                 .map_err(|e| ApiError::from_engine(e, "/"))?;
-            let dto = super::loans::LoanScheduleDto::from_schedule(&s);
             if detail == Detail::Summary {
+                let dto = super::loans::LoanScheduleDto::build(&s, false);
                 to_bytes(&SummaryOnly {
                     summary: &dto.summary,
                     notes: &dto.notes,
                 })
             } else {
-                to_bytes(&dto)
+                Ok(super::loans::LoanScheduleDto::answer_json(&s))
             }
         }
         "loan_check" => {

@@ -118,6 +118,18 @@ pub fn json_answer<T: Serialize>(value: &T) -> Response {
     }
 }
 
+/// JSON already written, with the right media type.
+pub fn json_bytes_answer(body: Vec<u8>) -> Response {
+    (
+        [(
+            header::CONTENT_TYPE,
+            HeaderValue::from_static("application/json"),
+        )],
+        body,
+    )
+        .into_response()
+}
+
 /// A CSV answer (RFC 4180), offered as a download with a file name.
 pub fn csv_answer(body: String, filename: &str) -> Response {
     let mut r = body.into_response();
@@ -154,7 +166,7 @@ fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
     Ok(if csv {
         csv_answer(schedule_csv(&s), "schedule.csv")
     } else {
-        json_answer(&LoanScheduleDto::from_schedule(&s))
+        json_bytes_answer(LoanScheduleDto::answer_json(&s))
     })
 }
 

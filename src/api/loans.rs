@@ -303,8 +303,78 @@ pub struct LoanScheduleDto {
     pub notes: Vec<String>,
 }
 
+/// The answer's members before its schedule, in the order of [`LoanScheduleDto`].
+#[derive(Serialize)]
+struct ScheduleHead<'a> {
+    summary: &'a SummaryDto,
+    derivation: &'a LoanDerivationDto,
+    reconciliation: &'a Option<ReconciliationDto>,
+}
+
 impl LoanScheduleDto {
     pub fn from_schedule(s: &LoanSchedule) -> Self {
+        Self::build(s, true)
+    }
+
+    /// The JSON of [`LoanScheduleDto::from_schedule`], byte for byte, with the
+    /// schedule's rows written straight from the ledger: numbers, dates and amounts
+    /// need no escaping, and a 360-row answer is most of its length.
+    pub fn answer_json(s: &LoanSchedule) -> Vec<u8> {
+        let head = Self::build(s, false);
+        let c = s.terms.currency;
+        let mut out = Vec::with_capacity(112 * s.ledger.rows.len() + 8192);
+        let written = serde_json::to_writer(
+            &mut out,
+            &ScheduleHead {
+                summary: &head.summary,
+                derivation: &head.derivation,
+                reconciliation: &head.reconciliation,
+            },
+        );
+        if written.is_err() || out.pop() != Some(b'}') {
+            return serde_json::to_vec(&Self::from_schedule(s)).unwrap_or_default();
+        }
+        out.extend_from_slice(b",\"schedule\":[");
+        for (k, r) in s.ledger.rows.iter().enumerate() {
+            if k > 0 {
+                out.push(b',');
+            }
+            out.extend_from_slice(b"{\"number\":");
+            out.extend_from_slice(r.number.to_string().as_bytes());
+            out.extend_from_slice(b",\"date\":");
+            match r.date {
+                Some(d) => {
+                    out.push(b'"');
+                    super::text::write_iso_date(&mut out, d);
+                    out.push(b'"');
+                }
+                None => out.extend_from_slice(b"null"),
+            }
+            for (key, amount) in [
+                (&b"payment"[..], r.payment),
+                (b"extra", r.extra),
+                (b"interest", r.interest),
+                (b"principal", r.principal),
+                (b"balance", r.balance),
+            ] {
+                out.extend_from_slice(b",\"");
+                out.extend_from_slice(key);
+                out.extend_from_slice(b"\":\"");
+                out.extend_from_slice(c.text(amount).as_str().as_bytes());
+                out.push(b'"');
+            }
+            out.push(b'}');
+        }
+        out.extend_from_slice(b"],\"notes\":");
+        if serde_json::to_writer(&mut out, &head.notes).is_err() {
+            return serde_json::to_vec(&Self::from_schedule(s)).unwrap_or_default();
+        }
+        out.push(b'}');
+        out
+    }
+
+    /// The answer, with or without the schedule's rows.
+    pub(crate) fn build(s: &LoanSchedule, with_rows: bool) -> Self {
         let c = s.terms.currency;
         let money = |d: Decimal| c.format(d);
         let date = |d: Option<jiff::civil::Date>| d.map(|d| d.to_string());
@@ -418,6 +488,7 @@ impl LoanScheduleDto {
                 .ledger
                 .rows
                 .iter()
+                .take(if with_rows { usize::MAX } else { 0 })
                 .map(|r| RowDto {
                     number: r.number,
                     date: r.date.map(IsoDate),
@@ -859,5 +930,39 @@ pub fn schedule_request_from(mut f: Fields<'_>) -> Result<ScheduleRequest, ApiEr
             label,
         }),
         _ => Err(ApiError::fields(errors)),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn answer(query: &str) -> LoanSchedule {
+        let pairs: Vec<(String, String)> = form_urlencoded::parse(query.as_bytes())
+            .into_owned()
+            .collect();
+        let r = schedule_request_from(Fields::new(Source::Query(&pairs))).expect("valid");
+        crate::engine::schedule::schedule_with(&r.terms, &r.options).expect("solved")
+    }
+
+    #[test]
+    fn the_hand_written_answer_is_the_serialized_answer_byte_for_byte() {
+        // serde_json's own serialization of the whole answer is the reference.
+        for query in [
+            "principal=100000&annual_rate_percent=6&term_months=360",
+            "principal=250000&annual_rate_percent=7.125&term_months=360&funding_date=2027-01-17&first_payment_date=2027-03-01&extra_payments=150@13-,5000@36",
+            "principal=1500000&annual_rate_percent=1.9&term_months=120&currency=JPY",
+            "principal=8000.125&annual_rate_percent=4&term_months=24&currency=KWD&rate_changes=13:6",
+            "principal=12000&annual_rate_percent=0&term_months=48&first_payment_date=2027-01-31",
+        ] {
+            let s = answer(query);
+            let want = serde_json::to_vec(&LoanScheduleDto::from_schedule(&s)).unwrap();
+            let got = LoanScheduleDto::answer_json(&s);
+            assert_eq!(
+                String::from_utf8(got).unwrap(),
+                String::from_utf8(want).unwrap(),
+                "{query}"
+            );
+        }
     }
 }

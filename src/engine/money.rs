@@ -168,61 +168,69 @@ impl Currency {
 /// A decimal amount as text with a fixed number of decimals, held on the stack.
 #[derive(Clone, Copy)]
 pub struct AmountText {
+    /// The text is `bytes[start..]`, written from the end.
     bytes: [u8; 40],
-    len: u8,
+    start: u8,
 }
 
 impl AmountText {
     /// `value` (whose scale is at most 28) with exactly `decimals` decimals; extra
     /// decimals of `value` are cut, missing ones written as zeros.
     fn new(value: Decimal, decimals: u32) -> Self {
-        let mut digits = [0u8; 32];
-        let mut n = 0;
-        let mut mantissa = value.mantissa().unsigned_abs();
-        // u64 division is far cheaper than u128: money almost always fits.
-        while mantissa > u128::from(u64::MAX) {
-            digits[n] = b'0' + (mantissa % 10) as u8;
-            mantissa /= 10;
-            n += 1;
-        }
-        let mut small = mantissa as u64;
-        while small > 0 {
-            digits[n] = b'0' + (small % 10) as u8;
-            small /= 10;
-            n += 1;
-        }
-        let scale = value.scale() as usize;
-        let decimals = decimals as usize;
-        // digits[] holds the mantissa least significant first; position p counts
-        // decimals from the point (p < scale: after it).
-        let digit = |p: usize| if p < n { digits[p] } else { b'0' };
         let mut out = AmountText {
-            bytes: [0; 40],
-            len: 0,
+            bytes: [b'0'; 40],
+            start: 40,
         };
         let mut push = |b: u8| {
-            out.bytes[out.len as usize] = b;
-            out.len += 1;
+            out.start -= 1;
+            out.bytes[out.start as usize] = b;
         };
-        if value.is_sign_negative() && value.mantissa() != 0 {
-            push(b'-');
+        // One decimal digit off the end; u64 division by ten is a multiplication,
+        // u128 division a library call, so the narrow path is taken when it fits.
+        let take = |m: &mut u128| -> u8 {
+            match u64::try_from(*m) {
+                Ok(v) => {
+                    *m = u128::from(v / 10);
+                    b'0' + (v % 10) as u8
+                }
+                Err(_) => {
+                    let d = (*m % 10) as u8;
+                    *m /= 10;
+                    b'0' + d
+                }
+            }
+        };
+        let scale = value.scale();
+        let mut m = value.mantissa().unsigned_abs();
+        for _ in decimals..scale {
+            take(&mut m);
         }
-        let whole = n.saturating_sub(scale).max(1);
-        for i in (0..whole).rev() {
-            push(digit(scale + i));
+        let negative = value.is_sign_negative() && m != 0;
+        let shown = scale.min(decimals);
+        for _ in shown..decimals {
+            push(b'0');
+        }
+        for _ in 0..shown {
+            push(take(&mut m));
         }
         if decimals > 0 {
             push(b'.');
-            for j in 1..=decimals {
-                push(if j <= scale { digit(scale - j) } else { b'0' });
+        }
+        loop {
+            push(take(&mut m));
+            if m == 0 {
+                break;
             }
+        }
+        if negative {
+            push(b'-');
         }
         out
     }
 
     pub fn as_str(&self) -> &str {
         // Only ASCII digits, '-' and '.' are ever written.
-        std::str::from_utf8(&self.bytes[..self.len as usize]).unwrap_or("")
+        std::str::from_utf8(&self.bytes[self.start as usize..]).unwrap_or("")
     }
 }
 

@@ -302,7 +302,7 @@ impl ClosedForm {
                 }
             }
             if k >= 1 {
-                let seen = observed(k).to_f64().unwrap_or(f64::NAN);
+                let seen = quick_f64(observed(k));
                 gaps.push((seen - x).abs());
                 magnitude = magnitude.max(size + seen.abs());
             }
@@ -378,6 +378,16 @@ impl ClosedForm {
 }
 
 /// p^k, with 1^k and 0^k taken without arithmetic.
+/// A decimal in binary floating point within a few units in the last place
+/// (mantissa ÷ 10^scale, each rounded once): for screening, never for an answer.
+fn quick_f64(d: Decimal) -> f64 {
+    const TENS: [f64; 29] = [
+        1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
+        1e17, 1e18, 1e19, 1e20, 1e21, 1e22, 1e23, 1e24, 1e25, 1e26, 1e27, 1e28,
+    ];
+    d.mantissa() as f64 / TENS[(d.scale() as usize).min(28)]
+}
+
 pub fn pow(p: Decimal, k: u32) -> Result<Decimal> {
     use rust_decimal::MathematicalOps;
     if p == Decimal::ONE || k == 0 {
