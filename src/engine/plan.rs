@@ -77,18 +77,9 @@ pub struct PlanOptions {
     pub property_value: Option<Decimal>,
 }
 
-/// One posted payment.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct PlanRow {
-    pub number: u32,
-    pub date: Option<Date>,
-    /// The scheduled payment (with odd-days interest on the first, the balloon on the last).
-    pub payment: Decimal,
-    pub extra: Decimal,
-    pub interest: Decimal,
-    pub principal: Decimal,
-    pub balance: Decimal,
-}
+/// One posted payment: the ledger's row (the schedule moves the plan's rows into
+/// its ledger rather than copying them).
+pub type PlanRow = super::ledger::Row;
 
 /// A run of payments solved by one closed form.
 #[derive(Debug, Clone)]

@@ -75,7 +75,7 @@ pub struct LoanSchedule {
     /// Against the same loan without extra payments, when there are extras.
     pub savings: Option<Savings>,
     pub milestones: Milestones,
-    /// The posted plan with its closed-form segments.
+    /// The posted plan with its closed-form segments (its rows are moved into `ledger`).
     pub plan: Plan,
 }
 
@@ -226,7 +226,7 @@ fn schedule_inner(
             terms.payment_frequency.name()
         ));
     }
-    let plan = if reconcile_ledger {
+    let mut plan = if reconcile_ledger {
         post_with(terms, options, true, true)?
     } else {
         post_totals(terms, options)?
@@ -299,19 +299,8 @@ fn schedule_inner(
             currency.format(plan.odd_days_interest)
         ));
     }
-    let rows: Vec<Row> = plan
-        .rows
-        .iter()
-        .map(|r| Row {
-            number: r.number,
-            date: r.date,
-            payment: r.payment,
-            extra: r.extra,
-            interest: r.interest,
-            principal: r.principal,
-            balance: r.balance,
-        })
-        .collect();
+    let rows: Vec<Row> = std::mem::take(&mut plan.rows);
+    let payoff_date = rows.last().and_then(|r| r.date);
     let ledger = Ledger {
         rows,
         total_paid: plan.total_paid,
@@ -323,7 +312,7 @@ fn schedule_inner(
         .last()
         .map_or(Decimal::ZERO, |r| r.payment + r.extra);
     let reconciliation = if reconcile_ledger {
-        reconcile_plan(&plan, currency)?
+        reconcile_plan(&plan, ledger.rows.last(), currency)?
     } else {
         None
     };
@@ -360,7 +349,7 @@ fn schedule_inner(
     };
     let savings = base.as_ref().map(|b| Savings {
         interest_saved: b.total_interest - plan.total_interest,
-        payments_saved: b.rows.len() as u32 - plan.rows.len().min(b.rows.len()) as u32,
+        payments_saved: b.rows.len() as u32 - ledger.rows.len().min(b.rows.len()) as u32,
     });
     Ok(LoanSchedule {
         terms: terms.clone(),
@@ -373,7 +362,7 @@ fn schedule_inner(
         ledger,
         reconciliation,
         notes,
-        payoff_date: plan.rows.last().and_then(|r| r.date),
+        payoff_date,
         savings,
         milestones,
         plan,
@@ -388,7 +377,11 @@ pub struct Savings {
 }
 
 /// Reconciles a plan's posted balances with its chain of closed forms.
-fn reconcile_plan(plan: &Plan, currency: Currency) -> Result<Option<Reconciliation>> {
+fn reconcile_plan(
+    plan: &Plan,
+    last_row: Option<&Row>,
+    currency: Currency,
+) -> Result<Option<Reconciliation>> {
     let Some((largest, at)) = plan.largest_drift else {
         return Ok(if plan.segments.is_empty() {
             Some(Reconciliation {
@@ -426,7 +419,7 @@ fn reconcile_plan(plan: &Plan, currency: Currency) -> Result<Option<Reconciliati
             .and_then(|b| b.checked_add(half.checked_mul(sum)?))
             .or_overflow("the drift bound")?;
     }
-    let final_drift = match (plan.rows.last(), plan.segments.last()) {
+    let final_drift = match (last_row, plan.segments.last()) {
         (Some(last), Some(s)) if last.number == s.last_payment + 1 => {
             let a = Decimal::ONE
                 + plan
