@@ -372,15 +372,15 @@ fn unit_value(advances: &[UnitFlow], payments: &[UnitFlow], i: Decimal) -> Resul
                 vt.checked_mul(powers.inverse_simple(flow.fraction, i)?)
                     .or_overflow(what)?
             };
-            let mut pv = flow.amount.checked_mul(base).or_overflow(what)?;
+            let mut discounted = flow.amount.checked_mul(base).or_overflow(what)?;
             if flow.count > 1 {
                 let (s, _) = annuity_factor(i, v, flow.count, &mut powers)?;
-                pv = pv.checked_mul(s).or_overflow(what)?;
+                discounted = discounted.checked_mul(s).or_overflow(what)?;
             }
             total = if paid {
-                total.checked_add(pv)
+                total.checked_add(discounted)
             } else {
-                total.checked_sub(pv)
+                total.checked_sub(discounted)
             }
             .or_overflow(what)?;
         }
