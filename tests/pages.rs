@@ -225,6 +225,20 @@ async fn the_compare_page_shows_what_the_compare_api_answers() {
 }
 
 #[tokio::test]
+async fn the_check_page_takes_the_dates_of_an_odd_first_period() {
+    // The page and the API read the same fields: the dated APR and the prepaid
+    // interest of the page are the API's.
+    let q = "principal=150000&annual_rate_percent=6&term_months=360&funding_date=2027-05-20&first_payment_date=2027-07-01&odd_days_interest=prepaid&quoted_apr_percent=6.1";
+    let api = json(&format!("/api/v1/loans/check?{q}")).await;
+    let html = page(&format!("/check?{q}")).await;
+    let apr = api["apr_percent"].as_str().unwrap();
+    assert!(html.contains(&format!("data-value=\"{apr}\"")));
+    assert!(html.contains(&grouped(api["amount_financed"].as_str().unwrap())));
+    assert!(html.contains("name=\"funding_date\""));
+    assert!(html.contains("2027-05-20"));
+}
+
+#[tokio::test]
 async fn the_check_page_gives_the_verdicts_of_the_check_api() {
     let q = "principal=250000&annual_rate_percent=7.125&term_months=360&quoted_payment=1684.30&quoted_apr_percent=7.25&prepaid_finance_charges=origination%3A2500";
     let api = json(&format!("/api/v1/loans/check?{q}")).await;

@@ -14,7 +14,7 @@ use crate::api::handlers::query_pairs;
 use crate::api::problem::ApiError;
 
 /// The check form's groups.
-pub const CHECK_FORM: [(&str, bool, &[&str]); 3] = [
+pub const CHECK_FORM: [(&str, bool, &[&str]); 4] = [
     (
         "The loan",
         false,
@@ -46,6 +46,20 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 3] = [
             "currency",
             "payment_rounding",
             "interest_rounding",
+        ],
+    ),
+    (
+        "Dates (an odd first period) and changes over time",
+        true,
+        &[
+            "funding_date",
+            "first_payment_date",
+            "day_count",
+            "odd_days_interest",
+            "interest_only_payments",
+            "balloon_after_payments",
+            "rate_changes",
+            "rate_change_keeps",
         ],
     ),
 ];
@@ -201,7 +215,10 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
     let query = query_string(&normalized);
     let loan: Vec<(String, String)> = normalized
         .iter()
-        .filter(|(k, _)| crate::api::loans::LOAN_FIELDS.contains(&k.as_str()))
+        .filter(|(k, _)| {
+            crate::api::loans::LOAN_FIELDS.contains(&k.as_str())
+                || crate::api::loans::PLAN_FIELDS.contains(&k.as_str())
+        })
         .cloned()
         .collect();
     let five = &a.in_five_years;
