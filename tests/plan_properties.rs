@@ -11,7 +11,7 @@ use proptest::prelude::*;
 use residue::engine::money::{Currency, InterestRounding, PaymentRounding};
 use residue::engine::plan::{post, Extra, PlanOptions, RateChange};
 use residue::engine::rate::{AnnualRate, Frequency};
-use residue::engine::schedule::{schedule_with, LoanTerm, LoanTerms};
+use residue::engine::schedule::{schedule_with, scheduled_payments, LoanTerm, LoanTerms};
 use rust_decimal::{Decimal, RoundingStrategy};
 
 /// num / 10^scale, exact.
@@ -56,6 +56,22 @@ fn options() -> impl Strategy<Value = (u32, Vec<Extra>, Vec<(u32, u32)>)> {
     )
 }
 
+/// Rate steps from (gap, hundredths of a percent) pairs, kept within n payments.
+fn rate_steps(steps: &[(u32, u32)], n: u32) -> Vec<RateChange> {
+    let mut rate_changes = Vec::new();
+    let mut at = 1;
+    for (gap, p) in steps {
+        at += gap;
+        if at <= n {
+            rate_changes.push(RateChange {
+                at,
+                rate: AnnualRate::from_percent(Decimal::new(i64::from(*p), 2)).unwrap(),
+            });
+        }
+    }
+    rate_changes
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
 
@@ -66,14 +82,7 @@ proptest! {
         (io, extras, steps) in options(),
     ) {
         let n = 360;
-        let mut rate_changes: Vec<RateChange> = Vec::new();
-        let mut at = 1;
-        for (gap, p) in steps {
-            at += gap;
-            if at <= n {
-                rate_changes.push(RateChange { at, rate: AnnualRate::from_percent(Decimal::new(i64::from(p), 2)).unwrap() });
-            }
-        }
+        let rate_changes = rate_steps(&steps, n);
         let o = PlanOptions { interest_only_payments: io, extras, rate_changes, ..PlanOptions::default() };
         let plan = match post(&terms(principal, percent, n), &o, true) {
             Ok(p) => p,
@@ -147,5 +156,66 @@ proptest! {
         prop_assert_eq!(saved.interest_saved, base_interest - with_interest);
         prop_assert_eq!(saved.payments_saved, base_n - with_n);
         prop_assert_eq!(s.ledger.total_interest, with_interest);
+    }
+
+    /// A check posts without keeping rows (`scheduled_payments`); its figures
+    /// must be the full schedule's, row for row summed here.
+    #[test]
+    fn the_lean_posting_of_a_check_equals_the_full_schedule(
+        principal in (100_000i64..100_000_000).prop_map(|c| Decimal::new(c, 2)),
+        percent in (0i64..1500).prop_map(|p| Decimal::new(p, 2)),
+        n in prop_oneof![Just(360u32), 1u32..480],
+        frequency in prop_oneof![Just(Frequency::Monthly), Just(Frequency::Biweekly), Just(Frequency::Quarterly)],
+        (io, extras, steps) in options(),
+        balloon in prop_oneof![Just(None), (1u32..480).prop_map(Some)],
+        dated in any::<bool>(),
+    ) {
+        let rate_changes = rate_steps(&steps, n);
+        let date = |s: &str| s.parse::<jiff::civil::Date>().unwrap();
+        let o = PlanOptions {
+            interest_only_payments: io,
+            extras,
+            rate_changes,
+            balloon_after_payments: balloon,
+            funding_date: dated.then(|| date("2027-01-17")),
+            first_payment_date: dated.then(|| date("2027-03-01")),
+            ..PlanOptions::default()
+        };
+        let t = LoanTerms { payment_frequency: frequency, ..terms(principal, percent, n) };
+        let (full, lean) = match (schedule_with(&t, &o), scheduled_payments(&t, &o)) {
+            (Ok(full), Ok(lean)) => (full, lean),
+            (Err(a), Err(b)) => {
+                prop_assert_eq!(a, b);
+                return Err(TestCaseError::reject("refused by both"));
+            }
+            (a, b) => return Err(TestCaseError::fail(format!("one refused: {:?} / {:?}", a.err(), b.err()))),
+        };
+        let rows = &full.ledger.rows;
+        let mut expanded = Vec::new();
+        for run in &lean.summary.runs {
+            prop_assert!(run.count > 0);
+            expanded.extend(std::iter::repeat_n(run.amount, run.count as usize));
+        }
+        let scheduled: Vec<Decimal> = rows.iter().map(|r| r.payment).collect();
+        prop_assert_eq!(expanded, scheduled);
+        for pair in lean.summary.runs.windows(2) {
+            prop_assert!(pair[0].amount != pair[1].amount, "runs are maximal");
+        }
+        prop_assert_eq!(lean.number_of_payments, full.number_of_payments);
+        prop_assert_eq!(lean.final_payment, full.final_payment);
+        prop_assert_eq!(lean.payment, full.payment);
+        prop_assert_eq!(lean.total_paid, full.ledger.total_paid);
+        prop_assert_eq!(lean.total_interest, full.ledger.total_interest);
+        prop_assert_eq!(lean.prepaid_interest, full.plan.prepaid_interest);
+        let early = (5 * frequency.per_year()).min(full.number_of_payments) as usize;
+        prop_assert_eq!(lean.summary.early_count as usize, early);
+        prop_assert_eq!(lean.summary.early_payments, rows[..early].iter().map(|r| r.payment).sum::<Decimal>());
+        prop_assert_eq!(lean.summary.early_principal, rows[..early].iter().map(|r| r.principal).sum::<Decimal>());
+        let dates: Vec<jiff::civil::Date> = rows.iter().filter_map(|r| r.date).collect();
+        prop_assert_eq!(&lean.due_dates, &dates);
+        // The notes of the full schedule that concern the payments are the lean one's.
+        for note in &lean.notes {
+            prop_assert!(full.notes.contains(note), "{note}");
+        }
     }
 }

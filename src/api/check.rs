@@ -355,7 +355,7 @@ pub struct CheckAnswer {
 
 impl CheckAnswer {
     pub fn from_check(c: &LoanCheck) -> Self {
-        let cur = c.schedule.terms.currency;
+        let cur = c.scheduled.terms.currency;
         let money = |d: Decimal| cur.format(d);
         let f = &c.disclosure;
         let mut apr_rounded = f.apr.apr_percent_rounded;
@@ -413,9 +413,9 @@ impl CheckAnswer {
         CheckAnswer {
             currency: cur.code(),
             mortgage: c.mortgage,
-            computed_payment: money(c.schedule.payment),
-            number_of_payments: c.schedule.number_of_payments,
-            final_payment: money(c.schedule.final_payment),
+            computed_payment: money(c.scheduled.payment),
+            number_of_payments: c.scheduled.number_of_payments,
+            final_payment: money(c.scheduled.final_payment),
             quoted_payment: c.payment.as_ref().map(|p| money(p.quoted)),
             payment_difference: c.payment.as_ref().map(|p| money(p.difference)),
             payment_matches: c.payment.as_ref().map(|p| p.matches),

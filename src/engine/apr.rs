@@ -524,7 +524,7 @@ impl Powers {
         let step = if gap == 1 {
             self.v
         } else {
-            self.v.checked_powi(i64::from(gap)).or_overflow(what)?
+            super::power::pow(self.v, gap).or_overflow(what)?
         };
         let value = base.checked_mul(step).or_overflow(what)?;
         self.known.insert(at, (t, value));
@@ -1483,6 +1483,9 @@ fn check_year_flows(flows: &[YearFlow], field: &'static str) -> Result<Decimal> 
 fn discount(t: Decimal, v: Decimal, log: Decimal) -> Result<Decimal> {
     let what = "a discount factor";
     if t.fract().is_zero() {
+        if let Some(whole) = t.to_u32() {
+            return super::power::pow(v, whole).or_overflow(what);
+        }
         let whole = t.to_i64().or_overflow(what)?;
         return v.checked_powi(whole).or_overflow(what);
     }

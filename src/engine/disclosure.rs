@@ -31,9 +31,9 @@ use super::apr::{apr_from_dates, solve_apr, AprResult, DatedFlow, UnitFlow, Unit
 use super::error::{EngineError, ErrorKind, OrOverflow, Result};
 use super::loan::rate_for_payment;
 use super::money::Currency;
-use super::plan::PlanOptions;
+use super::plan::{PaymentRun, PlanOptions};
 use super::rate::{nth_root, Frequency};
-use super::schedule::{schedule_without_reconciling, LoanSchedule, LoanTerm, LoanTerms, CAUTION};
+use super::schedule::{scheduled_payments, LoanTerm, LoanTerms, ScheduledPayments, CAUTION};
 
 /// The sentence every check carries after the caution.
 pub const TOOL_NOT_OPINION: &str = "This check is a tool, not a compliance opinion.";
@@ -78,11 +78,11 @@ pub struct AprTolerance {
 /// irregular first or final payment (and an irregular first period, which the
 /// caller folds into `regular_periods`) does not make it irregular.
 ///
-/// `payments` are the payment amounts in order.
+/// `payments` are the payment amounts in order, as runs of equal amounts.
 pub fn apr_tolerance(
     advances: usize,
     regular_periods: bool,
-    payments: &[Decimal],
+    payments: &[PaymentRun],
     currency: Currency,
 ) -> AprTolerance {
     let irregular = |reason: String| AprTolerance {
@@ -100,33 +100,47 @@ pub fn apr_tolerance(
             "Irregular transaction (§1026.22(a)(3)): its payment periods are irregular.".into(),
         );
     }
-    let middle = if payments.len() > 2 {
-        &payments[1..payments.len() - 1]
-    } else {
-        &[][..]
-    };
-    if let Some(first) = middle.first() {
-        if let Some(other) = middle.iter().find(|p| *p != first) {
-            return irregular(format!(
-                "Irregular transaction (§1026.22(a)(3)): its payment amounts are irregular ({} and {}).",
-                currency.format(*first),
-                currency.format(*other)
-            ));
+    // The payments between the first and the final one, as runs.
+    let total: u32 = payments.iter().map(|r| r.count).sum();
+    let mut middle: Vec<PaymentRun> = Vec::new();
+    if total > 2 {
+        let last = payments.len() - 1;
+        for (index, run) in payments.iter().enumerate() {
+            let count = run.count - u32::from(index == 0) - u32::from(index == last);
+            if count > 0 {
+                middle.push(PaymentRun {
+                    amount: run.amount,
+                    count,
+                });
+            }
         }
+    }
+    if let [first, other, ..] = middle.as_slice() {
+        return irregular(format!(
+            "Irregular transaction (§1026.22(a)(3)): its payment amounts are irregular ({} and {}).",
+            currency.format(first.amount),
+            currency.format(other.amount)
+        ));
     }
     let mut reason = String::from(
         "Regular transaction (§1026.22(a)(2)): a single advance, regular payment periods and equal payment amounts",
     );
-    let level = middle.first().copied();
+    let level = middle.first().map(|r| r.amount);
     let mut exceptions = Vec::new();
     if let (Some(level), Some(first)) = (level, payments.first()) {
-        if *first != level {
-            exceptions.push(format!("the first payment of {}", currency.format(*first)));
+        if first.amount != level {
+            exceptions.push(format!(
+                "the first payment of {}",
+                currency.format(first.amount)
+            ));
         }
     }
     if let (Some(level), Some(last)) = (level, payments.last()) {
-        if *last != level {
-            exceptions.push(format!("the final payment of {}", currency.format(*last)));
+        if last.amount != level {
+            exceptions.push(format!(
+                "the final payment of {}",
+                currency.format(last.amount)
+            ));
         }
     }
     if exceptions.is_empty() {
@@ -312,22 +326,17 @@ pub struct LoanDisclosure {
     pub dated_from: Option<jiff::civil::Date>,
 }
 
-/// Consecutive equal amounts as runs one unit-period apart, the first at period
-/// `first_period`: a level loan becomes one run (and a final payment).
-pub fn runs_of(amounts: &[Decimal], first_period: u32) -> Vec<UnitFlow> {
-    let mut runs: Vec<UnitFlow> = Vec::new();
-    for (k, amount) in amounts.iter().enumerate() {
-        match runs.last_mut() {
-            Some(run) if run.amount == *amount => run.count += 1,
-            _ => runs.push(UnitFlow::run(
-                *amount,
-                first_period + k as u32,
-                Decimal::ZERO,
-                1,
-            )),
-        }
-    }
-    runs
+/// Runs of equal payments as unit-period flows one unit-period apart, the first
+/// at period `first_period`: a level loan becomes one run (and a final payment).
+pub fn unit_runs(runs: &[PaymentRun], first_period: u32) -> Vec<UnitFlow> {
+    let mut period = first_period;
+    runs.iter()
+        .map(|run| {
+            let flow = UnitFlow::run(run.amount, period, Decimal::ZERO, run.count);
+            period += run.count;
+            flow
+        })
+        .collect()
 }
 
 /// The disclosure figures of a posted schedule with these prepaid finance charges.
@@ -335,7 +344,7 @@ pub fn runs_of(amounts: &[Decimal], first_period: u32) -> Vec<UnitFlow> {
 /// # Errors
 /// A negative charge, charges that leave no amount financed, or an error of
 /// the APR solver.
-pub fn disclose(s: &LoanSchedule, prepaid: &[PrepaidFinanceCharge]) -> Result<LoanDisclosure> {
+pub fn disclose(s: &ScheduledPayments, prepaid: &[PrepaidFinanceCharge]) -> Result<LoanDisclosure> {
     disclose_dated(s, prepaid, None)
 }
 
@@ -351,13 +360,13 @@ pub const PREPAID_INTEREST: &str = "prepaid interest (odd first period)";
 /// # Errors
 /// As [`disclose`], or dates the APR cannot be placed on.
 pub fn disclose_dated(
-    s: &LoanSchedule,
+    s: &ScheduledPayments,
     prepaid: &[PrepaidFinanceCharge],
     funding_date: Option<jiff::civil::Date>,
 ) -> Result<LoanDisclosure> {
     let field = "prepaid_finance_charges";
     let currency = s.terms.currency;
-    let prepaid_interest = s.plan.prepaid_interest.max(Decimal::ZERO);
+    let prepaid_interest = s.prepaid_interest.max(Decimal::ZERO);
     let mut prepaid: Vec<PrepaidFinanceCharge> = prepaid.to_vec();
     if !prepaid_interest.is_zero() {
         prepaid.push(PrepaidFinanceCharge {
@@ -389,29 +398,29 @@ pub fn disclose_dated(
             ),
         ));
     }
-    let rows = &s.ledger.rows;
-    let amounts: Vec<Decimal> = rows.iter().map(|r| r.payment).collect();
-    let total_of_payments = s.ledger.total_paid;
+    let runs = &s.summary.runs;
+    let total_of_payments = s.total_paid;
     let finance_charge = total_of_payments - amount_financed;
-    let total_interest = s.ledger.total_interest;
+    let total_interest = s.total_interest;
     // §1026.37(l)(3) and its commentary: prepaid interest counts as interest.
     let total_interest_percentage = (total_interest + prepaid_interest)
         .checked_mul(Decimal::ONE_HUNDRED)
         .and_then(|x| x.checked_div(principal))
         .or_overflow("the total interest percentage")?;
     let dated = match funding_date {
-        Some(start) if rows.iter().all(|r| r.date.is_some()) => Some(start),
+        Some(start) if s.due_dates.len() == s.number_of_payments as usize => Some(start),
         _ => None,
     };
     let (apr, unit_period) = match dated {
         Some(start) => {
-            let payments: Vec<DatedFlow> = rows
+            let amounts = runs
                 .iter()
-                .filter_map(|r| {
-                    r.date.map(|date| DatedFlow {
-                        amount: r.payment,
-                        date,
-                    })
+                .flat_map(|r| std::iter::repeat_n(r.amount, r.count as usize));
+            let payments: Vec<DatedFlow> = amounts
+                .zip(&s.due_dates)
+                .map(|(amount, date)| DatedFlow {
+                    amount,
+                    date: *date,
                 })
                 .collect();
             let found = apr_from_dates(
@@ -431,17 +440,16 @@ pub fn disclose_dated(
             let unit_period = unit_period_of(s.terms.payment_frequency);
             let apr = solve_apr(
                 &[UnitFlow::single(amount_financed, 0, Decimal::ZERO)],
-                &runs_of(&amounts, 1),
+                &unit_runs(runs, 1),
                 unit_period,
             )?;
             (apr, unit_period)
         }
     };
-    let apr_tolerance = apr_tolerance(1, true, &amounts, currency);
-    let through = (5 * s.terms.payment_frequency.per_year()).min(rows.len() as u32);
-    let counted = &rows[..through as usize];
-    let payments: Decimal = counted.iter().map(|r| r.payment).sum();
-    let principal_paid: Decimal = counted.iter().map(|r| r.principal).sum();
+    let apr_tolerance = apr_tolerance(1, true, runs, currency);
+    let through = s.summary.early_count;
+    let payments = s.summary.early_payments;
+    let principal_paid = s.summary.early_principal;
     // Prepaid interest is a closing cost of its own kind (a prepaid item), not a
     // loan cost of §1026.37(l)(1)(i).
     let loan_costs = prepaid_total - prepaid_interest;
@@ -539,7 +547,8 @@ pub struct PaymentCheck {
 /// The answer to a check: the schedule, its disclosure figures, and each quote compared.
 #[derive(Debug, Clone)]
 pub struct LoanCheck {
-    pub schedule: LoanSchedule,
+    /// The loan's scheduled payments and totals.
+    pub scheduled: ScheduledPayments,
     pub disclosure: LoanDisclosure,
     pub mortgage: bool,
     pub payment: Option<PaymentCheck>,
@@ -632,7 +641,7 @@ pub fn check_loan_with(
             ));
         }
     }
-    let s = schedule_without_reconciling(terms, options)?;
+    let s = scheduled_payments(terms, options)?;
     let disclosure = disclose_dated(&s, prepaid, options.funding_date)?;
     let mut notes = vec![CAUTION.to_string(), TOOL_NOT_OPINION.to_string()];
     notes.extend(s.notes.iter().filter(|n| n.as_str() != CAUTION).cloned());
@@ -724,7 +733,7 @@ pub fn check_loan_with(
         ));
     }
     Ok(LoanCheck {
-        schedule: s,
+        scheduled: s,
         disclosure,
         mortgage,
         payment,
@@ -776,22 +785,60 @@ mod tests {
         assert_eq!(form_dollars(d("1234.49")).to_string(), "1234");
     }
 
+    /// Consecutive equal amounts as runs (a test's shorthand).
+    fn runs(amounts: &[Decimal]) -> Vec<PaymentRun> {
+        let mut runs: Vec<PaymentRun> = Vec::new();
+        for amount in amounts {
+            match runs.last_mut() {
+                Some(run) if run.amount == *amount => run.count += 1,
+                _ => runs.push(PaymentRun {
+                    amount: *amount,
+                    count: 1,
+                }),
+            }
+        }
+        runs
+    }
+
+    fn posted(t: &LoanTerms) -> ScheduledPayments {
+        scheduled_payments(t, &PlanOptions::default()).unwrap()
+    }
+
     #[test]
     fn a_level_loan_is_one_run_and_a_final_payment() {
-        let runs = runs_of(&[d("10"), d("10"), d("10"), d("12")], 1);
+        let flows = unit_runs(&runs(&[d("10"), d("10"), d("10"), d("12")]), 1);
         assert_eq!(
-            runs,
+            flows,
             vec![
                 UnitFlow::run(d("10"), 1, Decimal::ZERO, 3),
-                UnitFlow::single(d("12"), 4, Decimal::ZERO)
+                UnitFlow::run(d("12"), 4, Decimal::ZERO, 1)
             ]
         );
     }
 
     #[test]
+    fn the_summary_posting_gives_the_full_schedules_figures() {
+        let t = terms("100000", "6", 360);
+        let full = schedule(&t).unwrap();
+        let lean = posted(&t);
+        let rows = &full.ledger.rows;
+        let amounts: Vec<Decimal> = rows.iter().map(|r| r.payment).collect();
+        assert_eq!(lean.summary.runs, runs(&amounts));
+        assert_eq!(lean.number_of_payments, full.number_of_payments);
+        assert_eq!(lean.final_payment, full.final_payment);
+        assert_eq!(lean.payment, full.payment);
+        assert_eq!(lean.total_paid, full.ledger.total_paid);
+        assert_eq!(lean.total_interest, full.ledger.total_interest);
+        assert_eq!(lean.summary.early_count, 60);
+        let principal60: Decimal = rows[..60].iter().map(|r| r.principal).sum();
+        assert_eq!(lean.summary.early_principal, principal60);
+    }
+
+    #[test]
     fn the_apr_of_the_runs_equals_the_apr_of_the_payments_one_by_one() {
-        let s = schedule(&terms("200000", "6", 360)).unwrap();
-        let disclosure = disclose(&s, &[charge("points", "4000")]).unwrap();
+        let t = terms("200000", "6", 360);
+        let s = schedule(&t).unwrap();
+        let disclosure = disclose(&posted(&t), &[charge("points", "4000")]).unwrap();
         let singles: Vec<UnitFlow> = s
             .ledger
             .rows
@@ -818,9 +865,10 @@ mod tests {
 
     #[test]
     fn disclosure_figures_add_up() {
-        let s = schedule(&terms("100000", "6", 360)).unwrap();
+        let t = terms("100000", "6", 360);
+        let s = schedule(&t).unwrap();
         let f = disclose(
-            &s,
+            &posted(&t),
             &[charge("origination", "1000"), charge("points", "500")],
         )
         .unwrap();
@@ -844,7 +892,7 @@ mod tests {
 
     #[test]
     fn a_short_loan_counts_its_whole_term_in_five_years() {
-        let s = schedule(&terms("12000", "0", 48)).unwrap();
+        let s = posted(&terms("12000", "0", 48));
         let f = disclose(&s, &[]).unwrap();
         assert_eq!(f.in_five_years.through_payment, 48);
         assert_eq!(f.in_five_years.principal_paid, d("12000"));
@@ -854,7 +902,7 @@ mod tests {
 
     #[test]
     fn charges_that_leave_nothing_financed_are_refused() {
-        let s = schedule(&terms("1000", "6", 12)).unwrap();
+        let s = posted(&terms("1000", "6", 12));
         let e = disclose(&s, &[charge("fee", "1000")]).unwrap_err();
         assert_eq!(e.field, Some("prepaid_finance_charges"));
         let e = disclose(&s, &[charge("fee", "-1")]).unwrap_err();
@@ -864,13 +912,13 @@ mod tests {
     #[test]
     fn transactions_are_classified_by_1026_22_a_3() {
         let usd = Currency::USD;
-        let level = [d("230"); 5];
+        let level = runs(&[d("230"); 5]);
         assert!(apr_tolerance(1, true, &level, usd).regular);
-        let odd_ends = [d("250"), d("230"), d("230"), d("280")];
+        let odd_ends = runs(&[d("250"), d("230"), d("230"), d("280")]);
         let t = apr_tolerance(1, true, &odd_ends, usd);
         assert!(t.regular && t.reason.contains("first payment of 250.00"));
         assert!(t.reason.contains("final payment of 280.00"));
-        let odd_middle = [d("230"), d("240"), d("230"), d("230")];
+        let odd_middle = runs(&[d("230"), d("240"), d("230"), d("230")]);
         let t = apr_tolerance(1, true, &odd_middle, usd);
         assert!(!t.regular);
         assert_eq!(t.points, d("0.25"));

@@ -255,13 +255,10 @@ pub fn rate_for_payment(principal: Decimal, payment: Decimal, n: u32) -> Result<
         return Ok(Decimal::ZERO);
     }
     let g = |i: Decimal| -> Result<(Decimal, Decimal)> {
-        use rust_decimal::MathematicalOps;
         let v = Decimal::ONE
             .checked_div(Decimal::ONE + i)
             .or_overflow("the discount factor")?;
-        let vn = v
-            .checked_powi(i64::from(n))
-            .or_overflow("the discount factor")?;
+        let vn = super::power::pow(v, n).or_overflow("the discount factor")?;
         let factor = (Decimal::ONE - vn)
             .checked_div(i)
             .or_overflow("the annuity factor")?;

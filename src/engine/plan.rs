@@ -122,10 +122,38 @@ pub struct Milestones {
     pub principal_paid_60: Decimal,
 }
 
+/// Consecutive scheduled payments of the same amount.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct PaymentRun {
+    pub amount: Decimal,
+    pub count: u32,
+}
+
+/// What a disclosure needs of a posted plan, gathered while posting (so a check
+/// can post without keeping its rows).
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct PaymentSummary {
+    /// The scheduled payments in order (odd-days interest included, extra
+    /// payments left out), as runs of equal amounts.
+    pub runs: Vec<PaymentRun>,
+    /// The number of posted payments.
+    pub count: u32,
+    /// The last payment, extra included.
+    pub final_payment: Decimal,
+    /// The payments counted in the first five years: 5 × payments a year, or all.
+    pub early_count: u32,
+    /// The scheduled payments 1 to `early_count`.
+    pub early_payments: Decimal,
+    /// The principal parts of payments 1 to `early_count` (extras included).
+    pub early_principal: Decimal,
+}
+
 /// A posted plan with its closed-form segments.
 #[derive(Debug, Clone)]
 pub struct Plan {
+    /// The posted rows (empty when posted by [`post_summary`]).
     pub rows: Vec<PlanRow>,
+    pub summary: PaymentSummary,
     pub segments: Vec<Segment>,
     /// The regular payment at the start of amortization (after any interest-only period).
     pub payment: Decimal,
@@ -375,7 +403,7 @@ pub fn post_with(
     with_extras: bool,
     reconcile_ledger: bool,
 ) -> Result<Plan> {
-    post_inner(terms, o, with_extras, reconcile_ledger, true)
+    post_inner(terms, o, with_extras, reconcile_ledger, true, true)
 }
 
 /// The posted rows and totals alone: no closed-form segments (`segments` is
@@ -385,7 +413,16 @@ pub fn post_with(
 /// # Errors
 /// As [`post`].
 pub fn post_totals(terms: &LoanTerms, o: &PlanOptions) -> Result<Plan> {
-    post_inner(terms, o, true, false, false)
+    post_inner(terms, o, true, false, false, true)
+}
+
+/// As [`post_totals`] without keeping the rows: the plan's totals and its
+/// [`PaymentSummary`] (what a disclosure check needs), posted by the same steps.
+///
+/// # Errors
+/// As [`post`].
+pub fn post_summary(terms: &LoanTerms, o: &PlanOptions) -> Result<Plan> {
+    post_inner(terms, o, true, false, false, false)
 }
 
 fn post_inner(
@@ -394,6 +431,7 @@ fn post_inner(
     with_extras: bool,
     reconcile_ledger: bool,
     with_segments: bool,
+    keep_rows: bool,
 ) -> Result<Plan> {
     terms.check()?;
     let c = terms.currency;
@@ -442,7 +480,13 @@ fn post_inner(
     let amortizing_payment = payment;
     let mut pay = to_minor(payment, e)?;
     let mut balance = to_minor(terms.principal, e)?;
-    let mut rows: Vec<PlanRow> = Vec::with_capacity(n as usize);
+    let mut rows: Vec<PlanRow> = Vec::with_capacity(if keep_rows { n as usize } else { 0 });
+    // The summary, in minor units: runs of equal scheduled payments, the count,
+    // the last payment, and the sums of the first five years.
+    let mut runs: Vec<(i128, u32)> = Vec::with_capacity(4);
+    let early_limit = 5 * terms.payment_frequency.per_year();
+    let (mut early_payments, mut early_principal) = (0i128, 0i128);
+    let (mut count, mut final_payment) = (0u32, 0i128);
     // (i, regular, recurring, lump) of each payment, for the closed-form segments.
     let mut inputs: Vec<(Decimal, i128, i128, i128)> =
         Vec::with_capacity(if with_segments { n as usize } else { 0 });
@@ -531,15 +575,28 @@ fn post_inner(
         total_paid += regular + extra + odd;
         total_interest += interest + odd;
         total_extra += extra;
-        rows.push(PlanRow {
-            number: k,
-            date: None,
-            payment: from_minor(regular + odd, e),
-            extra: from_minor(extra, e),
-            interest: from_minor(interest + odd, e),
-            principal: from_minor(principal_part, e),
-            balance: from_minor(balance, e),
-        });
+        let scheduled = regular + odd;
+        match runs.last_mut() {
+            Some((amount, run)) if *amount == scheduled => *run += 1,
+            _ => runs.push((scheduled, 1)),
+        }
+        count = k;
+        final_payment = scheduled + extra;
+        if k <= early_limit {
+            early_payments += scheduled;
+            early_principal += principal_part;
+        }
+        if keep_rows {
+            rows.push(PlanRow {
+                number: k,
+                date: None,
+                payment: from_minor(scheduled, e),
+                extra: from_minor(extra, e),
+                interest: from_minor(interest + odd, e),
+                principal: from_minor(principal_part, e),
+                balance: from_minor(balance, e),
+            });
+        }
         if with_segments {
             inputs.push((i, regular, recurring, lump));
         }
@@ -553,13 +610,12 @@ fn post_inner(
             ));
         }
     }
-    if with_extras && last_extra(&o.extras).is_some_and(|last| last > rows.len() as u32) {
+    if with_extras && last_extra(&o.extras).is_some_and(|last| last > count) {
         notes.push(format!(
-            "Extra payments scheduled after payment {} are ignored: the loan is paid off by then.",
-            rows.len()
+            "Extra payments scheduled after payment {count} are ignored: the loan is paid off by then."
         ));
     }
-    if let Some(first) = o.first_payment_date {
+    if let (Some(first), true) = (o.first_payment_date, keep_rows) {
         let dates = due_dates(first, rows.len() as u32, terms.payment_frequency)?;
         for (row, d) in rows.iter_mut().zip(dates) {
             row.date = Some(d);
@@ -579,6 +635,20 @@ fn post_inner(
     };
     Ok(Plan {
         rows,
+        summary: PaymentSummary {
+            runs: runs
+                .into_iter()
+                .map(|(amount, count)| PaymentRun {
+                    amount: from_minor(amount, e),
+                    count,
+                })
+                .collect(),
+            count,
+            final_payment: from_minor(final_payment, e),
+            early_count: count.min(early_limit),
+            early_payments: from_minor(early_payments, e),
+            early_principal: from_minor(early_principal, e),
+        },
         segments,
         payment: amortizing_payment,
         total_paid: from_minor(total_paid, e),

@@ -1,13 +1,16 @@
 //! The loan schedule job: terms in, payment, posted ledger, derivation and notes out.
 
+use jiff::civil::Date;
 use rust_decimal::Decimal;
 
+use super::calendar::due_dates;
 use super::error::{EngineError, OrOverflow, Result};
 use super::ledger::{Ledger, Reconciliation, Row};
 use super::loan::{payment_for_term, solve_balance, UnitResponses, MAX_PAYMENTS};
 use super::money::{Currency, InterestRounding, PaymentRounding};
 use super::plan::{
-    milestones, post_totals, post_with, Milestones, OddDaysInterest, Plan, PlanOptions,
+    milestones, post_summary, post_totals, post_with, Milestones, OddDaysInterest, PaymentSummary,
+    Plan, PlanOptions,
 };
 use super::rate::{AnnualRate, Frequency};
 use super::recurrence::Solution;
@@ -213,34 +216,14 @@ fn schedule_inner(
     terms.check()?;
     let i = terms.periodic_rate()?;
     let currency = terms.currency;
-    let mut notes = vec![CAUTION.to_string()];
-    if terms.compounding.is_none() {
-        notes.push(format!(
-            "Compounding taken equal to the payment frequency ({}).",
-            terms.payment_frequency.name()
-        ));
-    } else if terms.compounding != Some(terms.payment_frequency) {
-        notes.push(format!(
-            "Interest compounds {} and payments are {}: the periodic rate is the equivalent rate (1 + j/m)^(m/p) − 1.",
-            terms.compounding.map_or("", |f| f.name()),
-            terms.payment_frequency.name()
-        ));
-    }
+    let mut notes = opening_notes(terms);
     let mut plan = if reconcile_ledger {
         post_with(terms, options, true, true)?
     } else {
         post_totals(terms, options)?
     };
     let payment = plan.payment;
-    if payment <= Decimal::ZERO {
-        return Err(EngineError::no_solution(
-            Some("principal"),
-            format!(
-                "the payment rounds to zero in {}: the principal is too small for this term",
-                currency.code()
-            ),
-        ));
-    }
+    check_payment(payment, currency)?;
     let derivation = match terms.term {
         LoanTerm::Payments(_) if !reconcile_ledger => None,
         LoanTerm::Payments(n) => {
@@ -287,18 +270,7 @@ fn schedule_inner(
     };
     notes.extend(plan.notes.iter().cloned());
     notes.extend(milestone_notes);
-    if plan.odd_days != 0 {
-        let place = match options.odd_days_interest {
-            OddDaysInterest::FirstPayment => "added to the first payment",
-            OddDaysInterest::Prepaid => "collected at closing as prepaid interest",
-        };
-        notes.push(format!(
-            "The first period is odd by {} days ({}): {} of interest, {place}.",
-            plan.odd_days,
-            options.day_count.name(),
-            currency.format(plan.odd_days_interest)
-        ));
-    }
+    notes.extend(odd_days_note(&plan, options, currency));
     let rows: Vec<Row> = std::mem::take(&mut plan.rows);
     let payoff_date = rows.last().and_then(|r| r.date);
     let ledger = Ledger {
@@ -306,11 +278,8 @@ fn schedule_inner(
         total_paid: plan.total_paid,
         total_interest: plan.total_interest,
     };
-    let number_of_payments = ledger.rows.len() as u32;
-    let final_payment = ledger
-        .rows
-        .last()
-        .map_or(Decimal::ZERO, |r| r.payment + r.extra);
+    let number_of_payments = plan.summary.count;
+    let final_payment = plan.summary.final_payment;
     let reconciliation = if reconcile_ledger {
         reconcile_plan(&plan, ledger.rows.last(), currency)?
     } else {
@@ -319,30 +288,7 @@ fn schedule_inner(
     if reconciliation.is_none() && reconcile_ledger {
         notes.push("The ledger could not be reconciled with the closed form: a^k leaves the range of 28-digit decimals for this term and rate.".into());
     }
-    if let (LoanTerm::Payments(n), true) = (
-        terms.term,
-        options.extras.is_empty()
-            && options.balloon_after_payments.is_none()
-            && options.rate_changes.is_empty(),
-    ) {
-        if number_of_payments < n {
-            notes.push(format!(
-                "The rounded payment repays the loan after {number_of_payments} payments, {} fewer than the term.",
-                n - number_of_payments
-            ));
-        }
-    }
-    if let Some(b) = plan.balloon {
-        notes.push(format!(
-            "A balloon of {} falls due with payment {number_of_payments}.",
-            currency.format(b)
-        ));
-    } else if final_payment != payment && options.extras.is_empty() {
-        notes.push(format!(
-            "The final payment is {} so that the balance ends at exactly zero.",
-            currency.format(final_payment)
-        ));
-    }
+    notes.extend(closing_notes(terms, options, &plan));
     let solution = match plan.segments.first() {
         Some(s) => s.solution.clone(),
         None => solve_balance(terms.principal, i, payment)?,
@@ -366,6 +312,142 @@ fn schedule_inner(
         savings,
         milestones,
         plan,
+    })
+}
+
+/// The caution, and how the periodic rate was taken.
+fn opening_notes(terms: &LoanTerms) -> Vec<String> {
+    let mut notes = vec![CAUTION.to_string()];
+    if terms.compounding.is_none() {
+        notes.push(format!(
+            "Compounding taken equal to the payment frequency ({}).",
+            terms.payment_frequency.name()
+        ));
+    } else if terms.compounding != Some(terms.payment_frequency) {
+        notes.push(format!(
+            "Interest compounds {} and payments are {}: the periodic rate is the equivalent rate (1 + j/m)^(m/p) − 1.",
+            terms.compounding.map_or("", |f| f.name()),
+            terms.payment_frequency.name()
+        ));
+    }
+    notes
+}
+
+/// Refuses a payment that rounds to zero.
+fn check_payment(payment: Decimal, currency: Currency) -> Result<()> {
+    if payment <= Decimal::ZERO {
+        return Err(EngineError::no_solution(
+            Some("principal"),
+            format!(
+                "the payment rounds to zero in {}: the principal is too small for this term",
+                currency.code()
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// The odd first period, when there is one.
+fn odd_days_note(plan: &Plan, options: &PlanOptions, currency: Currency) -> Option<String> {
+    if plan.odd_days == 0 {
+        return None;
+    }
+    let place = match options.odd_days_interest {
+        OddDaysInterest::FirstPayment => "added to the first payment",
+        OddDaysInterest::Prepaid => "collected at closing as prepaid interest",
+    };
+    Some(format!(
+        "The first period is odd by {} days ({}): {} of interest, {place}.",
+        plan.odd_days,
+        options.day_count.name(),
+        currency.format(plan.odd_days_interest)
+    ))
+}
+
+/// An early payoff by rounding, a balloon, or a final payment that differs.
+fn closing_notes(terms: &LoanTerms, options: &PlanOptions, plan: &Plan) -> Vec<String> {
+    let mut notes = Vec::new();
+    let currency = terms.currency;
+    let number_of_payments = plan.summary.count;
+    let final_payment = plan.summary.final_payment;
+    if let (LoanTerm::Payments(n), true) = (
+        terms.term,
+        options.extras.is_empty()
+            && options.balloon_after_payments.is_none()
+            && options.rate_changes.is_empty(),
+    ) {
+        if number_of_payments < n {
+            notes.push(format!(
+                "The rounded payment repays the loan after {number_of_payments} payments, {} fewer than the term.",
+                n - number_of_payments
+            ));
+        }
+    }
+    if let Some(b) = plan.balloon {
+        notes.push(format!(
+            "A balloon of {} falls due with payment {number_of_payments}.",
+            currency.format(b)
+        ));
+    } else if final_payment != plan.payment && options.extras.is_empty() {
+        notes.push(format!(
+            "The final payment is {} so that the balance ends at exactly zero.",
+            currency.format(final_payment)
+        ));
+    }
+    notes
+}
+
+/// A loan's scheduled payments and totals, posted without keeping the rows:
+/// what a disclosure check needs (see [`scheduled_payments`]).
+#[derive(Debug, Clone)]
+pub struct ScheduledPayments {
+    pub terms: LoanTerms,
+    /// The regular payment at the start of amortization.
+    pub payment: Decimal,
+    pub number_of_payments: u32,
+    /// The last payment, which absorbs the residue (or carries a balloon).
+    pub final_payment: Decimal,
+    pub total_paid: Decimal,
+    pub total_interest: Decimal,
+    /// Odd-days interest collected at closing (zero unless prepaid).
+    pub prepaid_interest: Decimal,
+    /// The payments as runs of equal amounts, and the first five years' sums.
+    pub summary: PaymentSummary,
+    /// Each payment's due date, when the plan has a first payment date.
+    pub due_dates: Vec<Date>,
+    /// The caution first, then the assumptions made.
+    pub notes: Vec<String>,
+}
+
+/// Posts a loan (with plan options) by the same steps as [`schedule_with`] and
+/// keeps only its scheduled payments and totals: no rows, closed forms,
+/// reconciliation or milestones. The figures are those of the full schedule.
+///
+/// # Errors
+/// As [`schedule_with`].
+pub fn scheduled_payments(terms: &LoanTerms, options: &PlanOptions) -> Result<ScheduledPayments> {
+    terms.check()?;
+    let mut notes = opening_notes(terms);
+    let plan = post_summary(terms, options)?;
+    check_payment(plan.payment, terms.currency)?;
+    notes.extend(plan.notes.iter().cloned());
+    notes.extend(odd_days_note(&plan, options, terms.currency));
+    notes.extend(closing_notes(terms, options, &plan));
+    let due_dates = match options.first_payment_date {
+        Some(first) => due_dates(first, plan.summary.count, terms.payment_frequency)?,
+        None => Vec::new(),
+    };
+    Ok(ScheduledPayments {
+        terms: terms.clone(),
+        payment: plan.payment,
+        number_of_payments: plan.summary.count,
+        final_payment: plan.summary.final_payment,
+        total_paid: plan.total_paid,
+        total_interest: plan.total_interest,
+        prepaid_interest: plan.prepaid_interest,
+        summary: plan.summary,
+        due_dates,
+        notes,
     })
 }
 

@@ -388,15 +388,12 @@ fn quick_f64(d: Decimal) -> f64 {
     d.mantissa() as f64 / TENS[(d.scale() as usize).min(28)]
 }
 
+/// p^k, the exact power rounded once to a decimal's precision ([`super::power`]).
+///
+/// # Errors
+/// A power beyond the decimal range.
 pub fn pow(p: Decimal, k: u32) -> Result<Decimal> {
-    use rust_decimal::MathematicalOps;
-    if p == Decimal::ONE || k == 0 {
-        return Ok(Decimal::ONE);
-    }
-    if p.is_zero() {
-        return Ok(Decimal::ZERO);
-    }
-    p.checked_powi(i64::from(k)).or_overflow("a pole power")
+    super::power::pow(p, k).or_overflow("a pole power")
 }
 
 #[cfg(test)]
