@@ -218,4 +218,75 @@ proptest! {
             prop_assert!(full.notes.contains(note), "{note}");
         }
     }
+
+    /// A level loan's lean posting takes a loop of its own (no changes over
+    /// time to test for): it must give the full schedule's figures in every
+    /// currency, frequency, rounding and odd first period.
+    #[test]
+    fn the_lean_posting_of_a_level_loan_equals_the_full_schedule(
+        units in (1_000i64..100_000_000_000),
+        percent in (0i64..100_000).prop_map(|p| Decimal::new(p, 3)),
+        code in prop_oneof![Just("USD"), Just("JPY"), Just("KWD")],
+        frequency in prop_oneof![Just(Frequency::Monthly), Just(Frequency::Biweekly), Just(Frequency::Annual), Just(Frequency::Weekly)],
+        compounding in prop_oneof![Just(None), Just(Some(Frequency::Daily)), Just(Some(Frequency::Semiannual))],
+        by_payment in any::<bool>(),
+        n in 1u32..600,
+        payment_up in any::<bool>(),
+        half_even in any::<bool>(),
+        odd in prop_oneof![Just(None), (0u32..40).prop_map(Some)],
+    ) {
+        let currency = Currency::parse(code).unwrap();
+        let principal = Decimal::new(units, currency.minor_units());
+        let rate = AnnualRate::from_percent(percent).unwrap();
+        let mut t = LoanTerms {
+            principal,
+            currency,
+            rate,
+            payment_frequency: frequency,
+            compounding,
+            term: LoanTerm::Payments(n),
+            payment_rounding: if payment_up { PaymentRounding::Up } else { PaymentRounding::Nearest },
+            interest_rounding: if half_even { InterestRounding::HalfEven } else { InterestRounding::HalfUp },
+        };
+        if by_payment {
+            // A payment a little above the level one for n payments: the term is solved.
+            match scheduled_payments(&t, &PlanOptions::default()) {
+                Ok(level) => t.term = LoanTerm::Payment(level.payment + currency.minor_unit()),
+                Err(_) => return Err(TestCaseError::reject("no level payment")),
+            }
+        }
+        let o = match odd {
+            None => PlanOptions::default(),
+            Some(days) => {
+                let funding = "2027-01-01".parse::<jiff::civil::Date>().unwrap();
+                PlanOptions {
+                    funding_date: Some(funding.checked_add(jiff::Span::new().days(i64::from(days))).unwrap()),
+                    first_payment_date: Some("2027-03-01".parse().unwrap()),
+                    ..PlanOptions::default()
+                }
+            }
+        };
+        let (full, lean) = match (schedule_with(&t, &o), scheduled_payments(&t, &o)) {
+            (Ok(full), Ok(lean)) => (full, lean),
+            (Err(a), Err(b)) => {
+                prop_assert_eq!(a, b);
+                return Err(TestCaseError::reject("refused by both"));
+            }
+            (a, b) => return Err(TestCaseError::fail(format!("one refused: {:?} / {:?}", a.err(), b.err()))),
+        };
+        let rows = &full.ledger.rows;
+        let mut expanded = Vec::new();
+        for run in &lean.summary.runs {
+            expanded.extend(std::iter::repeat_n(run.amount, run.count as usize));
+        }
+        prop_assert_eq!(expanded, rows.iter().map(|r| r.payment).collect::<Vec<_>>());
+        prop_assert_eq!(lean.number_of_payments, full.number_of_payments);
+        prop_assert_eq!(lean.final_payment, full.final_payment);
+        prop_assert_eq!(lean.total_paid, full.ledger.total_paid);
+        prop_assert_eq!(lean.total_interest, full.ledger.total_interest);
+        let early = lean.summary.early_count as usize;
+        prop_assert_eq!(early, (5 * frequency.per_year()).min(full.number_of_payments) as usize);
+        prop_assert_eq!(lean.summary.early_principal, rows[..early].iter().map(|r| r.principal).sum::<Decimal>());
+        prop_assert_eq!(&lean.notes, &full.notes.iter().filter(|n| lean.notes.contains(n)).cloned().collect::<Vec<_>>());
+    }
 }

@@ -51,6 +51,8 @@ const POW10: [i128; 29] = {
 pub struct InterestPoster {
     rate: Decimal,
     mantissa: i128,
+    /// Leading zeros of |mantissa|.
+    mantissa_leading_zeros: u32,
     divisor: i128,
     /// mantissa / divisor in binary floating point, for the quotient's estimate.
     rate_f64: f64,
@@ -63,6 +65,7 @@ impl InterestPoster {
         Self {
             rate,
             mantissa: rate.mantissa(),
+            mantissa_leading_zeros: rate.mantissa().unsigned_abs().leading_zeros(),
             divisor: POW10[rate.scale() as usize],
             rate_f64: rate.mantissa() as f64 / POW10[rate.scale() as usize] as f64,
             minor_units: currency.minor_units(),
@@ -71,8 +74,56 @@ impl InterestPoster {
     }
 
     /// The interest on `balance` minor units, in minor units.
+    #[inline]
     pub fn interest(&self, balance: i128) -> Result<i128> {
-        if let Some(product) = balance.checked_mul(self.mantissa) {
+        // The common case, inlined into the posting loops: a balance below 2^62
+        // and a rate of zero or more whose product fits 126 bits, and interest
+        // below 2·10^15 minor units, where the binary-floating-point estimate
+        // of the quotient is within a unit or two of it; one multiplication
+        // and a correction make it exact.
+        if (0..1 << 62).contains(&balance)
+            && self.mantissa >= 0
+            && 256 - balance.leading_zeros() - self.mantissa_leading_zeros <= 126
+        {
+            let product = balance * self.mantissa;
+            let estimate = balance as i64 as f64 * self.rate_f64;
+            if estimate < 2.0e15 {
+                let mut q = i128::from(estimate as i64);
+                let mut r = product - q * self.divisor;
+                while r < 0 {
+                    q -= 1;
+                    r += self.divisor;
+                }
+                while r >= self.divisor {
+                    q += 1;
+                    r -= self.divisor;
+                }
+                let twice = 2 * r;
+                let up = match self.rounding {
+                    InterestRounding::HalfUp => twice >= self.divisor,
+                    InterestRounding::HalfEven => {
+                        twice > self.divisor || (twice == self.divisor && q & 1 == 1)
+                    }
+                };
+                return Ok(q + i128::from(up));
+            }
+        }
+        self.interest_general(balance)
+    }
+
+    /// [`Self::interest`] for any balance and rate.
+    #[inline(never)]
+    fn interest_general(&self, balance: i128) -> Result<i128> {
+        // Bits of |balance| plus bits of |mantissa| at most 126: the product fits
+        // i128 and is taken without the overflow-checking multiplication (a
+        // library call); larger operands take the checked one.
+        let bits = 256 - balance.unsigned_abs().leading_zeros() - self.mantissa_leading_zeros;
+        let product = if bits <= 126 {
+            Some(balance * self.mantissa)
+        } else {
+            balance.checked_mul(self.mantissa)
+        };
+        if let Some(product) = product {
             // balance × rate in binary floating point, within a unit or two of q.
             let estimate = i64::try_from(balance).map_or(f64::NAN, |b| b as f64 * self.rate_f64);
             let (q, r) = divide(product, self.divisor, estimate);
@@ -340,6 +391,56 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn interest_equals_exact_integer_division_rounded() {
+        // Reference: Rust's exact i128 division of balance × mantissa by 10^scale.
+        let rates = [
+            "0.0059375",
+            "0.005",
+            "0.0055833333333333333333333333",
+            "0.0004166666666666666666666667",
+            "0.8333333333333333333333333333",
+            "0",
+            "0.0000000000000000000000000001",
+        ];
+        let mut seed: u64 = 0x2545_f491_4f6c_dd1d;
+        let mut balances: Vec<i128> = vec![0, 1, 2, 5, 50, 99, 100, 101, (1 << 62) - 1, 1 << 62];
+        for _ in 0..3000 {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            balances.push(i128::from(seed >> (seed % 50 + 14)));
+        }
+        for text in rates {
+            let rate = d(text);
+            let divisor = 10i128.pow(rate.scale());
+            for rounding in [InterestRounding::HalfUp, InterestRounding::HalfEven] {
+                let p = InterestPoster::new(rate, Currency::USD, rounding);
+                for &b in &balances {
+                    let Some(product) = b.checked_mul(rate.mantissa()) else {
+                        // Beyond i128: the decimal path answers or refuses, never panics.
+                        let _ = p.interest(b);
+                        continue;
+                    };
+                    let (q, r) = (product / divisor, product % divisor);
+                    let up = match rounding {
+                        InterestRounding::HalfUp => 2 * r >= divisor,
+                        InterestRounding::HalfEven => {
+                            2 * r > divisor || (2 * r == divisor && q % 2 == 1)
+                        }
+                    };
+                    let want = q + i128::from(up);
+                    assert_eq!(p.interest(b).unwrap(), want, "{text} × {b}");
+                    assert_eq!(p.interest(-b).unwrap(), -want, "{text} × −{b}");
+                }
+            }
+        }
+        // Exact halves: 1 × 0.5 rounds up (half up) or to even (0).
+        let half = InterestPoster::new(d("0.5"), Currency::USD, InterestRounding::HalfEven);
+        assert_eq!(half.interest(1).unwrap(), 0);
+        assert_eq!(half.interest(3).unwrap(), 2);
     }
 
     #[test]

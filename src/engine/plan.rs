@@ -148,6 +148,71 @@ pub struct PaymentSummary {
     pub early_principal: Decimal,
 }
 
+/// The [`PaymentSummary`] gathered payment by payment, in minor units.
+struct Tally {
+    runs: Vec<(i128, u32)>,
+    count: u32,
+    final_payment: i128,
+    early_limit: u32,
+    early_payments: i128,
+    early_principal: i128,
+}
+
+impl Tally {
+    fn new(early_limit: u32) -> Self {
+        Self {
+            runs: Vec::with_capacity(4),
+            count: 0,
+            final_payment: 0,
+            early_limit,
+            early_payments: 0,
+            early_principal: 0,
+        }
+    }
+
+    /// Payment `k`: its scheduled amount, the extra paid with it, its principal part.
+    #[inline]
+    fn record(&mut self, k: u32, scheduled: i128, extra: i128, principal_part: i128) {
+        match self.runs.last_mut() {
+            Some((amount, run)) if *amount == scheduled => *run += 1,
+            _ => self.runs.push((scheduled, 1)),
+        }
+        self.count = k;
+        self.final_payment = scheduled + extra;
+        if k <= self.early_limit {
+            self.early_payments += scheduled;
+            self.early_principal += principal_part;
+        }
+    }
+
+    fn finish(self, e: u32) -> PaymentSummary {
+        PaymentSummary {
+            runs: self
+                .runs
+                .into_iter()
+                .map(|(amount, count)| PaymentRun {
+                    amount: from_minor(amount, e),
+                    count,
+                })
+                .collect(),
+            count: self.count,
+            final_payment: from_minor(self.final_payment, e),
+            early_count: self.count.min(self.early_limit),
+            early_payments: from_minor(self.early_payments, e),
+            early_principal: from_minor(self.early_principal, e),
+        }
+    }
+}
+
+fn never_falls(k: u32) -> EngineError {
+    EngineError::no_solution(
+        Some("payment"),
+        format!(
+            "at payment {k} the payment does not exceed the interest, so the balance never falls"
+        ),
+    )
+}
+
 /// A posted plan with its closed-form segments.
 #[derive(Debug, Clone)]
 pub struct Plan {
@@ -481,12 +546,9 @@ fn post_inner(
     let mut pay = to_minor(payment, e)?;
     let mut balance = to_minor(terms.principal, e)?;
     let mut rows: Vec<PlanRow> = Vec::with_capacity(if keep_rows { n as usize } else { 0 });
-    // The summary, in minor units: runs of equal scheduled payments, the count,
-    // the last payment, and the sums of the first five years.
-    let mut runs: Vec<(i128, u32)> = Vec::with_capacity(4);
-    let early_limit = 5 * terms.payment_frequency.per_year();
-    let (mut early_payments, mut early_principal) = (0i128, 0i128);
-    let (mut count, mut final_payment) = (0u32, 0i128);
+    // The summary: runs of equal scheduled payments, the count, the last
+    // payment, and the sums of the first five years.
+    let mut tally = Tally::new(5 * terms.payment_frequency.per_year());
     // (i, regular, recurring, lump) of each payment, for the closed-form segments.
     let mut inputs: Vec<(Decimal, i128, i128, i128)> =
         Vec::with_capacity(if with_segments { n as usize } else { 0 });
@@ -494,7 +556,35 @@ fn post_inner(
     let (mut total_paid, mut total_interest, mut total_extra) = (0i128, 0i128, 0i128);
     let mut limit = n;
     let mut k = 0;
-    while k < limit {
+    // A level loan posted for its totals alone (a check): the steps of the
+    // general loop below when nothing changes over time, without its per-payment
+    // tests (the property tests hold both to the same figures).
+    let level = !with_segments
+        && !keep_rows
+        && extras.is_empty()
+        && o.rate_changes.is_empty()
+        && o.interest_only_payments == 0
+        && o.balloon_after_payments.is_none();
+    while level && k < limit {
+        k += 1;
+        let interest = poster.interest(balance)?;
+        let owed = balance + interest;
+        if pay <= interest && owed > pay {
+            return Err(never_falls(k));
+        }
+        // The last payment, or one that repays, takes what is owed.
+        let regular = if owed <= pay || k == limit { owed } else { pay };
+        let principal_part = regular - interest;
+        balance -= principal_part;
+        let odd = if k == 1 { odd_on_first } else { 0 };
+        total_paid += regular + odd;
+        total_interest += interest + odd;
+        tally.record(k, regular + odd, 0, principal_part);
+        if balance == 0 {
+            break;
+        }
+    }
+    while !level && k < limit {
         k += 1;
         if let Some(rc) = o.rate_changes.iter().find(|rc| rc.at == k) {
             i = rate_of(&rc.rate)?;
@@ -540,10 +630,7 @@ fn post_inner(
             pay
         };
         if k > o.interest_only_payments && regular <= interest && owed > regular {
-            return Err(EngineError::no_solution(
-                Some("payment"),
-                format!("at payment {k} the payment does not exceed the interest, so the balance never falls"),
-            ));
+            return Err(never_falls(k));
         }
         let (recurring, lump) = if extras.is_empty() {
             (0, 0)
@@ -576,16 +663,7 @@ fn post_inner(
         total_interest += interest + odd;
         total_extra += extra;
         let scheduled = regular + odd;
-        match runs.last_mut() {
-            Some((amount, run)) if *amount == scheduled => *run += 1,
-            _ => runs.push((scheduled, 1)),
-        }
-        count = k;
-        final_payment = scheduled + extra;
-        if k <= early_limit {
-            early_payments += scheduled;
-            early_principal += principal_part;
-        }
+        tally.record(k, scheduled, extra, principal_part);
         if keep_rows {
             rows.push(PlanRow {
                 number: k,
@@ -610,6 +688,7 @@ fn post_inner(
             ));
         }
     }
+    let count = tally.count;
     if with_extras && last_extra(&o.extras).is_some_and(|last| last > count) {
         notes.push(format!(
             "Extra payments scheduled after payment {count} are ignored: the loan is paid off by then."
@@ -635,20 +714,7 @@ fn post_inner(
     };
     Ok(Plan {
         rows,
-        summary: PaymentSummary {
-            runs: runs
-                .into_iter()
-                .map(|(amount, count)| PaymentRun {
-                    amount: from_minor(amount, e),
-                    count,
-                })
-                .collect(),
-            count,
-            final_payment: from_minor(final_payment, e),
-            early_count: count.min(early_limit),
-            early_payments: from_minor(early_payments, e),
-            early_principal: from_minor(early_principal, e),
-        },
+        summary: tally.finish(e),
         segments,
         payment: amortizing_payment,
         total_paid: from_minor(total_paid, e),
