@@ -72,6 +72,64 @@ fn rate_steps(steps: &[(u32, u32)], n: u32) -> Vec<RateChange> {
     rate_changes
 }
 
+/// The lean posting of a check (`scheduled_payments`) against the full
+/// schedule of the same loan: the same payments (as runs), count, totals,
+/// first five years, due dates and notes; or the same refusal.
+fn lean_against_full(t: &LoanTerms, o: &PlanOptions) -> Result<(), TestCaseError> {
+    let (full, lean) = match (schedule_with(t, o), scheduled_payments(t, o)) {
+        (Ok(full), Ok(lean)) => (full, lean),
+        (Err(a), Err(b)) => {
+            prop_assert_eq!(a, b);
+            return Err(TestCaseError::reject("refused by both"));
+        }
+        (a, b) => {
+            return Err(TestCaseError::fail(format!(
+                "one refused: {:?} / {:?}",
+                a.err(),
+                b.err()
+            )))
+        }
+    };
+    let rows = &full.ledger.rows;
+    let mut expanded = Vec::new();
+    for run in &lean.summary.runs {
+        prop_assert!(run.count > 0);
+        expanded.extend(std::iter::repeat_n(run.amount, run.count as usize));
+    }
+    let scheduled: Vec<Decimal> = rows.iter().map(|r| r.payment).collect();
+    prop_assert_eq!(expanded, scheduled);
+    for pair in lean.summary.runs.windows(2) {
+        prop_assert!(pair[0].amount != pair[1].amount, "runs are maximal");
+    }
+    prop_assert_eq!(lean.number_of_payments, full.number_of_payments);
+    prop_assert_eq!(lean.final_payment, full.final_payment);
+    prop_assert_eq!(lean.payment, full.payment);
+    prop_assert_eq!(lean.total_paid, full.ledger.total_paid);
+    prop_assert_eq!(lean.total_interest, full.ledger.total_interest);
+    prop_assert_eq!(lean.prepaid_interest, full.plan.prepaid_interest);
+    let early = (5 * t.payment_frequency.per_year()).min(full.number_of_payments) as usize;
+    prop_assert_eq!(lean.summary.early_count as usize, early);
+    prop_assert_eq!(
+        lean.summary.early_payments,
+        rows[..early].iter().map(|r| r.payment).sum::<Decimal>()
+    );
+    prop_assert_eq!(
+        lean.summary.early_principal,
+        rows[..early].iter().map(|r| r.principal).sum::<Decimal>()
+    );
+    let dates: Vec<jiff::civil::Date> = rows.iter().filter_map(|r| r.date).collect();
+    prop_assert_eq!(&lean.due_dates, &dates);
+    // The notes that concern the payments, in the full schedule's order.
+    let shared: Vec<String> = full
+        .notes
+        .iter()
+        .filter(|n| lean.notes.contains(n))
+        .cloned()
+        .collect();
+    prop_assert_eq!(&lean.notes, &shared);
+    Ok(())
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
 
@@ -182,41 +240,7 @@ proptest! {
             ..PlanOptions::default()
         };
         let t = LoanTerms { payment_frequency: frequency, ..terms(principal, percent, n) };
-        let (full, lean) = match (schedule_with(&t, &o), scheduled_payments(&t, &o)) {
-            (Ok(full), Ok(lean)) => (full, lean),
-            (Err(a), Err(b)) => {
-                prop_assert_eq!(a, b);
-                return Err(TestCaseError::reject("refused by both"));
-            }
-            (a, b) => return Err(TestCaseError::fail(format!("one refused: {:?} / {:?}", a.err(), b.err()))),
-        };
-        let rows = &full.ledger.rows;
-        let mut expanded = Vec::new();
-        for run in &lean.summary.runs {
-            prop_assert!(run.count > 0);
-            expanded.extend(std::iter::repeat_n(run.amount, run.count as usize));
-        }
-        let scheduled: Vec<Decimal> = rows.iter().map(|r| r.payment).collect();
-        prop_assert_eq!(expanded, scheduled);
-        for pair in lean.summary.runs.windows(2) {
-            prop_assert!(pair[0].amount != pair[1].amount, "runs are maximal");
-        }
-        prop_assert_eq!(lean.number_of_payments, full.number_of_payments);
-        prop_assert_eq!(lean.final_payment, full.final_payment);
-        prop_assert_eq!(lean.payment, full.payment);
-        prop_assert_eq!(lean.total_paid, full.ledger.total_paid);
-        prop_assert_eq!(lean.total_interest, full.ledger.total_interest);
-        prop_assert_eq!(lean.prepaid_interest, full.plan.prepaid_interest);
-        let early = (5 * frequency.per_year()).min(full.number_of_payments) as usize;
-        prop_assert_eq!(lean.summary.early_count as usize, early);
-        prop_assert_eq!(lean.summary.early_payments, rows[..early].iter().map(|r| r.payment).sum::<Decimal>());
-        prop_assert_eq!(lean.summary.early_principal, rows[..early].iter().map(|r| r.principal).sum::<Decimal>());
-        let dates: Vec<jiff::civil::Date> = rows.iter().filter_map(|r| r.date).collect();
-        prop_assert_eq!(&lean.due_dates, &dates);
-        // The notes of the full schedule that concern the payments are the lean one's.
-        for note in &lean.notes {
-            prop_assert!(full.notes.contains(note), "{note}");
-        }
+        lean_against_full(&t, &o)?;
     }
 
     /// A level loan's lean posting takes a loop of its own (no changes over
@@ -266,27 +290,6 @@ proptest! {
                 }
             }
         };
-        let (full, lean) = match (schedule_with(&t, &o), scheduled_payments(&t, &o)) {
-            (Ok(full), Ok(lean)) => (full, lean),
-            (Err(a), Err(b)) => {
-                prop_assert_eq!(a, b);
-                return Err(TestCaseError::reject("refused by both"));
-            }
-            (a, b) => return Err(TestCaseError::fail(format!("one refused: {:?} / {:?}", a.err(), b.err()))),
-        };
-        let rows = &full.ledger.rows;
-        let mut expanded = Vec::new();
-        for run in &lean.summary.runs {
-            expanded.extend(std::iter::repeat_n(run.amount, run.count as usize));
-        }
-        prop_assert_eq!(expanded, rows.iter().map(|r| r.payment).collect::<Vec<_>>());
-        prop_assert_eq!(lean.number_of_payments, full.number_of_payments);
-        prop_assert_eq!(lean.final_payment, full.final_payment);
-        prop_assert_eq!(lean.total_paid, full.ledger.total_paid);
-        prop_assert_eq!(lean.total_interest, full.ledger.total_interest);
-        let early = lean.summary.early_count as usize;
-        prop_assert_eq!(early, (5 * frequency.per_year()).min(full.number_of_payments) as usize);
-        prop_assert_eq!(lean.summary.early_principal, rows[..early].iter().map(|r| r.principal).sum::<Decimal>());
-        prop_assert_eq!(&lean.notes, &full.notes.iter().filter(|n| lean.notes.contains(n)).cloned().collect::<Vec<_>>());
+        lean_against_full(&t, &o)?;
     }
 }
