@@ -83,11 +83,9 @@ fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Vec<u8>, ApiErro
             }
         }
         "loan_check" => {
-            let mut answer = super::check::check_answer(fields(members(request)?))?;
-            if detail == Detail::Summary {
-                // Every figure and note stays; the form-rounding table is in `full`.
-                answer.disclosure_rounding.clear();
-            }
+            // Every figure and note stays in a summary; the form-rounding table is in `full`.
+            let answer =
+                super::check::check_answer_with(fields(members(request)?), detail == Detail::Full)?;
             to_bytes(&answer)
         }
         "apr" => to_bytes(&super::apr::answer(&super::apr::read_json(request)?)?),

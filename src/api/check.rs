@@ -354,8 +354,13 @@ pub struct CheckAnswer {
 }
 
 impl CheckAnswer {
-    pub fn from_check(c: &LoanCheck) -> Self {
+    /// The answer to a check, taking its notes and texts; the form-rounding
+    /// table only `with_rounding` (a batch's summary leaves it out).
+    pub fn from_check(mut c: LoanCheck, with_rounding: bool) -> Self {
         let cur = c.scheduled.terms.currency;
+        let reason = std::mem::take(&mut c.disclosure.apr_tolerance.reason);
+        let charges = std::mem::take(&mut c.disclosure.prepaid_finance_charges);
+        let notes = std::mem::take(&mut c.notes);
         let money = |d: Decimal| cur.format(d);
         let f = &c.disclosure;
         let mut apr_rounded = f.apr.apr_percent_rounded;
@@ -366,7 +371,10 @@ impl CheckAnswer {
             "to the nearest whole dollar (§1026.37(l)(1), (o)(4); halves up, common practice)";
         const PERCENT: &str = "to three decimals, trailing zeros dropped (§1026.37(o)(4); halves up, common practice)";
         let dollars = |d: Decimal| form_dollars(d).to_string();
-        let disclosure_rounding = vec![
+        let disclosure_rounding = if !with_rounding {
+            Vec::new()
+        } else {
+            vec![
             RoundingDto {
                 figure: "apr_percent",
                 value: full(f.apr.apr_percent),
@@ -409,7 +417,8 @@ impl CheckAnswer {
                 disclosed: money(f.total_of_payments),
                 rule: CENT,
             },
-        ];
+            ]
+        };
         CheckAnswer {
             currency: cur.code(),
             mortgage: c.mortgage,
@@ -434,13 +443,12 @@ impl CheckAnswer {
             } else {
                 "irregular"
             },
-            apr_tolerance_reason: f.apr_tolerance.reason.clone(),
+            apr_tolerance_reason: reason,
             apr_within_tolerance: c.apr.as_ref().map(|a| a.within_tolerance),
-            prepaid_finance_charges: f
-                .prepaid_finance_charges
-                .iter()
+            prepaid_finance_charges: charges
+                .into_iter()
                 .map(|ch| ChargeDto {
-                    name: ch.name.clone(),
+                    name: ch.name,
                     amount: money(ch.amount),
                 })
                 .collect(),
@@ -469,7 +477,7 @@ impl CheckAnswer {
                 }
             }),
             disclosure_rounding,
-            notes: c.notes.clone(),
+            notes,
         }
     }
 }
@@ -479,6 +487,14 @@ impl CheckAnswer {
 /// # Errors
 /// Bad fields, or the engine's refusal pointed at its field.
 pub fn check_answer(f: Fields<'_>) -> Result<CheckAnswer, ApiError> {
+    check_answer_with(f, true)
+}
+
+/// As [`check_answer`]; the form-rounding table only `with_rounding`.
+///
+/// # Errors
+/// As [`check_answer`].
+pub fn check_answer_with(f: Fields<'_>, with_rounding: bool) -> Result<CheckAnswer, ApiError> {
     let prefix = f.pointer("");
     let req = read_check(f)?;
     let c = check_loan_with(
@@ -489,7 +505,7 @@ pub fn check_answer(f: Fields<'_>) -> Result<CheckAnswer, ApiError> {
         req.mortgage,
     )
     .map_err(|e| ApiError::from_engine(e, &prefix))?;
-    Ok(CheckAnswer::from_check(&c))
+    Ok(CheckAnswer::from_check(c, with_rounding))
 }
 
 /// `POST /api/v1/loans/check`
