@@ -185,6 +185,42 @@ impl Tally {
         }
     }
 
+    fn push_run(&mut self, amount: i128, count: u32) {
+        match self.runs.last_mut() {
+            Some((a, run)) if *a == amount => *run += count,
+            _ if count > 0 => self.runs.push((amount, count)),
+            _ => {}
+        }
+    }
+
+    /// A level loan of `count` payments: `pay` each, the first with odd-days
+    /// interest `odd` added, the last `last`; `early_principal` the principal
+    /// repaid by the first five years' payments when the loan runs longer.
+    fn record_level(
+        &mut self,
+        count: u32,
+        pay: i128,
+        last: i128,
+        odd: i128,
+        early_principal: i128,
+    ) {
+        if count == 1 {
+            self.push_run(last + odd, 1);
+        } else {
+            self.push_run(pay + odd, 1);
+            self.push_run(pay, count - 2);
+            self.push_run(last, 1);
+        }
+        self.count = count;
+        self.final_payment = if count == 1 { last + odd } else { last };
+        self.early_payments = if count <= self.early_limit {
+            pay * i128::from(count - 1) + last + odd
+        } else {
+            pay * i128::from(self.early_limit) + odd
+        };
+        self.early_principal = early_principal;
+    }
+
     fn finish(self, e: u32) -> PaymentSummary {
         PaymentSummary {
             runs: self
@@ -565,24 +601,36 @@ fn post_inner(
         && o.rate_changes.is_empty()
         && o.interest_only_payments == 0
         && o.balloon_after_payments.is_none();
-    while level && k < limit {
-        k += 1;
-        let interest = poster.interest(balance)?;
-        let owed = balance + interest;
-        if pay <= interest && owed > pay {
-            return Err(never_falls(k));
+    if level {
+        // Only the balance is carried: every payment but the last is `pay`,
+        // so the totals and the summary follow from the last payment, the
+        // count and the balance after the first five years.
+        let start = balance;
+        let mut early_balance = 0;
+        let mut last = 0;
+        while k < limit {
+            k += 1;
+            let interest = poster.interest(balance)?;
+            let owed = balance + interest;
+            if pay <= interest && owed > pay {
+                return Err(never_falls(k));
+            }
+            // The last payment, or one that repays, takes what is owed.
+            if owed <= pay || k == limit {
+                last = owed;
+                balance = 0;
+                break;
+            }
+            balance = owed - pay;
+            if k == tally.early_limit {
+                early_balance = balance;
+            }
         }
-        // The last payment, or one that repays, takes what is owed.
-        let regular = if owed <= pay || k == limit { owed } else { pay };
-        let principal_part = regular - interest;
-        balance -= principal_part;
-        let odd = if k == 1 { odd_on_first } else { 0 };
-        total_paid += regular + odd;
-        total_interest += interest + odd;
-        tally.record(k, regular + odd, 0, principal_part);
-        if balance == 0 {
-            break;
-        }
+        total_paid = pay * i128::from(k - 1) + last + odd_on_first;
+        // Σ interest = Σ payments − Σ principal parts, and the principal parts
+        // add up to the principal.
+        total_interest = total_paid - start;
+        tally.record_level(k, pay, last, odd_on_first, start - early_balance);
     }
     while !level && k < limit {
         k += 1;
