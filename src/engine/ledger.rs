@@ -74,7 +74,7 @@ impl InterestPoster {
     }
 
     /// The interest on `balance` minor units, in minor units.
-    #[inline]
+    #[inline(always)]
     pub fn interest(&self, balance: i128) -> Result<i128> {
         // The common case, inlined into the posting loops: a balance below 2^62
         // and a rate of zero or more whose product fits 126 bits, and interest

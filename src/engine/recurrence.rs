@@ -138,6 +138,35 @@ impl Recurrence {
     /// # Errors
     /// An overflow of the 28-digit arithmetic.
     pub fn solve(&self) -> Result<Solution> {
+        // Without inputs X(z)/z = x0/(z − a) is already one partial fraction
+        // (residue x0 at the simple pole a): nothing to expand. The unit tests
+        // hold this to the expansion below.
+        if self.inputs.is_empty() && !self.x0.is_zero() {
+            let fractions = vec![PoleFractions {
+                pole: self.a,
+                multiplicity: 1,
+                coefficients: vec![self.x0],
+            }];
+            return Ok(Solution {
+                recurrence: self.clone(),
+                transform: Rational {
+                    numerator: Poly::constant(self.x0),
+                    poles: vec![Pole {
+                        at: self.a,
+                        multiplicity: 1,
+                    }],
+                },
+                cancelled: Vec::new(),
+                merged: Vec::new(),
+                closed_form: ClosedForm::from_fractions(&fractions)?,
+                fractions,
+            });
+        }
+        self.solve_by_expansion()
+    }
+
+    /// [`Self::solve`] through the common denominator and the expansion term by term.
+    fn solve_by_expansion(&self) -> Result<Solution> {
         let mut merged = Vec::new();
         let mut canonical = |p: Decimal, known: &mut Vec<Pole>| -> Decimal {
             for q in known.iter() {
@@ -309,6 +338,24 @@ mod tests {
 
     fn close(a: Decimal, b: Decimal, tol: &str) -> bool {
         (a - b).abs() <= d(tol)
+    }
+
+    #[test]
+    fn a_recurrence_without_inputs_is_its_own_partial_fraction() {
+        for (a, x0) in [
+            ("1.005", "1"),
+            ("1", "1"),
+            ("0.5", "-3.25"),
+            ("1.0055833333333333333333333333", "250000"),
+            ("0", "2"),
+        ] {
+            let r = Recurrence::homogeneous(d(a), d(x0));
+            assert_eq!(
+                r.solve().unwrap(),
+                r.solve_by_expansion().unwrap(),
+                "a = {a}, x0 = {x0}"
+            );
+        }
     }
 
     #[test]
