@@ -72,14 +72,7 @@ awk -v h="$h" -v s="$s" 'BEGIN {printf "schedule / healthz:               %.1f %
 awk -v h="$h" -v u="$u" 'BEGIN {printf "distinct schedules / healthz:     %.1f %%\n", 100 * u / h}'
 
 # 2. A batch of level-payment loan checks.
-awk -v n="$batch_lines" 'BEGIN {
-    for (i = 1; i <= n; i++) {
-        principal = 50000 + (i * 7919) % 450000;
-        rate = 3 + (i % 80) / 10;
-        term = (i % 3 == 0) ? 180 : 360;
-        printf "{\"id\":%d,\"job\":\"loan_check\",\"request\":{\"principal\":\"%d\",\"annual_rate_percent\":\"%.1f\",\"term_months\":%d}}\n", i, principal, rate, term;
-    }
-}' >"$work/batch.ndjson"
+awk -v n="$batch_lines" -f scripts/check-batch.awk >"$work/batch.ndjson"
 seconds="$(curl -s -o "$work/batch.out" -w '%{time_total}' -H 'Content-Type: application/x-ndjson' \
     --data-binary @"$work/batch.ndjson" "$base/api/v1/batch")"
 answered="$(wc -l <"$work/batch.out")"

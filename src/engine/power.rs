@@ -24,6 +24,51 @@ struct Wide {
     e: i64,
 }
 
+/// 10^−s for s = 0 to 28, each ⌊2^(127+j)/10^s⌋·2^−(127+j) with j chosen so the
+/// mantissa has its top bit set (exact long division, truncated once).
+const TENTHS: [Wide; 29] = {
+    let mut table = [Wide {
+        m: 1 << 127,
+        e: -127,
+    }; 29];
+    let mut s = 1;
+    while s < 29 {
+        table[s] = reciprocal_of_power_of_ten(s as u32);
+        s += 1;
+    }
+    table
+};
+
+/// ⌊2^(128+j)/d⌋ with d = 10^s < 2^(j+1), normalized: long division of the
+/// 256-bit 2^(128+j) by d in 32-bit steps (each partial remainder below 2^126).
+const fn reciprocal_of_power_of_ten(s: u32) -> Wide {
+    let d = 10u128.pow(s);
+    let j = 127 - d.leading_zeros(); // d < 2^(j+1)
+                                     // The numerator 2^(127+j) as eight 32-bit words, most significant first:
+                                     // the quotient 2^(127+j)/d lies in (2^126, 2^127].
+    let bit = 127 + j; // position of the single set bit, counted from 0
+    let mut q: u128 = 0;
+    let mut r: u128 = 0;
+    let mut word = 0;
+    while word < 8 {
+        let low_bit = 32 * (7 - word); // the word holds bits low_bit .. low_bit + 31
+        let value: u128 = if bit >= low_bit && bit < low_bit + 32 {
+            1u128 << (bit - low_bit)
+        } else {
+            0
+        };
+        let current = (r << 32) | value;
+        q = (q << 32) | (current / d);
+        r = current % d;
+        word += 1;
+    }
+    let top = q.leading_zeros();
+    Wide {
+        m: q << top,
+        e: -(bit as i64) - top as i64,
+    }
+}
+
 /// The 256-bit product a·b as (high, low) halves.
 fn mul_256(a: u128, b: u128) -> (u128, u128) {
     let (a1, a0) = (a >> 64, a & LOW);
@@ -55,35 +100,18 @@ impl Wide {
         }
     }
 
-    /// mantissa / 10^scale for a mantissa above zero (below 2^96) and scale ≤ 28.
+    /// mantissa / 10^scale for a mantissa above zero (below 2^96) and scale ≤ 28:
+    /// the mantissa times the table's 10^−scale.
     fn from_parts(mantissa: u128, scale: u32) -> Wide {
         let shift = mantissa.leading_zeros();
-        let m = mantissa << shift;
-        let e = -i64::from(shift);
+        let m = Wide {
+            m: mantissa << shift,
+            e: -(shift as i64),
+        };
         if scale == 0 {
-            return Wide { m, e };
-        }
-        // q = ⌊m·2^j / d⌋ with d = 10^scale < 2^(j+1): q lies in [2^126, 2^128).
-        let d = 10u128.pow(scale);
-        let j = 127 - d.leading_zeros(); // d < 2^(j+1)
-        let (hi, lo) = (m >> (128 - j), m << j);
-        let mut q: u128 = 0;
-        let mut r: u128 = 0;
-        for digit in 0..8 {
-            let word = if digit < 4 {
-                (hi >> (96 - 32 * digit)) & 0xFFFF_FFFF
-            } else {
-                (lo >> (96 - 32 * (digit - 4))) & 0xFFFF_FFFF
-            };
-            // r < d < 2^94, so r·2^32 + word fits 128 bits.
-            let current = (r << 32) | word;
-            q = (q << 32) | (current / d);
-            r = current % d;
-        }
-        let top = q.leading_zeros();
-        Wide {
-            m: q << top,
-            e: e - i64::from(j) - i64::from(top),
+            m
+        } else {
+            m.mul(TENTHS[scale as usize])
         }
     }
 
