@@ -151,7 +151,8 @@ impl Wide {
         let written = |scale: u32| -> Option<u128> {
             let (hi, lo) = mul_256(self.m, 10u128.pow(scale));
             // value·10^scale = (hi, lo)·2^e; e < 0 here (the value is below 2^96).
-            let shift = u32::try_from(-self.e).ok()?;
+            // A shift past 255 bits leaves nothing: the value underflows to zero.
+            let shift = u32::try_from(-self.e).unwrap_or(u32::MAX);
             let (q, half) = shift_right_256(hi, lo, shift);
             let q = q + u128::from(half);
             (q < 1 << 96).then_some(q)
@@ -289,6 +290,9 @@ mod tests {
         assert!(pow(d("1.5"), 6000).is_none());
         assert!(pow(d("0.5"), 6000).unwrap().is_zero());
         assert!(pow(d("0.9"), 6000).unwrap().is_zero());
+        assert!(pow(d("1e-28"), u32::MAX).unwrap().is_zero());
+        assert!(pow(d("79228162514264337593543950335"), 2).is_none());
+        assert_eq!(pow(d("-0.5"), 2).unwrap(), d("0.25"));
     }
 
     #[test]
