@@ -37,8 +37,9 @@ enum Detail {
     Full,
 }
 
-fn to_bytes<T: Serialize>(v: &T) -> Result<Vec<u8>, ApiError> {
-    serde_json::to_vec(v)
+/// Appends `v` as JSON to `out` (left as it was on an error).
+fn write<T: Serialize>(out: &mut Vec<u8>, v: &T) -> Result<(), ApiError> {
+    super::emit::to_writer(out, v)
         .map_err(|_| ApiError::new(ProblemKind::Internal, "the answer could not be written"))
 }
 
@@ -59,8 +60,8 @@ fn members(request: &Json) -> Result<&[(String, Json)], ApiError> {
     }
 }
 
-/// Runs one job and writes its result as JSON.
-fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Vec<u8>, ApiError> {
+/// Runs one job and appends its result as JSON to `out` (nothing on an error).
+fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Result<(), ApiError> {
     let fields = |m| {
         Fields::new(Source::Json {
             members: m,
@@ -74,37 +75,44 @@ fn run_job(job: &str, request: &Json, detail: Detail) -> Result<Vec<u8>, ApiErro
                 .map_err(|e| ApiError::from_engine(e, "/"))?;
             if detail == Detail::Summary {
                 let dto = super::loans::LoanScheduleDto::build(&s, false);
-                to_bytes(&SummaryOnly {
-                    summary: &dto.summary,
-                    notes: &dto.notes,
-                })
+                write(
+                    out,
+                    &SummaryOnly {
+                        summary: &dto.summary,
+                        notes: &dto.notes,
+                    },
+                )
             } else {
-                Ok(super::loans::LoanScheduleDto::answer_json(&s))
+                out.extend_from_slice(&super::loans::LoanScheduleDto::answer_json(&s));
+                Ok(())
             }
         }
         "loan_check" => {
             // Every figure and note stays in a summary; the form-rounding table is in `full`.
             let answer =
                 super::check::check_answer_with(fields(members(request)?), detail == Detail::Full)?;
-            to_bytes(&answer)
+            write(out, &answer)
         }
-        "apr" => to_bytes(&super::apr::answer(&super::apr::read_json(request)?)?),
-        "apy" => to_bytes(&super::apy::answer(
-            &super::apy::read_apy(fields(members(request)?))?,
-            "/",
-        )?),
+        "apr" => write(out, &super::apr::answer(&super::apr::read_json(request)?)?),
+        "apy" => write(
+            out,
+            &super::apy::answer(&super::apy::read_apy(fields(members(request)?))?, "/")?,
+        ),
         "savings_plan" => {
             let terms = super::savings::savings_terms_from(fields(members(request)?))?;
             let p =
                 crate::engine::savings::plan(&terms).map_err(|e| ApiError::from_engine(e, "/"))?;
             let dto = super::savings::SavingsPlanDto::from_plan(&p);
             if detail == Detail::Summary {
-                to_bytes(&SummaryOnly {
-                    summary: &dto.summary,
-                    notes: &dto.notes,
-                })
+                write(
+                    out,
+                    &SummaryOnly {
+                        summary: &dto.summary,
+                        notes: &dto.notes,
+                    },
+                )
             } else {
-                to_bytes(&dto)
+                write(out, &dto)
             }
         }
         _ => unreachable!("the job name is checked before"),
@@ -168,39 +176,41 @@ async fn answer_lines(text: &[u8], jobs: &[(usize, usize, usize)]) -> Vec<u8> {
 
 /// Answers one line (never fails: a failure is the line's problem).
 pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
-    let (id, outcome) = match json::parse(line) {
-        Err(e) => (
-            Value::Null,
+    let mut bytes = Vec::with_capacity(2560);
+    bytes.extend_from_slice(b"{\"id\":");
+    let outcome = match json::parse(line) {
+        Err(e) => {
+            bytes.extend_from_slice(b"null");
             Err(ApiError::new(
                 ProblemKind::MalformedJson,
                 format!("line {number}: {e}"),
-            )),
-        ),
+            ))
+        }
         Ok(v) => {
             let id = v.get("id").map_or(Value::Null, json_to_value);
-            (id, answer_parsed(&v))
+            if super::emit::to_writer(&mut bytes, &id).is_err() {
+                bytes.extend_from_slice(b"null");
+            }
+            let after_id = bytes.len();
+            bytes.extend_from_slice(b",\"ok\":true,\"result\":");
+            let outcome = answer_parsed(&v, &mut bytes);
+            if outcome.is_err() {
+                bytes.truncate(after_id);
+            }
+            outcome
         }
     };
-    let id = serde_json::to_vec(&id).unwrap_or_else(|_| b"null".to_vec());
-    let mut bytes = Vec::with_capacity(2048);
-    bytes.extend_from_slice(b"{\"id\":");
-    bytes.extend_from_slice(&id);
-    match outcome {
-        Ok(result) => {
-            bytes.extend_from_slice(b",\"ok\":true,\"result\":");
-            bytes.extend_from_slice(&result);
-        }
-        Err(problem) => {
-            bytes.extend_from_slice(b",\"ok\":false,\"problem\":");
-            let written = serde_json::to_vec(&problem.problem()).unwrap_or_else(|_| b"{}".to_vec());
-            bytes.extend_from_slice(&written);
+    if let Err(problem) = outcome {
+        bytes.extend_from_slice(b",\"ok\":false,\"problem\":");
+        if super::emit::to_writer(&mut bytes, &problem.problem()).is_err() {
+            bytes.extend_from_slice(b"{}");
         }
     }
     bytes.extend_from_slice(b"}\n");
     bytes
 }
 
-fn answer_parsed(v: &Json) -> Result<Vec<u8>, ApiError> {
+fn answer_parsed(v: &Json, out: &mut Vec<u8>) -> Result<(), ApiError> {
     let Json::Object(m) = v else {
         return Err(ApiError::fields(vec![FieldError {
             pointer: String::new(),
@@ -249,7 +259,7 @@ fn answer_parsed(v: &Json) -> Result<Vec<u8>, ApiError> {
         return Err(ApiError::fields(errors));
     }
     match (job, request) {
-        (Some(job), Some(request)) => run_job(job, request, detail),
+        (Some(job), Some(request)) => run_job(job, request, detail, out),
         _ => unreachable!("errors were returned above"),
     }
 }

@@ -105,7 +105,7 @@ pub fn query_pairs(q: Option<&str>) -> Result<Vec<(String, String)>, ApiError> {
 pub fn json_answer<T: Serialize>(value: &T) -> Response {
     // Room for a 360-row schedule at once: growing a small buffer copies it each time.
     let mut body = Vec::with_capacity(64 * 1024);
-    match serde_json::to_writer(&mut body, value) {
+    match super::emit::to_writer(&mut body, value) {
         Ok(()) => (
             [(
                 header::CONTENT_TYPE,

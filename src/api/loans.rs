@@ -323,7 +323,7 @@ impl LoanScheduleDto {
         let head = Self::build(s, false);
         let c = s.terms.currency;
         let mut out = Vec::with_capacity(112 * s.ledger.rows.len() + 8192);
-        let written = serde_json::to_writer(
+        let written = super::emit::to_writer(
             &mut out,
             &ScheduleHead {
                 summary: &head.summary,
@@ -366,7 +366,7 @@ impl LoanScheduleDto {
             out.push(b'}');
         }
         out.extend_from_slice(b"],\"notes\":");
-        if serde_json::to_writer(&mut out, &head.notes).is_err() {
+        if super::emit::to_writer(&mut out, &head.notes).is_err() {
             return serde_json::to_vec(&Self::from_schedule(s)).unwrap_or_default();
         }
         out.push(b'}');

@@ -6,6 +6,7 @@ pub mod batch;
 pub mod check;
 pub mod compare;
 pub mod derivation;
+pub mod emit;
 pub mod fields;
 pub mod handlers;
 pub mod json;

@@ -191,7 +191,7 @@ impl ApiError {
 impl IntoResponse for ApiError {
     fn into_response(self) -> Response {
         let status = self.kind.status();
-        let body = serde_json::to_vec(&self.problem()).unwrap_or_default();
+        let body = super::emit::to_vec(&self.problem()).unwrap_or_default();
         let mut response = (status, body).into_response();
         let headers = response.headers_mut();
         headers.insert(

@@ -30,9 +30,7 @@ impl UnitResponses {
         let a = Decimal::ONE
             .checked_add(periodic_rate)
             .or_overflow("the interest factor")?;
-        let h = Recurrence::homogeneous(a, Decimal::ONE)
-            .solve()?
-            .closed_form;
+        let h = Recurrence::homogeneous(a, Decimal::ONE).closed_form()?;
         let u = Recurrence {
             a,
             x0: Decimal::ZERO,
@@ -40,8 +38,7 @@ impl UnitResponses {
                 amount: Decimal::ONE,
             }],
         }
-        .solve()?
-        .closed_form;
+        .closed_form()?;
         Ok(Self {
             a,
             principal_response: h,

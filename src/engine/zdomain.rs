@@ -169,6 +169,16 @@ impl ClosedForm {
                 }
                 continue;
             }
+            if let [a] = f.coefficients.as_slice() {
+                // A simple pole: A·z/(z − p) ↔ A·p^k, the j = 1 term below.
+                if !a.is_zero() {
+                    out.modes.push(Mode {
+                        pole: f.pole,
+                        polynomial: vec![*a],
+                    });
+                }
+                continue;
+            }
             let mut poly = Poly::default();
             let mut pole_power = Decimal::ONE; // p^(j−1)
             for (j0, a) in f.coefficients.iter().enumerate() {
