@@ -1146,6 +1146,65 @@ def check_savings(base: str, case: SavingsCase, rep: Report):
 # --------------------------------------------------------------------------
 
 
+# Loan checks for the APR: (name, body). Invented loans, monthly payments, the
+# first a month after the advance (regular periods), with and without prepaid
+# finance charges; rates from 0.25 % to 29.99 %, terms from 6 to 480 months.
+APR_CASES = []
+for _n, (_p, _r, _t, _fee) in enumerate([
+    ("100000", "6", 360, None), ("57919", "3.1", 360, None), ("250000", "6.875", 360, "4375.50"),
+    ("18500", "8.49", 72, "395"), ("4200", "29.99", 24, "150"), ("640000", "0.25", 480, "12800"),
+    ("9999.99", "12.5", 6, None), ("325000", "7.125", 180, "6500"), ("1500", "19.9", 12, "75"),
+    ("780000", "5.5", 240, "15600.75"), ("42000", "0.001", 60, None), ("123456.78", "9.75", 300, "2469.14"),
+]):
+    _body = {"principal": _p, "annual_rate_percent": _r, "term_months": _t}
+    if _fee is not None:
+        _body["prepaid_finance_charges"] = [{"name": "origination", "amount": _fee}]
+    APR_CASES.append((f"apr {_n + 1}: {_p} at {_r} % over {_t} months, fee {_fee}", _body))
+
+
+def check_apr(base: str, name: str, body: dict, rep: Report):
+    """The APR of a check against the root of the Appendix J equation by mpmath.
+
+    12 CFR 1026 Appendix J (b)(8): the amount financed advanced at time 0 equals
+    the payments discounted at the unit-period rate i; with the regular monthly
+    periods of these loans, payment t falls t unit periods later. The payments are
+    the service's posted ones (n − 1 of the computed payment and the final one);
+    mpmath solves the equation at 50 digits. The service's 28-digit APR must agree
+    to 1e-20 percentage points.
+    """
+    status, c = post(base, "/api/v1/loans/check", body)
+    if status != 200 or not isinstance(c, dict):
+        rep.check(name, "POST /api/v1/loans/check answers 200", False, f"HTTP {status}: {c}")
+        return
+    with mpmath.workdps(50):
+        af = mpmath.mpf(c["amount_financed"])
+        pay = mpmath.mpf(c["computed_payment"])
+        last = mpmath.mpf(c["final_payment"])
+        n = int(c["number_of_payments"])
+
+        def g(i):
+            v = 1 / (1 + i)
+            # Σ_{t=1}^{n−1} pay·v^t in closed form, and the final payment at n.
+            run = pay * v * (1 - v ** (n - 1)) / (1 - v) if n > 1 else 0
+            return run + last * v**n - af
+
+        if pay * (n - 1) + last == af:
+            want = mpmath.mpf(0)
+        else:
+            want = mpmath.findroot(g, (mpmath.mpf("1e-9"), mpmath.mpf(1)), solver="anderson") * 12 * 100
+        got = mpmath.mpf(c["apr_percent_full"])
+        err = abs(got - want)
+        rep.check(
+            name,
+            "APR agrees with mpmath's root of the Appendix J equation to 1e-20 points",
+            err < mpmath.mpf("1e-20"),
+            f"service {c['apr_percent_full']}, mpmath {mpmath.nstr(want, 30)}, difference {mpmath.nstr(err, 3)}",
+        )
+        # The two-decimal APR is the full one rounded half up (common practice, no source).
+        rounded = Decimal(mpmath.nstr(want, 40, strip_zeros=False)).quantize(Decimal("0.01"), rounding=decimal.ROUND_HALF_UP)
+        rep.check(name, "APR to two decimals", Decimal(c["apr_percent"]) == rounded, f"{c['apr_percent']} against {rounded}")
+
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--base-url", default="http://127.0.0.1:18531")
@@ -1162,6 +1221,12 @@ def main() -> int:
         if args.only in name:
             try:
                 check_loan(args.base_url, name, body, rep)
+            except Exception as e:  # noqa: BLE001
+                rep.check(name, "cross-check ran", False, f"{type(e).__name__}: {e}")
+    for name, body in APR_CASES:
+        if args.only in name:
+            try:
+                check_apr(args.base_url, name, body, rep)
             except Exception as e:  # noqa: BLE001
                 rep.check(name, "cross-check ran", False, f"{type(e).__name__}: {e}")
     for case in SAVINGS_CASES:
