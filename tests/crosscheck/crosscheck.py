@@ -1217,18 +1217,13 @@ def main() -> int:
                 check_recurrence(args.base_url, case, rep)
             except Exception as e:  # noqa: BLE001 - a crash in one case is one failure
                 rep.check(case.name, "cross-check ran", False, f"{type(e).__name__}: {e}")
-    for name, body in LOAN_CASES:
-        if args.only in name:
-            try:
-                check_loan(args.base_url, name, body, rep)
-            except Exception as e:  # noqa: BLE001
-                rep.check(name, "cross-check ran", False, f"{type(e).__name__}: {e}")
-    for name, body in APR_CASES:
-        if args.only in name:
-            try:
-                check_apr(args.base_url, name, body, rep)
-            except Exception as e:  # noqa: BLE001
-                rep.check(name, "cross-check ran", False, f"{type(e).__name__}: {e}")
+    for cases, checker in [(LOAN_CASES, check_loan), (APR_CASES, check_apr)]:
+        for name, body in cases:
+            if args.only in name:
+                try:
+                    checker(args.base_url, name, body, rep)
+                except Exception as e:  # noqa: BLE001
+                    rep.check(name, "cross-check ran", False, f"{type(e).__name__}: {e}")
     for case in SAVINGS_CASES:
         if args.only in case.name:
             try:
