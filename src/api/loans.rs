@@ -340,7 +340,7 @@ impl LoanScheduleDto {
                 out.push(b',');
             }
             out.extend_from_slice(b"{\"number\":");
-            out.extend_from_slice(r.number.to_string().as_bytes());
+            out.extend_from_slice(itoa::Buffer::new().format(r.number).as_bytes());
             out.extend_from_slice(b",\"date\":");
             match r.date {
                 Some(d) => {
@@ -360,7 +360,7 @@ impl LoanScheduleDto {
                 out.extend_from_slice(b",\"");
                 out.extend_from_slice(key);
                 out.extend_from_slice(b"\":\"");
-                out.extend_from_slice(c.text(amount).as_str().as_bytes());
+                out.extend_from_slice(c.text(amount).as_bytes());
                 out.push(b'"');
             }
             out.push(b'}');
