@@ -193,38 +193,47 @@ impl AmountText {
         self.bytes[self.start as usize] = b;
     }
 
-    /// `v` × 10^−decimals, the integer part two digits at a time.
+    /// `v` × 10^−decimals, the integer part two digits at a time. The position
+    /// is a local (a register), not the struct's field, while digits are written.
     fn exact(mut v: u64, decimals: u32, negative: bool) -> Self {
         const PAIRS: &[u8; 200] = b"00010203040506070809101112131415161718192021222324252627282930313233343536373839404142434445464748495051525354555657585960616263646566676869707172737475767778798081828384858687888990919293949596979899";
-        let mut out = AmountText {
-            bytes: [b'0'; 40],
-            start: 40,
-        };
-        let mut push = |b: u8| out.push(b);
-        for _ in 0..decimals {
-            push(b'0' + (v % 10) as u8);
+        let mut bytes = [b'0'; 40];
+        let mut at = bytes.len();
+        // `decimals` is the value's scale (at most 28): with at most 20 integer
+        // digits, the point and the sign, 40 bytes hold it.
+        for _ in 0..decimals.min(28) {
+            at -= 1;
+            bytes[at] = b'0' + (v % 10) as u8;
             v /= 10;
         }
         if decimals > 0 {
-            push(b'.');
+            at -= 1;
+            bytes[at] = b'.';
         }
         // The integer part, at least one digit.
         while v >= 100 {
             let pair = 2 * (v % 100) as usize;
             v /= 100;
-            push(PAIRS[pair + 1]);
-            push(PAIRS[pair]);
+            bytes[at - 1] = PAIRS[pair + 1];
+            bytes[at - 2] = PAIRS[pair];
+            at -= 2;
         }
         if v >= 10 {
-            push(PAIRS[2 * v as usize + 1]);
-            push(PAIRS[2 * v as usize]);
+            bytes[at - 1] = PAIRS[2 * v as usize + 1];
+            bytes[at - 2] = PAIRS[2 * v as usize];
+            at -= 2;
         } else {
-            push(b'0' + v as u8);
+            at -= 1;
+            bytes[at] = b'0' + v as u8;
         }
         if negative {
-            push(b'-');
+            at -= 1;
+            bytes[at] = b'-';
         }
-        out
+        AmountText {
+            bytes,
+            start: at as u8,
+        }
     }
 
     /// [`Self::new`] for any value: digits taken one at a time off the mantissa.
