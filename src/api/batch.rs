@@ -8,13 +8,17 @@
 //! line's problem are relative to its `request` object (or to the line itself for
 //! `id`, `job` and `detail`).
 //!
-//! The body is read as a stream and the answer written as one: memory stays
-//! bounded by the channel between them, not by the number of lines.
+//! The body is read as a stream and the answer written as one: groups of lines
+//! are answered in two parts on blocking threads while the next lines are read,
+//! and the parts go out in order. Memory stays bounded by the parts in flight
+//! ([`IN_FLIGHT`]) and the channel to the client, not by the number of lines.
 
 use axum::body::{Body, Bytes};
 use axum::extract::{Request, State};
 use axum::http::{header, HeaderValue};
 use axum::response::{IntoResponse, Response};
+use std::collections::VecDeque;
+
 use futures_util::{FutureExt, StreamExt};
 use serde::Serialize;
 use serde_json::Value;
@@ -139,44 +143,80 @@ fn json_to_value(j: &Json) -> Value {
     }
 }
 
-/// Answers the lines `jobs` (start, end, line number) of `text`, in order. A
-/// chunk's lines are split between the runtime thread and one blocking thread,
-/// so a batch uses two cores; the answers are joined back in the lines' order.
-async fn answer_lines(text: &[u8], jobs: &[(usize, usize, usize)]) -> Vec<u8> {
-    let run = |text: &[u8], jobs: &[(usize, usize, usize)]| {
-        let mut out = Vec::with_capacity(jobs.len() * 1024);
-        for (from, to, number) in jobs {
-            out.extend(answer_line(&text[*from..*to], *number));
+/// Part of a group of lines, answered on a blocking thread.
+struct InFlight {
+    answers: tokio::task::JoinHandle<Vec<u8>>,
+    /// The part's line numbers, for a problem line each should the part fail.
+    numbers: Vec<usize>,
+}
+
+/// Parts of answers being computed at most, beyond those already finished: with
+/// two parts a group, two groups' worth. Bounds the memory a batch holds.
+const IN_FLIGHT: usize = 4;
+
+/// Starts answering the lines `jobs` (start, end, line number) of `text`: in two
+/// parts on blocking threads (one for a handful of lines), so a batch keeps both
+/// cores busy while its next lines are read and its earlier answers written.
+fn dispatch(text: &[u8], jobs: &[(usize, usize, usize)], parts: &mut VecDeque<InFlight>) {
+    if jobs.is_empty() {
+        return;
+    }
+    let halves = if jobs.len() < 8 { 1 } else { 2 };
+    for chunk in jobs.chunks(jobs.len().div_ceil(halves)) {
+        let from = chunk[0].0;
+        let part_text = text[from..chunk[chunk.len() - 1].1].to_vec();
+        let part_jobs: Vec<(usize, usize, usize)> = chunk
+            .iter()
+            .map(|(f, t, n)| (f - from, t - from, *n))
+            .collect();
+        let numbers = chunk.iter().map(|j| j.2).collect();
+        let answers = tokio::task::spawn_blocking(move || {
+            let mut out = Vec::with_capacity(part_jobs.len() * 2304);
+            for (f, t, n) in &part_jobs {
+                answer_line_into(&mut out, &part_text[*f..*t], *n);
+            }
+            out
+        });
+        parts.push_back(InFlight { answers, numbers });
+    }
+}
+
+/// Waits for a part and sends its answers; false once the client has gone away.
+async fn send_part(tx: &tokio::sync::mpsc::Sender<Bytes>, mut part: InFlight) -> bool {
+    let done = (&mut part.answers).await;
+    tx.send(Bytes::from(finished_part(&part, done)))
+        .await
+        .is_ok()
+}
+
+/// A part's answers, or a problem line for each of its lines if it failed.
+fn finished_part(part: &InFlight, outcome: Result<Vec<u8>, tokio::task::JoinError>) -> Vec<u8> {
+    outcome.unwrap_or_else(|_| {
+        let mut out = Vec::new();
+        for n in &part.numbers {
+            let p = ApiError::new(
+                ProblemKind::Internal,
+                format!("line {n} could not be answered"),
+            );
+            out.extend_from_slice(b"{\"id\":null,\"ok\":false,\"problem\":");
+            if super::emit::to_writer(&mut out, &p.problem()).is_err() {
+                out.extend_from_slice(b"{}");
+            }
+            out.extend_from_slice(b"}\n");
         }
         out
-    };
-    if jobs.len() < 8 {
-        return tokio::task::block_in_place(|| run(text, jobs));
-    }
-    let half = jobs.len() / 2;
-    let offset = jobs[half].0;
-    let end = jobs[jobs.len() - 1].1;
-    let second_text: Vec<u8> = text[offset..end].to_vec();
-    let second_jobs: Vec<(usize, usize, usize)> = jobs[half..]
-        .iter()
-        .map(|(f, t, n)| (f - offset, t - offset, *n))
-        .collect();
-    let second = tokio::task::spawn_blocking(move || run(&second_text, &second_jobs));
-    let mut out = tokio::task::block_in_place(|| run(text, &jobs[..half]));
-    match second.await {
-        Ok(rest) => out.extend(rest),
-        Err(_) => {
-            for (from, to, number) in &jobs[half..] {
-                out.extend(answer_line(&text[*from..*to], *number));
-            }
-        }
-    }
-    out
+    })
 }
 
 /// Answers one line (never fails: a failure is the line's problem).
 pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
     let mut bytes = Vec::with_capacity(2560);
+    answer_line_into(&mut bytes, line, number);
+    bytes
+}
+
+/// [`answer_line`], appended to `bytes`.
+pub fn answer_line_into(bytes: &mut Vec<u8>, line: &[u8], number: usize) {
     bytes.extend_from_slice(b"{\"id\":");
     let outcome = match json::parse(line) {
         Err(e) => {
@@ -188,12 +228,12 @@ pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
         }
         Ok(v) => {
             let id = v.get("id").map_or(Value::Null, json_to_value);
-            if super::emit::to_writer(&mut bytes, &id).is_err() {
+            if super::emit::to_writer(bytes, &id).is_err() {
                 bytes.extend_from_slice(b"null");
             }
             let after_id = bytes.len();
             bytes.extend_from_slice(b",\"ok\":true,\"result\":");
-            let outcome = answer_parsed(&v, &mut bytes);
+            let outcome = answer_parsed(&v, bytes);
             if outcome.is_err() {
                 bytes.truncate(after_id);
             }
@@ -202,12 +242,11 @@ pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
     };
     if let Err(problem) = outcome {
         bytes.extend_from_slice(b",\"ok\":false,\"problem\":");
-        if super::emit::to_writer(&mut bytes, &problem.problem()).is_err() {
+        if super::emit::to_writer(bytes, &problem.problem()).is_err() {
             bytes.extend_from_slice(b"{}");
         }
     }
     bytes.extend_from_slice(b"}\n");
-    bytes
 }
 
 fn answer_parsed(v: &Json, out: &mut Vec<u8>) -> Result<(), ApiError> {
@@ -311,18 +350,46 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         let mut over = false;
         let mut stalled = first.is_none();
         let mut early = first;
-        while !stalled {
+        let mut parts: VecDeque<InFlight> = VecDeque::new();
+        'reading: while !stalled {
             // A client that stalls longer than the request timeout between two
             // chunks loses the rest of its batch (and frees the batch permit).
+            // While it waits for the client, the task sends each part of the
+            // answers as it is done.
             let item = match early.take() {
                 Some(item) => item,
-                None => match tokio::time::timeout(idle_timeout, body.next()).await {
-                    Ok(item) => item,
-                    Err(_) => {
-                        stalled = true;
-                        break;
+                None => {
+                    let deadline = tokio::time::Instant::now() + idle_timeout;
+                    loop {
+                        let next = tokio::time::timeout_at(deadline, body.next());
+                        let Some(front) = parts.front_mut() else {
+                            match next.await {
+                                Ok(item) => break item,
+                                Err(_) => {
+                                    stalled = true;
+                                    break 'reading;
+                                }
+                            }
+                        };
+                        tokio::select! {
+                            biased;
+                            done = &mut front.answers => {
+                                let Some(part) = parts.pop_front() else { continue };
+                                let out = finished_part(&part, done);
+                                if tx.send(Bytes::from(out)).await.is_err() {
+                                    return; // the client went away
+                                }
+                            }
+                            item = next => match item {
+                                Ok(item) => break item,
+                                Err(_) => {
+                                    stalled = true;
+                                    break 'reading;
+                                }
+                            },
+                        }
                     }
-                },
+                }
             };
             match item {
                 Some(Ok(chunk)) => pending.extend_from_slice(&chunk),
@@ -358,32 +425,42 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                 }
             }
             too_long = !over && pending.len() - start > MAX_LINE_BYTES;
-            // Lines already here are answered together (split over two cores);
-            // a slow client still gets each answer as soon as its line is in.
+            // Lines already here are answered together; a slow client still gets
+            // each answer as soon as its line is in (the wait above sends it).
             if !(finished || over || too_long) && jobs.len() < GROUP {
                 if let Some(item) = body.next().now_or_never() {
                     early = Some(item);
                     continue;
                 }
             }
-            let out = answer_lines(&pending[..start], &jobs).await;
-            tracing::debug!(lines = jobs.len(), "batch group answered");
+            dispatch(&pending[..start], &jobs, &mut parts);
+            tracing::debug!(lines = jobs.len(), "batch group started");
             metrics.add_batch_lines(jobs.len() as u64);
             jobs.clear();
             pending.drain(..start);
             scanned -= start;
             start = 0;
-            if !out.is_empty() && tx.send(Bytes::from(out)).await.is_err() {
-                return; // the client went away
+            // The finished parts go out in order; with too many running, the
+            // oldest is waited for.
+            while let Some(front) = parts.front() {
+                if parts.len() <= IN_FLIGHT && !front.answers.is_finished() {
+                    break;
+                }
+                let Some(part) = parts.pop_front() else {
+                    break;
+                };
+                if !send_part(&tx, part).await {
+                    return;
+                }
             }
             if finished || over || too_long {
                 break;
             }
         }
-        if !jobs.is_empty() {
-            let out = answer_lines(&pending[..start], &jobs).await;
-            metrics.add_batch_lines(jobs.len() as u64);
-            if tx.send(Bytes::from(out)).await.is_err() {
+        dispatch(&pending[..start], &jobs, &mut parts);
+        metrics.add_batch_lines(jobs.len() as u64);
+        while let Some(part) = parts.pop_front() {
+            if !send_part(&tx, part).await {
                 return;
             }
         }

@@ -117,3 +117,45 @@ fn metrics_count_requests_batch_lines_and_problems() {
         "{text}"
     );
 }
+
+#[test]
+fn each_line_is_answered_before_the_client_sends_the_next() {
+    // A client that sends a line and waits for its answer before the next (a
+    // conversation over one batch) must get each answer while the batch is open.
+    use std::io::{Read, Write};
+    use std::time::{Duration, Instant};
+    let app = spawn_app();
+    let sent: Vec<String> = (1..=3)
+        .map(|i| format!("{}\n", loan_line(i, &format!("{}", 100_000 + i))))
+        .collect();
+    let length: usize = sent.iter().map(String::len).sum();
+    let mut s = std::net::TcpStream::connect(app.addr).unwrap();
+    s.set_read_timeout(Some(Duration::from_secs(10))).unwrap();
+    let head = format!(
+        "POST /api/v1/batch HTTP/1.1\r\nHost: x\r\nContent-Type: application/x-ndjson\r\nContent-Length: {length}\r\nConnection: close\r\n\r\n"
+    );
+    s.write_all(head.as_bytes()).unwrap();
+    let mut seen = Vec::new();
+    for (i, line) in sent.iter().enumerate() {
+        s.write_all(line.as_bytes()).unwrap();
+        s.flush().unwrap();
+        let want = format!("{{\"id\":{},\"ok\":true", i + 1);
+        let started = Instant::now();
+        while !String::from_utf8_lossy(&seen).contains(&want) {
+            let mut buf = [0u8; 65536];
+            let n = s
+                .read(&mut buf)
+                .expect("the answer comes while the batch is open");
+            assert!(n > 0, "the connection closed before line {}", i + 1);
+            seen.extend_from_slice(&buf[..n]);
+            assert!(started.elapsed() < Duration::from_secs(10));
+        }
+        // Not the next line's answer: it has not been sent.
+        let next = format!("{{\"id\":{},", i + 2);
+        assert!(!String::from_utf8_lossy(&seen).contains(&next));
+    }
+    let mut rest = Vec::new();
+    let _ = s.read_to_end(&mut rest);
+    seen.extend_from_slice(&rest);
+    assert!(String::from_utf8_lossy(&seen).contains("{\"id\":3,\"ok\":true"));
+}
