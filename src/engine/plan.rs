@@ -608,6 +608,7 @@ fn post_inner(
         let start = balance;
         let mut early_balance = 0;
         let mut last = 0;
+        let early_limit = tally.early_limit;
         while k < limit {
             k += 1;
             let interest = poster.interest(balance)?;
@@ -622,7 +623,7 @@ fn post_inner(
                 break;
             }
             balance = owed - pay;
-            if k == tally.early_limit {
+            if k == early_limit {
                 early_balance = balance;
             }
         }
