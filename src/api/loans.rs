@@ -335,35 +335,33 @@ impl LoanScheduleDto {
             return serde_json::to_vec(&Self::from_schedule(s)).unwrap_or_default();
         }
         out.extend_from_slice(b",\"schedule\":[");
+        // Each row's keys written as constant pieces (copied inline, no call), its
+        // amounts as their bytes.
+        let amount = |out: &mut Vec<u8>, key: &[u8], value: Decimal| {
+            out.extend_from_slice(key);
+            out.extend_from_slice(c.text(value).as_bytes());
+        };
         for (k, r) in s.ledger.rows.iter().enumerate() {
+            out.reserve(160);
             if k > 0 {
                 out.push(b',');
             }
             out.extend_from_slice(b"{\"number\":");
             out.extend_from_slice(itoa::Buffer::new().format(r.number).as_bytes());
-            out.extend_from_slice(b",\"date\":");
             match r.date {
                 Some(d) => {
-                    out.push(b'"');
+                    out.extend_from_slice(b",\"date\":\"");
                     super::text::write_iso_date(&mut out, d);
                     out.push(b'"');
                 }
-                None => out.extend_from_slice(b"null"),
+                None => out.extend_from_slice(b",\"date\":null"),
             }
-            for (key, amount) in [
-                (&b"payment"[..], r.payment),
-                (b"extra", r.extra),
-                (b"interest", r.interest),
-                (b"principal", r.principal),
-                (b"balance", r.balance),
-            ] {
-                out.extend_from_slice(b",\"");
-                out.extend_from_slice(key);
-                out.extend_from_slice(b"\":\"");
-                out.extend_from_slice(c.text(amount).as_bytes());
-                out.push(b'"');
-            }
-            out.push(b'}');
+            amount(&mut out, b",\"payment\":\"", r.payment);
+            amount(&mut out, b"\",\"extra\":\"", r.extra);
+            amount(&mut out, b"\",\"interest\":\"", r.interest);
+            amount(&mut out, b"\",\"principal\":\"", r.principal);
+            amount(&mut out, b"\",\"balance\":\"", r.balance);
+            out.extend_from_slice(b"\"}");
         }
         out.extend_from_slice(b"],\"notes\":");
         if super::emit::to_writer(&mut out, &head.notes).is_err() {
