@@ -167,6 +167,8 @@ async fn method_not_allowed(method: Method) -> ApiError {
 /// threads stay free to accept connections and to refuse the excess at once
 /// (otherwise CPU-bound requests would queue inside the runtime without bound).
 /// The time limit is applied on that thread too, so an abandoned request ends there.
+/// Short schedules (at most [`crate::api::handlers::INLINE_PAYMENTS`] payments, well
+/// under a millisecond) are the exception: see [`SELF_OFFLOADING`].
 async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next) -> Response {
     let key = cache_key(&state, &req);
     let if_none_match = req.headers().get(header::IF_NONE_MATCH).cloned();
@@ -241,6 +243,11 @@ fn stored_answer(stored: &Stored, if_none_match: Option<&HeaderValue>) -> Respon
     response
 }
 
+/// Routes whose handlers weigh their own work: they compute a short job on the
+/// runtime's thread and hand a long one to a blocking thread themselves
+/// (`api::handlers::offload`). Every other route runs wholly on a blocking thread.
+const SELF_OFFLOADING: [&str; 2] = ["/api/v1/loans/schedule", "/api/v1/loans/schedule.csv"];
+
 async fn compute(state: &AppState, req: Request, next: Next) -> Response {
     let Ok(permit) = state.in_flight.clone().try_acquire_owned() else {
         return ApiError::new(
@@ -250,13 +257,25 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         .into_response();
     };
     let limit = state.config.request_timeout;
-    let handle = tokio::runtime::Handle::current();
+    let inline = req
+        .extensions()
+        .get::<axum::extract::MatchedPath>()
+        .is_some_and(|m| SELF_OFFLOADING.contains(&m.as_str()));
     let work = next.run(req);
-    let computed = tokio::task::spawn_blocking(move || {
-        let _permit = permit;
-        handle.block_on(tokio::time::timeout(limit, work))
-    })
-    .await;
+    let computed = if inline {
+        // Handing a short job to another thread and back costs about as much as
+        // the job (two thread wake-ups): it is computed here, holding its permit.
+        let answer = tokio::time::timeout(limit, work).await;
+        drop(permit);
+        Ok(answer)
+    } else {
+        let handle = tokio::runtime::Handle::current();
+        tokio::task::spawn_blocking(move || {
+            let _permit = permit;
+            handle.block_on(tokio::time::timeout(limit, work))
+        })
+        .await
+    };
     match computed {
         Ok(Ok(response)) => response,
         Ok(Err(_)) => ApiError::new(

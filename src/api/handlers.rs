@@ -12,7 +12,7 @@ use super::json::{self, Json};
 use super::loans::{schedule_csv, schedule_request_from, LoanScheduleDto};
 use super::problem::{ApiError, FieldError, ProblemKind};
 use super::recurrence;
-use crate::engine::schedule::schedule_with;
+use crate::engine::schedule::{schedule_with, LoanTerm};
 use crate::server::AppState;
 
 /// A request body that is a JSON object, read within the size limit.
@@ -158,16 +158,42 @@ pub fn wants_csv(headers: &HeaderMap) -> bool {
     }
 }
 
-fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
+/// The most payments a schedule may have to be computed on the runtime's own
+/// thread (a 360-payment answer takes about 0.1 ms); longer or unknown terms
+/// (a term solved from a payment) go to a blocking thread.
+pub const INLINE_PAYMENTS: u32 = 1_200;
+
+/// Runs `job` here when `short`, else on a blocking thread; either way the caller's
+/// in-flight permit is held until it returns.
+///
+/// # Errors
+/// The job's own, or an internal problem if its thread panicked.
+pub async fn offload<T: Send + 'static>(
+    short: bool,
+    job: impl FnOnce() -> Result<T, ApiError> + Send + 'static,
+) -> Result<T, ApiError> {
+    if short {
+        return job();
+    }
+    tokio::task::spawn_blocking(job)
+        .await
+        .map_err(|_| ApiError::new(ProblemKind::Internal, "the request could not be computed"))?
+}
+
+async fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
     let prefix = fields.pointer("");
     let request = schedule_request_from(fields)?;
-    let s = schedule_with(&request.terms, &request.options)
-        .map_err(|e| ApiError::from_engine(e, &prefix))?;
-    Ok(if csv {
-        csv_answer(schedule_csv(&s), "schedule.csv")
-    } else {
-        json_bytes_answer(LoanScheduleDto::answer_json(&s))
+    let short = matches!(request.terms.term, LoanTerm::Payments(n) if n <= INLINE_PAYMENTS);
+    offload(short, move || {
+        let s = schedule_with(&request.terms, &request.options)
+            .map_err(|e| ApiError::from_engine(e, &prefix))?;
+        Ok(if csv {
+            csv_answer(schedule_csv(&s), "schedule.csv")
+        } else {
+            json_bytes_answer(LoanScheduleDto::answer_json(&s))
+        })
     })
+    .await
 }
 
 /// `POST /api/v1/loans/schedule`
@@ -185,18 +211,19 @@ pub async fn schedule_post(
         }),
         wants_csv(&headers),
     )
+    .await
 }
 
 /// `GET /api/v1/loans/schedule?…`
 pub async fn schedule_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
-    loan_answer(Fields::new(Source::Query(&pairs)), wants_csv(&headers))
+    loan_answer(Fields::new(Source::Query(&pairs)), wants_csv(&headers)).await
 }
 
 /// `GET /api/v1/loans/schedule.csv?…`
 pub async fn schedule_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
-    loan_answer(Fields::new(Source::Query(&pairs)), true)
+    loan_answer(Fields::new(Source::Query(&pairs)), true).await
 }
 
 fn compare_answer(c: &super::compare::Comparison, csv: bool) -> Response {

@@ -7,7 +7,7 @@ use super::derivation::{full, DerivationDto};
 use super::fields::{Fields, Raw, Source};
 use super::json::Json;
 use super::problem::{ApiError, FieldError};
-use super::text::IsoDate;
+use super::text::{IsoDate, Line, Repeated};
 use crate::engine::calendar::DayCount;
 use crate::engine::loan::MAX_PAYMENTS;
 use crate::engine::money::{AmountText, Currency, InterestRounding, PaymentRounding};
@@ -335,33 +335,37 @@ impl LoanScheduleDto {
             return serde_json::to_vec(&Self::from_schedule(s)).unwrap_or_default();
         }
         out.extend_from_slice(b",\"schedule\":[");
-        // Each row's keys written as constant pieces (copied inline, no call), its
-        // amounts as their bytes.
-        let amount = |out: &mut Vec<u8>, key: &[u8], value: Decimal| {
-            out.extend_from_slice(key);
-            out.extend_from_slice(c.text(value).as_bytes());
-        };
+        // Each row written whole on the stack, then appended in one copy.
+        let mut line = Line::new();
+        let (mut payment, mut extra) = (Repeated::new(), Repeated::new());
         for (k, r) in s.ledger.rows.iter().enumerate() {
-            out.reserve(160);
-            if k > 0 {
-                out.push(b',');
-            }
-            out.extend_from_slice(b"{\"number\":");
-            out.extend_from_slice(itoa::Buffer::new().format(r.number).as_bytes());
+            line.clear();
+            line.put(if k > 0 {
+                b",{\"number\":"
+            } else {
+                b"{\"number\":"
+            });
+            line.number(u64::from(r.number));
             match r.date {
                 Some(d) => {
-                    out.extend_from_slice(b",\"date\":\"");
-                    super::text::write_iso_date(&mut out, d);
-                    out.push(b'"');
+                    line.put(b",\"date\":\"");
+                    line.date(d);
+                    line.put(b"\"");
                 }
-                None => out.extend_from_slice(b",\"date\":null"),
+                None => line.put(b",\"date\":null"),
             }
-            amount(&mut out, b",\"payment\":\"", r.payment);
-            amount(&mut out, b"\",\"extra\":\"", r.extra);
-            amount(&mut out, b"\",\"interest\":\"", r.interest);
-            amount(&mut out, b"\",\"principal\":\"", r.principal);
-            amount(&mut out, b"\",\"balance\":\"", r.balance);
-            out.extend_from_slice(b"\"}");
+            line.put(b",\"payment\":\"");
+            line.amount_again(c, r.payment, &mut payment);
+            line.put(b"\",\"extra\":\"");
+            line.amount_again(c, r.extra, &mut extra);
+            line.put(b"\",\"interest\":\"");
+            line.amount(c, r.interest);
+            line.put(b"\",\"principal\":\"");
+            line.amount(c, r.principal);
+            line.put(b"\",\"balance\":\"");
+            line.amount(c, r.balance);
+            line.put(b"\"}");
+            out.extend_from_slice(line.as_bytes());
         }
         out.extend_from_slice(b"],\"notes\":");
         if super::emit::to_writer(&mut out, &head.notes).is_err() {
@@ -505,21 +509,25 @@ impl LoanScheduleDto {
 /// The schedule as CSV (RFC 4180): a header row, then one row a payment.
 pub fn schedule_csv(s: &LoanSchedule) -> String {
     let c = s.terms.currency;
-    let mut out = String::with_capacity(64 * (s.ledger.rows.len() + 1));
-    out.push_str("number,date,payment,extra,interest,principal,balance\r\n");
+    let mut out = Vec::with_capacity(64 * (s.ledger.rows.len() + 1));
+    out.extend_from_slice(b"number,date,payment,extra,interest,principal,balance\r\n");
+    let mut line = Line::new();
     for r in &s.ledger.rows {
-        out.push_str(&format!(
-            "{},{},{},{},{},{},{}\r\n",
-            r.number,
-            r.date.map(|d| d.to_string()).unwrap_or_default(),
-            c.format(r.payment),
-            c.format(r.extra),
-            c.format(r.interest),
-            c.format(r.principal),
-            c.format(r.balance)
-        ));
+        line.clear();
+        line.number(u64::from(r.number));
+        line.put(b",");
+        if let Some(d) = r.date {
+            line.date(d);
+        }
+        for amount in [r.payment, r.extra, r.interest, r.principal, r.balance] {
+            line.put(b",");
+            line.amount(c, amount);
+        }
+        line.put(b"\r\n");
+        out.extend_from_slice(line.as_bytes());
     }
-    out
+    // Digits, signs, points, commas, dashes and CRLF only: ASCII.
+    String::from_utf8(out).unwrap_or_default()
 }
 
 /// The plan fields of a schedule request, beyond the level loan's.

@@ -191,6 +191,7 @@ pub fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
     Ok(a.mantissa())
 }
 
+#[inline]
 pub fn from_minor(amount: i128, minor_units: u32) -> Decimal {
     let magnitude = amount.unsigned_abs();
     if magnitude < (1u128 << 96) && minor_units <= 28 {
@@ -204,6 +205,13 @@ pub fn from_minor(amount: i128, minor_units: u32) -> Decimal {
             minor_units,
         );
     }
+    from_minor_wide(amount, minor_units)
+}
+
+/// [`from_minor`] beyond 96 bits or 28 decimals: the checked constructor.
+#[cold]
+#[inline(never)]
+fn from_minor_wide(amount: i128, minor_units: u32) -> Decimal {
     Decimal::from_i128_with_scale(amount, minor_units)
 }
 

@@ -291,7 +291,32 @@ impl ClosedForm {
         let mut powers = vec![1.0f64; poles.len()];
         let mut gaps = Vec::with_capacity(len as usize);
         let mut magnitude = 0.0f64;
-        for k in 0..=len {
+        // The common closed form (a level run: constant coefficients, at most four
+        // simple poles, no impulse) in fixed arrays; the same sums in the same order.
+        let simple =
+            self.impulses.is_empty() && polys.len() <= 4 && polys.iter().all(|p| p.len() == 1);
+        if simple {
+            let (mut c, mut p, mut w) = ([0.0f64; 4], [0.0f64; 4], [0.0f64; 4]);
+            for (j, (poly, pole)) in polys.iter().zip(&poles).enumerate() {
+                (c[j], p[j], w[j]) = (poly[0], *pole, 1.0);
+            }
+            let modes = polys.len();
+            for k in 0..=len {
+                let (mut x, mut size) = (0.0f64, 0.0f64);
+                for j in 0..modes {
+                    let term = c[j] * w[j];
+                    x += term;
+                    size += term.abs();
+                    w[j] *= p[j];
+                }
+                if k >= 1 {
+                    let seen = quick_f64(observed(k));
+                    gaps.push((seen - x).abs());
+                    magnitude = magnitude.max(size + seen.abs());
+                }
+            }
+        }
+        for k in (0..=len).filter(|_| !simple) {
             let kf = f64::from(k);
             let (mut x, mut size) = (0.0f64, 0.0f64);
             for ((poly, pole), power) in polys.iter().zip(&poles).zip(powers.iter_mut()) {
@@ -395,7 +420,21 @@ fn quick_f64(d: Decimal) -> f64 {
         1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
         1e17, 1e18, 1e19, 1e20, 1e21, 1e22, 1e23, 1e24, 1e25, 1e26, 1e27, 1e28,
     ];
-    d.mantissa() as f64 / TENS[(d.scale() as usize).min(28)]
+    // The mantissa's words (flags, low, middle, high): a mantissa of 64 bits (every
+    // amount of money) converts in a few instructions, a wider one through i128.
+    let b = d.serialize();
+    let word = |i: usize| u32::from_le_bytes([b[i], b[i + 1], b[i + 2], b[i + 3]]);
+    let magnitude = if word(12) == 0 {
+        ((u64::from(word(8)) << 32) | u64::from(word(4))) as f64
+    } else {
+        d.mantissa().unsigned_abs() as f64
+    };
+    let m = if d.is_sign_negative() {
+        -magnitude
+    } else {
+        magnitude
+    };
+    m / TENS[(d.scale() as usize).min(28)]
 }
 
 /// p^k, the exact power rounded once to a decimal's precision ([`super::power`]).
@@ -409,6 +448,33 @@ pub fn pow(p: Decimal, k: u32) -> Result<Decimal> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_quick_conversion_reads_the_mantissa_as_the_i128_conversion_does() {
+        // The reference: rust_decimal's i128 mantissa converted by the compiler.
+        let mut values = vec![
+            Decimal::ZERO,
+            Decimal::MAX,
+            Decimal::MIN,
+            Decimal::new(-1, 28),
+        ];
+        let mut state = 0x2545_f491_4f6c_dd1du64;
+        for i in 0..5_000u32 {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            let bits = i % 97;
+            let m = (i128::from(state) << 40 ^ i128::from(state >> 3)).unsigned_abs()
+                >> (128 - bits.max(1));
+            let m = if i % 2 == 0 { m as i128 } else { -(m as i128) };
+            values.push(Decimal::from_i128_with_scale(m, i % 29));
+        }
+        for d in values {
+            let ten_power: f64 = format!("1e{}", d.scale()).parse().unwrap();
+            let expected = d.mantissa() as f64 / ten_power;
+            assert_eq!(quick_f64(d), expected, "{d}");
+        }
+    }
 
     fn d(s: &str) -> Decimal {
         s.parse().unwrap()
