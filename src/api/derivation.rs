@@ -11,7 +11,7 @@ use crate::engine::zdomain::ClosedForm;
 
 /// A number in full precision, trailing zeros dropped.
 pub fn full(d: Decimal) -> String {
-    d.normalize().to_string()
+    super::text::decimal_string(d.normalize())
 }
 
 /// A number for reading: at most 10 decimals, trailing zeros dropped.
@@ -20,7 +20,7 @@ pub fn short(d: Decimal) -> String {
     if r.is_zero() {
         "0".into()
     } else {
-        r.to_string()
+        super::text::decimal_string(r)
     }
 }
 

@@ -191,7 +191,7 @@ pub fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
     Ok(a.mantissa())
 }
 
-#[inline]
+#[inline(always)]
 pub fn from_minor(amount: i128, minor_units: u32) -> Decimal {
     let magnitude = amount.unsigned_abs();
     if magnitude < (1u128 << 96) && minor_units <= 28 {
