@@ -91,7 +91,7 @@ const PAIRS: &[u8; 200] = b"0001020304050607080910111213141516171819202122232425
 impl Line {
     /// Room for a schedule row at its longest: about 90 bytes of keys, a number of
     /// 10 digits, a date of 10 and five amounts of at most 50 bytes each; and 8
-    /// bytes to spare after the last (digits are stored 8 or 16 bytes at a time).
+    /// bytes to spare after the last (digits are stored eight bytes at a time).
     const CAPACITY: usize = 512;
 
     /// An empty line.
@@ -121,8 +121,12 @@ impl Line {
     /// Appends `v` in decimal, at least one digit.
     pub fn number(&mut self, v: u64) {
         if v < 100_000_000 {
-            let digits = digits_below_1e8(v);
-            self.eight(v as u32, digits);
+            let values = digit_values(v as u32);
+            let zeros = (values.trailing_zeros() / 8) as usize;
+            let digits = 8usize.saturating_sub(zeros).max(1);
+            let text = (values | 0x3030_3030_3030_3030) >> (8 * (8 - digits));
+            self.bytes[self.at..self.at + 8].copy_from_slice(&text.to_le_bytes());
+            self.at += digits;
         } else {
             let digits = v.checked_ilog10().map_or(1, |d| d as usize + 1);
             self.digits(v, digits);
@@ -187,20 +191,21 @@ impl Line {
             self.put(b"-");
         }
         if v < 100_000_000 && (1..=7).contains(&decimals) {
-            // All the digits at once, then the point put between the integer
-            // part (at least one digit) and the decimals: one store of 16 bytes.
+            // All eight digits at once; the integer part (at least one digit,
+            // its leading zeros dropped) and the decimals stored as two words
+            // around the point, each store overwriting the last one's spare bytes.
             let d = decimals as usize;
-            let all = digits_below_1e8(v);
-            // 1 ≤ n ≤ 8 − d, so every shift below is less than 64.
-            let n = all.saturating_sub(d).max(1);
-            let text = eight_digits(v as u32) >> (8 * (8 - d - n));
-            let integer = text & ((1u64 << (8 * n)) - 1);
-            let fraction = text >> (8 * n);
-            let word = u128::from(integer)
-                | (u128::from(b'.') << (8 * n))
-                | (u128::from(fraction) << (8 * (n + 1)));
-            self.bytes[self.at..self.at + 16].copy_from_slice(&word.to_le_bytes());
-            self.at += n + 1 + d;
+            let values = digit_values(v as u32);
+            // Leading zero digits (the low bytes, first digits, that are 0).
+            let zeros = (values.trailing_zeros() / 8) as usize;
+            let n = (8 - d).saturating_sub(zeros).max(1);
+            let text = values | 0x3030_3030_3030_3030;
+            let at = self.at;
+            self.bytes[at..at + 8].copy_from_slice(&(text >> (8 * (8 - d - n))).to_le_bytes());
+            self.bytes[at + n] = b'.';
+            self.bytes[at + n + 1..at + n + 9]
+                .copy_from_slice(&(text >> (8 * (8 - d))).to_le_bytes());
+            self.at = at + n + 1 + d;
         } else if decimals <= 8 {
             let unit = POWERS[decimals as usize];
             self.number(v / unit);
@@ -217,22 +222,16 @@ impl Line {
     }
 }
 
-/// The count of decimal digits of `v` (below 10^8), at least 1: seven comparisons.
-fn digits_below_1e8(v: u64) -> usize {
-    1 + usize::from(v >= 10)
-        + usize::from(v >= 100)
-        + usize::from(v >= 1_000)
-        + usize::from(v >= 10_000)
-        + usize::from(v >= 100_000)
-        + usize::from(v >= 1_000_000)
-        + usize::from(v >= 10_000_000)
+/// The eight decimal digits of `v` (below 10^8, zeros to the left) as ASCII in
+/// the bytes of one word, the first digit in the lowest byte.
+fn eight_digits(v: u32) -> u64 {
+    digit_values(v) | 0x3030_3030_3030_3030
 }
 
-/// The eight decimal digits of `v` (below 10^8, zeros to the left) as ASCII in
-/// the bytes of one word, the first digit in the lowest byte: halved into
-/// 4-digit, 2-digit and 1-digit lanes by multiplying with reciprocals, exact for
-/// these ranges.
-fn eight_digits(v: u32) -> u64 {
+/// The eight decimal digits of `v` (below 10^8) as values 0 to 9 in the bytes of
+/// one word, the first digit in the lowest byte: halved into 4-digit, 2-digit and
+/// 1-digit lanes by multiplying with reciprocals, exact for these ranges.
+fn digit_values(v: u32) -> u64 {
     let v = u64::from(v);
     // Lanes of 32 bits: the first four digits (low lane), the last four.
     let mut x = (v / 10_000) | ((v % 10_000) << 32);
@@ -241,8 +240,7 @@ fn eight_digits(v: u32) -> u64 {
     x = hundreds | ((x - hundreds * 100) << 16);
     // n·103 >> 10 = ⌊n/10⌋ for n < 179: one digit a byte.
     let tens = ((x * 103) >> 10) & 0x000F_000F_000F_000F;
-    x = tens | ((x - tens * 10) << 8);
-    x | 0x3030_3030_3030_3030
+    tens | ((x - tens * 10) << 8)
 }
 
 /// 10^0 to 10^8.
