@@ -4,7 +4,7 @@ use jiff::civil::Date;
 use rust_decimal::Decimal;
 
 use super::calendar::due_dates;
-use super::error::{EngineError, OrOverflow, Result};
+use super::error::{EngineError, ErrorKind, OrOverflow, Result};
 use super::ledger::{Ledger, Reconciliation, Row};
 use super::loan::{payment_for_term, solve_balance, UnitResponses, MAX_PAYMENTS};
 use super::money::{Currency, InterestRounding, PaymentRounding};
@@ -257,10 +257,23 @@ fn schedule_inner(
     };
     // A comparison shows neither milestones nor savings against the loan without
     // extras (its rows compare plans with each other), so it skips both.
+    // The loan without its extras may not repay at all (an amortizing payment
+    // that rounds to the interest): the schedule as asked is still answered,
+    // without the interest saved, its milestones read from itself.
     let base = if options.extras.is_empty() || !reconcile_ledger {
         None
     } else {
-        Some(post_with(terms, options, false, false)?)
+        match post_with(terms, options, false, false) {
+            Ok(base) => Some(base),
+            Err(e) if e.kind == ErrorKind::NoSolution => {
+                notes.push(format!(
+                    "Without its extra payments this loan would not repay ({}): the interest saved is not shown, and the milestones are read from this schedule.",
+                    e.message
+                ));
+                None
+            }
+            Err(e) => return Err(e),
+        }
     };
     let milestone_base = base.as_ref().unwrap_or(&plan);
     let (milestones, milestone_notes) = if reconcile_ledger {
@@ -571,6 +584,46 @@ mod tests {
     fn a_payment_below_the_first_interest_names_the_payment_field() {
         let e = schedule(&terms("100000", "6", LoanTerm::Payment(d("500")))).unwrap_err();
         assert_eq!(e.field, Some("payment"));
+    }
+
+    #[test]
+    fn a_loan_that_repays_only_with_its_extras_is_still_scheduled() {
+        // Found by the property test of lean checks against full schedules: 90
+        // years of quarterly payments at 13.93 %, 18 of them interest-only, so
+        // the amortizing payment exceeds the interest by less than a cent; with
+        // the extra of 72.26 at payment 18 it rounds above the interest, without
+        // it to the interest itself. The loan as asked repays.
+        let mut t = terms("8702.41", "13.93", LoanTerm::Payments(360));
+        t.payment_frequency = Frequency::Quarterly;
+        let o = PlanOptions {
+            interest_only_payments: 18,
+            extras: vec![crate::engine::plan::Extra::Recurring {
+                amount: d("72.26"),
+                from: 18,
+                to: Some(18),
+                every: 1,
+            }],
+            ..PlanOptions::default()
+        };
+        let s = schedule_with(&t, &o).unwrap();
+        assert_eq!(s.ledger.rows.last().unwrap().balance, Decimal::ZERO);
+        assert!(s.savings.is_none());
+        assert!(s
+            .notes
+            .iter()
+            .any(|n| n.starts_with("Without its extra payments")));
+        // The check's lean posting agrees.
+        let lean = scheduled_payments(&t, &o).unwrap();
+        assert_eq!(lean.number_of_payments, s.number_of_payments);
+        // Without the extra, the loan is refused.
+        let bare = schedule_with(
+            &t,
+            &PlanOptions {
+                extras: vec![],
+                ..o
+            },
+        );
+        assert_eq!(bare.unwrap_err().kind, ErrorKind::NoSolution);
     }
 
     #[test]
