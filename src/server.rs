@@ -243,6 +243,11 @@ fn stored_answer(stored: &Stored, if_none_match: Option<&HeaderValue>) -> Respon
     response
 }
 
+/// A share of a request's in-flight permit, for a job the handler hands to a
+/// blocking thread (see [`crate::api::handlers::offload`]).
+#[derive(Clone)]
+pub struct InFlight(#[allow(dead_code)] Arc<tokio::sync::OwnedSemaphorePermit>);
+
 /// Routes whose handlers weigh their own work: they compute a short job on the
 /// runtime's thread and hand a long one to a blocking thread themselves
 /// (`api::handlers::offload`). Every other route runs wholly on a blocking thread.
@@ -261,14 +266,20 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         .extensions()
         .get::<axum::extract::MatchedPath>()
         .is_some_and(|m| SELF_OFFLOADING.contains(&m.as_str()));
-    let work = next.run(req);
     let computed = if inline {
         // Handing a short job to another thread and back costs about as much as
         // the job (two thread wake-ups): it is computed here, holding its permit.
-        let answer = tokio::time::timeout(limit, work).await;
+        // A long one is handed off by the handler with a share of the permit, so
+        // the permit is released when both the request and its job have ended
+        // (a request timed out does not free it while its job still runs).
+        let mut req = req;
+        let permit = Arc::new(permit);
+        req.extensions_mut().insert(InFlight(permit.clone()));
+        let answer = tokio::time::timeout(limit, next.run(req)).await;
         drop(permit);
         Ok(answer)
     } else {
+        let work = next.run(req);
         let handle = tokio::runtime::Handle::current();
         tokio::task::spawn_blocking(move || {
             let _permit = permit;

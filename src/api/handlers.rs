@@ -4,7 +4,7 @@ use axum::body::Bytes;
 use axum::extract::{FromRequest, RawQuery, Request, State};
 use axum::http::{header, HeaderMap, HeaderValue};
 use axum::response::{IntoResponse, Response};
-use axum::Json as JsonResponse;
+use axum::{Extension, Json as JsonResponse};
 use serde::Serialize;
 
 use super::fields::{Fields, Source};
@@ -13,7 +13,7 @@ use super::loans::{schedule_csv, schedule_request_from, LoanScheduleDto};
 use super::problem::{ApiError, FieldError, ProblemKind};
 use super::recurrence;
 use crate::engine::schedule::{schedule_with, LoanTerm};
-use crate::server::AppState;
+use crate::server::{AppState, InFlight};
 
 /// A request body that is a JSON object, read within the size limit.
 pub struct JsonBody(pub Json);
@@ -163,28 +163,37 @@ pub fn wants_csv(headers: &HeaderMap) -> bool {
 /// (a term solved from a payment) go to a blocking thread.
 pub const INLINE_PAYMENTS: u32 = 1_200;
 
-/// Runs `job` here when `short`, else on a blocking thread; either way the caller's
-/// in-flight permit is held until it returns.
+/// Runs `job` here when `short`, else on a blocking thread that holds a share of
+/// the request's in-flight permit (`held`) until the job ends, even when the
+/// request itself has timed out and gone.
 ///
 /// # Errors
 /// The job's own, or an internal problem if its thread panicked.
 pub async fn offload<T: Send + 'static>(
     short: bool,
+    held: Option<InFlight>,
     job: impl FnOnce() -> Result<T, ApiError> + Send + 'static,
 ) -> Result<T, ApiError> {
     if short {
         return job();
     }
-    tokio::task::spawn_blocking(job)
-        .await
-        .map_err(|_| ApiError::new(ProblemKind::Internal, "the request could not be computed"))?
+    tokio::task::spawn_blocking(move || {
+        let _held = held;
+        job()
+    })
+    .await
+    .map_err(|_| ApiError::new(ProblemKind::Internal, "the request could not be computed"))?
 }
 
-async fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
+async fn loan_answer(
+    fields: Fields<'_>,
+    csv: bool,
+    held: Option<InFlight>,
+) -> Result<Response, ApiError> {
     let prefix = fields.pointer("");
     let request = schedule_request_from(fields)?;
     let short = matches!(request.terms.term, LoanTerm::Payments(n) if n <= INLINE_PAYMENTS);
-    offload(short, move || {
+    offload(short, held, move || {
         let s = schedule_with(&request.terms, &request.options)
             .map_err(|e| ApiError::from_engine(e, &prefix))?;
         Ok(if csv {
@@ -199,6 +208,7 @@ async fn loan_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError
 /// `POST /api/v1/loans/schedule`
 pub async fn schedule_post(
     headers: HeaderMap,
+    held: Option<Extension<InFlight>>,
     JsonBody(body): JsonBody,
 ) -> Result<Response, ApiError> {
     let Json::Object(members) = &body else {
@@ -210,20 +220,35 @@ pub async fn schedule_post(
             pointer: "",
         }),
         wants_csv(&headers),
+        held.map(|Extension(h)| h),
     )
     .await
 }
 
 /// `GET /api/v1/loans/schedule?…`
-pub async fn schedule_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+pub async fn schedule_get(
+    headers: HeaderMap,
+    held: Option<Extension<InFlight>>,
+    RawQuery(q): RawQuery,
+) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
-    loan_answer(Fields::new(Source::Query(&pairs)), wants_csv(&headers)).await
+    let held = held.map(|Extension(h)| h);
+    loan_answer(
+        Fields::new(Source::Query(&pairs)),
+        wants_csv(&headers),
+        held,
+    )
+    .await
 }
 
 /// `GET /api/v1/loans/schedule.csv?…`
-pub async fn schedule_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
+pub async fn schedule_get_csv(
+    held: Option<Extension<InFlight>>,
+    RawQuery(q): RawQuery,
+) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
-    loan_answer(Fields::new(Source::Query(&pairs)), true).await
+    let held = held.map(|Extension(h)| h);
+    loan_answer(Fields::new(Source::Query(&pairs)), true, held).await
 }
 
 fn compare_answer(c: &super::compare::Comparison, csv: bool) -> Response {
