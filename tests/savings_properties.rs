@@ -181,6 +181,12 @@ fn check_against_exact(
 /// the product first once the balance is large).
 fn interest_in_cents(balance: Decimal, rate: Decimal) -> Decimal {
     let product = Exact::of(balance).mul(&Exact::of(rate));
+    if product.scale <= 2 {
+        // Whole cents already (a balance and a rate of few decimals, or zero).
+        let cents = &product.num * BigInt::from(10).pow(2 - product.scale);
+        let cents: i128 = cents.try_into().expect("the interest fits");
+        return Decimal::from_i128_with_scale(cents, 2);
+    }
     let shift = BigInt::from(10).pow(product.scale - 2);
     let twice = BigInt::from(2) * &product.num;
     // Half away from zero: (2·|num| + shift) / (2·shift), with the sign restored.

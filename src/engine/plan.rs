@@ -859,19 +859,45 @@ fn reconcile(rows: &[PlanRow], segments: &[Segment]) -> Result<Option<(Decimal, 
 impl ClosedForm {
     /// x[k] in binary floating point: for estimates only, never for an answer.
     pub fn estimate(&self, k: u32) -> f64 {
+        Estimator::new(self).at(k)
+    }
+}
+
+/// A closed form's coefficients and poles in binary floating point, converted
+/// once for a search that estimates x[k] at many k.
+struct Estimator {
+    modes: Vec<(Vec<f64>, f64)>,
+    impulses: Vec<(u32, f64)>,
+}
+
+impl Estimator {
+    fn new(cf: &ClosedForm) -> Self {
         use rust_decimal::prelude::ToPrimitive;
+        let f = |d: &Decimal| d.to_f64().unwrap_or(0.0);
+        Self {
+            modes: cf
+                .modes
+                .iter()
+                .map(|m| (m.polynomial.iter().map(f).collect(), f(&m.pole)))
+                .collect(),
+            impulses: cf.impulses.iter().map(|(j, c)| (*j, f(c))).collect(),
+        }
+    }
+
+    /// x[k] in binary floating point.
+    fn at(&self, k: u32) -> f64 {
         let kf = f64::from(k);
         let mut total = 0.0;
-        for mode in &self.modes {
+        for (polynomial, pole) in &self.modes {
             let mut poly = 0.0;
-            for c in mode.polynomial.iter().rev() {
-                poly = poly * kf + c.to_f64().unwrap_or(0.0);
+            for c in polynomial.iter().rev() {
+                poly = poly * kf + c;
             }
-            total += poly * mode.pole.to_f64().unwrap_or(0.0).powf(kf);
+            total += poly * pole.powf(kf);
         }
         for (j, c) in &self.impulses {
             if *j == k {
-                total += c.to_f64().unwrap_or(0.0);
+                total += c;
             }
         }
         total
@@ -896,10 +922,11 @@ pub fn first_at_or_below(
         return Ok(None);
     }
     let t = threshold.to_f64().unwrap_or(0.0);
+    let estimator = Estimator::new(cf);
     let (mut a, mut b) = (lo, hi);
     while a < b {
         let mid = a + (b - a) / 2;
-        if cf.estimate(mid) <= t {
+        if estimator.at(mid) <= t {
             b = mid;
         } else {
             a = mid + 1;

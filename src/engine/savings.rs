@@ -1733,6 +1733,22 @@ mod tests {
         }
     }
 
+    #[test]
+    fn one_annual_deposit_of_a_cent_at_zero_percent() {
+        // The case on which the property test of posted ledgers once failed in
+        // its own exact reference (a product with fewer than two decimals).
+        let mut t = terms(
+            "0",
+            Question::FinalBalance {
+                flow: Flow::Deposit(d("0.01")),
+                periods: 1,
+            },
+        );
+        t.frequency = Frequency::Annual;
+        let p = plan(&t).unwrap();
+        assert_eq!(p.ledger.final_balance, d("0.01"));
+    }
+
     /// x[0..=n] stepped in decimals with the deposits of the shape (a check, not an answer).
     fn stepped(s: &FlowShape, x0: Decimal, amount: Decimal, step: Decimal, n: u32) -> Vec<Decimal> {
         let mut x = x0;

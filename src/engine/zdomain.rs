@@ -296,19 +296,17 @@ impl ClosedForm {
         let simple =
             self.impulses.is_empty() && polys.len() <= 4 && polys.iter().all(|p| p.len() == 1);
         if simple {
+            // Unused lanes hold a zero coefficient and a zero pole: their terms
+            // are 0.0, and adding 0.0 leaves each sum as it was.
             let (mut c, mut p, mut w) = ([0.0f64; 4], [0.0f64; 4], [0.0f64; 4]);
             for (j, (poly, pole)) in polys.iter().zip(&poles).enumerate() {
                 (c[j], p[j], w[j]) = (poly[0], *pole, 1.0);
             }
-            let modes = polys.len();
             for k in 0..=len {
-                let (mut x, mut size) = (0.0f64, 0.0f64);
-                for j in 0..modes {
-                    let term = c[j] * w[j];
-                    x += term;
-                    size += term.abs();
-                    w[j] *= p[j];
-                }
+                let t = [c[0] * w[0], c[1] * w[1], c[2] * w[2], c[3] * w[3]];
+                let x = t[0] + t[1] + t[2] + t[3];
+                let size = t[0].abs() + t[1].abs() + t[2].abs() + t[3].abs();
+                w = [w[0] * p[0], w[1] * p[1], w[2] * p[2], w[3] * p[3]];
                 if k >= 1 {
                     let seen = quick_f64(observed(k));
                     gaps.push((seen - x).abs());
@@ -422,6 +420,8 @@ fn quick_f64(d: Decimal) -> f64 {
     ];
     // The mantissa's words (flags, low, middle, high): a mantissa of 64 bits (every
     // amount of money) converts in a few instructions, a wider one through i128.
+    // (Written from the words: a test of the i128's range is seen through by the
+    // compiler, which then converts every mantissa with the i128 library call.)
     let b = d.serialize();
     let word = |i: usize| u32::from_le_bytes([b[i], b[i + 1], b[i + 2], b[i + 3]]);
     let magnitude = if word(12) == 0 {
