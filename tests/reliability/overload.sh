@@ -1,16 +1,19 @@
 #!/usr/bin/env bash
-# Overload and shutdown tests on 127.0.0.1, bounded for CI (about 40 s by default).
+# Overload and shutdown tests on 127.0.0.1, bounded for CI (about 45 s by default).
 #
 # Usage: bash tests/reliability/overload.sh <residue binary>
-#   DURATION=60 bash tests/reliability/overload.sh target/release/residue   # the full 60 s run
-# Environment: DURATION (load seconds, default 20), MAX_IN_FLIGHT (default 2),
+#   DURATION=120 bash tests/reliability/overload.sh target/release/residue   # 60 s a phase
+# Environment: DURATION (load seconds of both phases together, default 20), MAX_IN_FLIGHT (default 2),
 #              BATCH_LINES (lines of the batch in flight at SIGTERM, default 600).
 #
+# Twice, for short schedules (360 payments, computed on the runtime's own threads)
+# and for long ones (6,000 payments, on blocking threads behind the in-flight limit):
 # 1. Saturation: wrk at MAX_IN_FLIGHT connections for 3 s gives the throughput.
 # (The answer store is off, so every request is computed.)
-# 2. Overload: wrk at 3 x MAX_IN_FLIGHT connections for DURATION s; checks only 200s
-#    and 503s, every 503 with Retry-After, VmRSS sampled each second under 200 MB,
-#    /healthz polled every 0.5 s answers 200 throughout.
+# 2. Overload: wrk at 3 x MAX_IN_FLIGHT connections for DURATION/2 s; checks only
+#    200s and 503s, every 503 with Retry-After, VmRSS sampled each second under
+#    200 MB, /healthz polled every 0.5 s answers 200 throughout; for the long
+#    schedules, that the in-flight limit refused the excess with 503.
 # 3. Shutdown: slow requests (6,000-payment schedules and a batch) in flight, SIGTERM:
 #    each gets a complete answer, a new connection is refused, the process exits 0.
 set -uo pipefail
@@ -47,7 +50,6 @@ for _ in $(seq 100); do curl -sf -o /dev/null "$BASE/healthz" && break; sleep 0.
 curl -sf -o /dev/null "$BASE/healthz" || { echo "the server did not start"; cat "$WORK/server.log"; exit 1; }
 echo "residue pid $PID on $BASE, max-in-flight $MAX_IN_FLIGHT, load ${DURATION}s"
 
-LOAD_PATH="/api/v1/loans/schedule?principal=250000&annual_rate_percent=7.125&term_months=360"
 cat >"$WORK/count.lua" <<'LUA'
 -- Counts statuses per thread; a 503 without Retry-After counts as "bad_503".
 local threads = {}
@@ -73,46 +75,64 @@ function done(summary, latency, requests)
 end
 LUA
 
-echo "== saturation: $MAX_IN_FLIGHT connections, 3 s"
-COUNTS_FILE="$WORK/sat.counts" wrk -t2 -c"$MAX_IN_FLIGHT" -d3s -s "$WORK/count.lua" "$BASE$LOAD_PATH" >"$WORK/sat.txt" 2>&1
-grep -E 'Requests/sec|Latency' "$WORK/sat.txt" | sed 's/^/  /'
-sed 's/^/  status /' "$WORK/sat.counts"
+# One load phase: saturation for 3 s, then 3x that many connections for PHASE_SECONDS.
+# $1 names it, $2 is the path, $3 is "refuses" when the in-flight limit must have
+# refused some requests with 503 (jobs long enough to hold every permit at once).
+load_phase() {
+  local label=$1 LOAD_PATH=$2 expect=$3 DURATION=$PHASE_SECONDS
+  echo "== $label"
+  echo "== saturation: $MAX_IN_FLIGHT connections, 3 s"
+  COUNTS_FILE="$WORK/sat.counts" wrk -t2 -c"$MAX_IN_FLIGHT" -d3s -s "$WORK/count.lua" "$BASE$LOAD_PATH" >"$WORK/sat.txt" 2>&1
+  grep -E 'Requests/sec|Latency' "$WORK/sat.txt" | sed 's/^/  /'
+  sed 's/^/  status /' "$WORK/sat.counts"
 
-CONNS=$((3 * MAX_IN_FLIGHT))
-echo "== overload: $CONNS connections (3x), ${DURATION} s"
-: >"$WORK/rss"
-( while kill -0 "$PID" 2>/dev/null; do
-    awk '/VmRSS/ {print $2}' "/proc/$PID/status" 2>/dev/null >>"$WORK/rss"; sleep 1
-  done ) &
-BG+=($!); RSS_SAMPLER=$!
-( end=$((SECONDS + DURATION)); ok=0; bad=0
-  while [ $SECONDS -lt $end ]; do
-    code=$(curl -s -o /dev/null -m 2 -w '%{http_code}' "$BASE/healthz")
-    if [ "$code" = 200 ]; then ok=$((ok + 1)); else bad=$((bad + 1)); echo "healthz $code" >>"$WORK/health.bad"; fi
-    sleep 0.5
-  done
-  echo "$ok $bad" >"$WORK/health" ) &
-HEALTH_POLLER=$!
-COUNTS_FILE="$WORK/load.counts" wrk -t2 -c"$CONNS" -d"${DURATION}s" --timeout 15s -s "$WORK/count.lua" \
-  "$BASE$LOAD_PATH" >"$WORK/load.txt" 2>&1
-wait "$HEALTH_POLLER"
-grep -E 'Requests/sec|Latency|requests in' "$WORK/load.txt" | sed 's/^/  /'
-sed 's/^/  status /' "$WORK/load.counts"
-count_of() { awk -v k="$1" '$1 == k {print $2}' "$WORK/load.counts" | grep . || echo 0; }
-others=$(awk '$1 != "200" && $1 != "503" && $1 != "socket_errors" {s += $2} END {print s + 0}' "$WORK/load.counts")
-check "only 200s and 503s under load (others: $others)" [ "$others" -eq 0 ]
-check "some requests succeeded under load ($(count_of 200) x 200)" [ "$(count_of 200)" -gt 0 ]
-check "every 503 carried Retry-After ($(count_of bad_503) without)" [ "$(count_of bad_503)" -eq 0 ]
-if [ "$(count_of 503)" -gt 0 ]; then
-  echo "  note: the in-flight limit refused $(count_of 503) requests with 503 + Retry-After"
-else
-  echo "  note: no 503 at all: with $(nproc) cores the handlers never held $MAX_IN_FLIGHT permits at once"
-fi
-check "no socket errors under load ($(count_of socket_errors))" [ "$(count_of socket_errors)" -eq 0 ]
-read -r hok hbad <"$WORK/health"
-check "/healthz answered throughout ($hok ok, $hbad not)" [ "$hbad" -eq 0 -a "$hok" -gt 0 ]
-max_rss=$(sort -n "$WORK/rss" | tail -1)
-check "resident memory under 200 MB (max VmRSS ${max_rss} kB over $(wc -l <"$WORK/rss") samples)" [ "${max_rss:-999999999}" -lt "$RSS_LIMIT_KB" ]
+  CONNS=$((3 * MAX_IN_FLIGHT))
+  echo "== overload: $CONNS connections (3x), ${DURATION} s"
+  : >"$WORK/rss"
+  ( while kill -0 "$PID" 2>/dev/null; do
+      awk '/VmRSS/ {print $2}' "/proc/$PID/status" 2>/dev/null >>"$WORK/rss"; sleep 1
+    done ) &
+  BG+=($!); RSS_SAMPLER=$!
+  ( end=$((SECONDS + DURATION)); ok=0; bad=0
+    while [ $SECONDS -lt $end ]; do
+      code=$(curl -s -o /dev/null -m 2 -w '%{http_code}' "$BASE/healthz")
+      if [ "$code" = 200 ]; then ok=$((ok + 1)); else bad=$((bad + 1)); echo "healthz $code" >>"$WORK/health.bad"; fi
+      sleep 0.5
+    done
+    echo "$ok $bad" >"$WORK/health" ) &
+  HEALTH_POLLER=$!
+  COUNTS_FILE="$WORK/load.counts" wrk -t2 -c"$CONNS" -d"${DURATION}s" --timeout 15s -s "$WORK/count.lua" \
+    "$BASE$LOAD_PATH" >"$WORK/load.txt" 2>&1
+  wait "$HEALTH_POLLER"
+  grep -E 'Requests/sec|Latency|requests in' "$WORK/load.txt" | sed 's/^/  /'
+  sed 's/^/  status /' "$WORK/load.counts"
+  count_of() { awk -v k="$1" '$1 == k {print $2}' "$WORK/load.counts" | grep . || echo 0; }
+  others=$(awk '$1 != "200" && $1 != "503" && $1 != "socket_errors" {s += $2} END {print s + 0}' "$WORK/load.counts")
+  check "only 200s and 503s under load (others: $others)" [ "$others" -eq 0 ]
+  check "some requests succeeded under load ($(count_of 200) x 200)" [ "$(count_of 200)" -gt 0 ]
+  check "every 503 carried Retry-After ($(count_of bad_503) without)" [ "$(count_of bad_503)" -eq 0 ]
+  if [ "$(count_of 503)" -gt 0 ]; then
+    echo "  note: the in-flight limit refused $(count_of 503) requests with 503 + Retry-After"
+  else
+    echo "  note: no 503 at all: with $(nproc) cores the handlers never held $MAX_IN_FLIGHT permits at once"
+  fi
+  check "no socket errors under load ($(count_of socket_errors))" [ "$(count_of socket_errors)" -eq 0 ]
+  read -r hok hbad <"$WORK/health"
+  check "/healthz answered throughout ($hok ok, $hbad not)" [ "$hbad" -eq 0 -a "$hok" -gt 0 ]
+  max_rss=$(sort -n "$WORK/rss" | tail -1)
+  check "resident memory under 200 MB (max VmRSS ${max_rss} kB over $(wc -l <"$WORK/rss") samples)" [ "${max_rss:-999999999}" -lt "$RSS_LIMIT_KB" ]
+  if [ "$expect" = refuses ]; then
+    check "the in-flight limit refused the excess at once ($(count_of 503) x 503)" [ "$(count_of 503)" -gt 0 ]
+  fi
+}
+
+PHASE_SECONDS=$(( (DURATION + 1) / 2 ))
+# A 360-payment schedule is computed on the runtime's own threads (about 0.1 ms);
+# a 6,000-payment one on a blocking thread holding its in-flight permit.
+load_phase "short schedules (computed on the runtime's threads)" \
+  "/api/v1/loans/schedule?principal=250000&annual_rate_percent=7.125&term_months=360" any
+load_phase "long schedules (computed on blocking threads behind the in-flight limit)" \
+  "/api/v1/loans/schedule?principal=100000&annual_rate_percent=1&term_months=6000" refuses
 
 echo "== shutdown: SIGTERM with slow requests in flight"
 SLOW_PATH="/api/v1/loans/schedule?principal=100000&annual_rate_percent=1&term_months=6000"
