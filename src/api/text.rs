@@ -342,23 +342,11 @@ mod tests {
             Decimal::new(-15, 1),
             Decimal::new(100, 0),
         ];
-        let mut state = 0x853c_49e6_748f_ea9bu64;
-        for i in 0..20_000u32 {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            let bits = i % 97;
-            let wide = (u128::from(state) << 64) | u128::from(state.rotate_left(17));
-            let m = if bits == 0 {
-                0
-            } else {
-                (wide >> (128 - bits)) as i128
-            };
-            values.push(Decimal::from_i128_with_scale(
-                if i % 2 == 0 { m } else { -m },
-                i % 29,
-            ));
-        }
+        values.extend(crate::engine::testing::random_decimals(
+            0x853c_49e6_748f_ea9b,
+            20_000,
+            None,
+        ));
         for d in values {
             assert_eq!(decimal_string(d), d.to_string(), "{d:?}");
             assert_eq!(decimal_string(d.normalize()), d.normalize().to_string());
@@ -397,13 +385,6 @@ mod tests {
             assert_eq!(line.as_bytes(), date.to_string().as_bytes());
         }
         let currencies: Vec<Currency> = Currency::codes().filter_map(Currency::parse).collect();
-        let mut state = 0x9e37_79b9_7f4a_7c15u64;
-        let mut next = move || {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            state
-        };
         // Every amount up to 1,000.00 (in cents), and each side of every power of ten.
         let mut mantissas: Vec<i64> = (0..100_000).collect();
         for d in 1..=18 {
@@ -425,25 +406,16 @@ mod tests {
                 }
             }
         }
-        for i in 0..20_000u64 {
-            let r = next();
-            // Mantissas of every size from 0 to 96 bits, both signs, scales 0 to 28.
-            let bits = (r % 97) as u32;
-            let hi = if bits == 0 {
-                0
-            } else {
-                i128::from(next()) << 64 | i128::from(next())
-            };
-            let magnitude = if bits == 0 {
-                0
-            } else {
-                (hi.unsigned_abs() >> (128 - bits)) as i128
-            };
-            let scale = if i % 3 == 0 { (next() % 29) as u32 } else { 2 };
-            let value = Decimal::from_i128_with_scale(
-                if r & 1 == 1 { -magnitude } else { magnitude },
-                scale,
-            );
+        // Mantissas of every size from 0 to 96 bits, both signs; a third of them
+        // with scales 0 to 28, the rest with the ledger's 2.
+        let mut values =
+            crate::engine::testing::random_decimals(0x9e37_79b9_7f4a_7c15, 6_667, None);
+        values.extend(crate::engine::testing::random_decimals(
+            0x6a09_e667_f3bc_c909,
+            13_333,
+            Some(2),
+        ));
+        for value in values {
             for c in &currencies {
                 line.clear();
                 line.put(b"[");

@@ -23,6 +23,8 @@ pub mod rate;
 pub mod recurrence;
 pub mod savings;
 pub mod schedule;
+#[cfg(test)]
+pub(crate) mod testing;
 pub mod zdomain;
 
 pub use error::{EngineError, ErrorKind, Result};

@@ -458,17 +458,11 @@ mod tests {
             Decimal::MIN,
             Decimal::new(-1, 28),
         ];
-        let mut state = 0x2545_f491_4f6c_dd1du64;
-        for i in 0..5_000u32 {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            let bits = i % 97;
-            let m = (i128::from(state) << 40 ^ i128::from(state >> 3)).unsigned_abs()
-                >> (128 - bits.max(1));
-            let m = if i % 2 == 0 { m as i128 } else { -(m as i128) };
-            values.push(Decimal::from_i128_with_scale(m, i % 29));
-        }
+        values.extend(crate::engine::testing::random_decimals(
+            0x2545_f491_4f6c_dd1d,
+            5_000,
+            None,
+        ));
         for d in values {
             let ten_power: f64 = format!("1e{}", d.scale()).parse().unwrap();
             let expected = d.mantissa() as f64 / ten_power;

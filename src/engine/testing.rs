@@ -1,0 +1,30 @@
+//! Test inputs shared by unit tests: random decimals of every size.
+
+use rust_decimal::Decimal;
+
+/// `count` decimals from a xorshift generator started at `seed`: mantissas of
+/// every size from 0 to 96 bits in turn, both signs, and a scale from 0 to 28
+/// (or `scale` for all when given).
+pub fn random_decimals(seed: u64, count: u32, scale: Option<u32>) -> Vec<Decimal> {
+    let mut state = seed;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        state
+    };
+    (0..count)
+        .map(|i| {
+            let bits = i % 97;
+            let wide = (u128::from(next()) << 64) | u128::from(next());
+            let magnitude = if bits == 0 {
+                0
+            } else {
+                (wide >> (128 - bits)) as i128
+            };
+            let sign = if next() & 1 == 1 { -1 } else { 1 };
+            let scale = scale.unwrap_or((next() % 29) as u32);
+            Decimal::from_i128_with_scale(sign * magnitude, scale)
+        })
+        .collect()
+}
