@@ -12,6 +12,7 @@ use super::json::{self, Json};
 use super::loans::{schedule_csv, schedule_request_from, LoanScheduleDto};
 use super::problem::{ApiError, FieldError, ProblemKind};
 use super::recurrence;
+use crate::engine::plan::{PlanOptions, RateChangeKeeps};
 use crate::engine::schedule::{schedule_with, LoanTerm};
 use crate::server::{AppState, InFlight};
 
@@ -163,6 +164,20 @@ pub fn wants_csv(headers: &HeaderMap) -> bool {
 /// (a term solved from a payment) go to a blocking thread.
 pub const INLINE_PAYMENTS: u32 = 1_200;
 
+/// The most extra payments and rate changes together of a schedule computed on
+/// the runtime's own thread (each is looked up at every payment).
+pub const INLINE_CHANGES: usize = 16;
+
+/// True when the schedule is short enough to compute where its request is read:
+/// a known term of at most [`INLINE_PAYMENTS`], at most [`INLINE_CHANGES`]
+/// extras and rate changes, and no rate change that keeps the payment (the term
+/// would then follow from the payment, up to the longest schedule).
+fn short_schedule(terms: &crate::engine::schedule::LoanTerms, o: &PlanOptions) -> bool {
+    matches!(terms.term, LoanTerm::Payments(n) if n <= INLINE_PAYMENTS)
+        && o.extras.len() + o.rate_changes.len() <= INLINE_CHANGES
+        && (o.rate_changes.is_empty() || o.rate_change_keeps == RateChangeKeeps::Term)
+}
+
 /// Runs `job` here when `short`, else on a blocking thread that holds a share of
 /// the request's in-flight permit (`held`) until the job ends, even when the
 /// request itself has timed out and gone.
@@ -192,7 +207,7 @@ async fn loan_answer(
 ) -> Result<Response, ApiError> {
     let prefix = fields.pointer("");
     let request = schedule_request_from(fields)?;
-    let short = matches!(request.terms.term, LoanTerm::Payments(n) if n <= INLINE_PAYMENTS);
+    let short = short_schedule(&request.terms, &request.options);
     offload(short, held, move || {
         let s = schedule_with(&request.terms, &request.options)
             .map_err(|e| ApiError::from_engine(e, &prefix))?;
@@ -295,4 +310,70 @@ pub async fn recurrence_post(JsonBody(body): JsonBody) -> Result<Response, ApiEr
 /// `GET /healthz`
 pub async fn healthz(State(_): State<AppState>) -> Response {
     json_answer(&serde_json::json!({"status": "ok"}))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::plan::{Extra, RateChange};
+    use crate::engine::rate::AnnualRate;
+    use crate::engine::schedule::LoanTerms;
+    use rust_decimal::Decimal;
+
+    fn terms(term: LoanTerm) -> LoanTerms {
+        crate::engine::testing::loan_terms("100000", "6", term)
+    }
+
+    #[test]
+    fn only_short_schedules_are_computed_where_they_are_read() {
+        let plain = PlanOptions::default();
+        assert!(short_schedule(&terms(LoanTerm::Payments(360)), &plain));
+        assert!(short_schedule(
+            &terms(LoanTerm::Payments(INLINE_PAYMENTS)),
+            &plain
+        ));
+        assert!(!short_schedule(
+            &terms(LoanTerm::Payments(INLINE_PAYMENTS + 1)),
+            &plain
+        ));
+        // A term solved from a payment may run to the longest schedule.
+        assert!(!short_schedule(
+            &terms(LoanTerm::Payment(Decimal::new(600, 0))),
+            &plain
+        ));
+        let extra = |at| Extra::Lump {
+            amount: Decimal::ONE,
+            at,
+        };
+        let some = PlanOptions {
+            extras: (1..=INLINE_CHANGES as u32).map(extra).collect(),
+            ..PlanOptions::default()
+        };
+        assert!(short_schedule(&terms(LoanTerm::Payments(360)), &some));
+        let many = PlanOptions {
+            extras: (1..=INLINE_CHANGES as u32 + 1).map(extra).collect(),
+            ..PlanOptions::default()
+        };
+        assert!(!short_schedule(&terms(LoanTerm::Payments(360)), &many));
+        let step = vec![RateChange {
+            at: 61,
+            rate: AnnualRate::from_percent(Decimal::new(9, 0)).unwrap(),
+        }];
+        let keeps_term = PlanOptions {
+            rate_changes: step.clone(),
+            rate_change_keeps: RateChangeKeeps::Term,
+            ..PlanOptions::default()
+        };
+        assert!(short_schedule(&terms(LoanTerm::Payments(360)), &keeps_term));
+        // Keeping the payment, the term follows from it.
+        let keeps_payment = PlanOptions {
+            rate_changes: step,
+            rate_change_keeps: RateChangeKeeps::Payment,
+            ..PlanOptions::default()
+        };
+        assert!(!short_schedule(
+            &terms(LoanTerm::Payments(360)),
+            &keeps_payment
+        ));
+    }
 }

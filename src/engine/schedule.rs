@@ -545,18 +545,7 @@ mod tests {
         s.parse().unwrap()
     }
 
-    fn terms(principal: &str, percent: &str, term: LoanTerm) -> LoanTerms {
-        LoanTerms {
-            principal: d(principal),
-            currency: Currency::USD,
-            rate: AnnualRate::from_percent(d(percent)).unwrap(),
-            payment_frequency: Frequency::Monthly,
-            compounding: None,
-            term,
-            payment_rounding: PaymentRounding::Nearest,
-            interest_rounding: InterestRounding::HalfUp,
-        }
-    }
+    use crate::engine::testing::loan_terms as terms;
 
     #[test]
     fn the_ledger_repays_exactly_and_the_principal_parts_add_up() {

@@ -1,6 +1,24 @@
-//! Test inputs shared by unit tests: random decimals of every size.
+//! Test inputs shared by unit tests: random decimals of every size, loan terms.
 
 use rust_decimal::Decimal;
+
+use super::money::{Currency, InterestRounding, PaymentRounding};
+use super::rate::{AnnualRate, Frequency};
+use super::schedule::{LoanTerm, LoanTerms};
+
+/// A monthly USD loan with the default roundings.
+pub fn loan_terms(principal: &str, percent: &str, term: LoanTerm) -> LoanTerms {
+    LoanTerms {
+        principal: principal.parse().unwrap(),
+        currency: Currency::USD,
+        rate: AnnualRate::from_percent(percent.parse().unwrap()).unwrap(),
+        payment_frequency: Frequency::Monthly,
+        compounding: None,
+        term,
+        payment_rounding: PaymentRounding::Nearest,
+        interest_rounding: InterestRounding::HalfUp,
+    }
+}
 
 /// `count` decimals from a xorshift generator started at `seed`: mantissas of
 /// every size from 0 to 96 bits in turn, both signs, and a scale from 0 to 28
