@@ -45,6 +45,10 @@ python3 -c 'import json, sys
 a, b = json.loads(sys.argv[1]), json.loads(sys.argv[2])
 assert a["schedule"] == b["schedule"], "the rows-only route answers other rows"
 print(f"same rows; answer bytes: real {len(sys.argv[1])}, rows-only {len(sys.argv[2])}")' "$real" "$floor"
+# Both go through the same limits and answer store (each answer stored, with its tag).
+for path in "/api/v1/loans/schedule?principal=100000.09&annual_rate_percent=6&term_months=360" "/floor/schedule?principal=100000.09"; do
+    curl -fs -D - -o /dev/null "http://$addr$path" | grep -qi '^etag:' || { echo "floor-experiment: $path was not stored" >&2; exit 1; }
+done
 sed 's#/api/v1/loans/schedule?principal=" .. principal .. "&annual_rate_percent=6&term_months=360#/floor/schedule?principal=" .. principal .. "#' \
     scripts/distinct-schedules.lua >"$tree/distinct-floor.lua"
 grep -q '/floor/schedule' "$tree/distinct-floor.lua"

@@ -142,6 +142,25 @@ fn operations(base: &str) -> Vec<Operation> {
             ]),
             page: "/about",
         },
+        Operation {
+            id: "batch",
+            title: "Many jobs in one request",
+            method_path: "POST /api/v1/batch (Content-Type: application/x-ndjson)",
+            words: "One job a line, as NDJSON: {\"id\": any JSON value, \"job\": loan_schedule, loan_check, apr, apy or savings_plan, \"request\": the operation's JSON body, \"detail\": summary (the default: a schedule or savings plan without its rows and derivation, only the summary and notes; a check without its table of disclosure rounding) or full (the whole answer, as the operation gives it)}. The answer streams back as NDJSON in the same order, one line a job: {\"id\", \"ok\": true, \"result\"} or {\"id\", \"ok\": false, \"problem\"}, the problem's pointers relative to the line's request. A bad line fails alone. Up to 100,000 lines of at most 64 KiB each; two batches are computed at once, a third is answered 503 with Retry-After.",
+            examples: ex(&[
+                "printf '%s\\n' '{\"id\":1,\"job\":\"loan_check\",\"request\":{\"principal\":\"246113\",\"annual_rate_percent\":\"6.7\",\"term_months\":360}}' '{\"id\":2,\"job\":\"apy\",\"request\":{\"annual_rate_percent\":\"5\",\"compounding\":\"daily\"}}' > jobs.ndjson",
+                "curl -H 'content-type: application/x-ndjson' --data-binary @jobs.ndjson {base}/api/v1/batch",
+            ]),
+            page: "",
+        },
+        Operation {
+            id: "operations",
+            title: "Health and metrics",
+            method_path: "GET /healthz and GET /metrics",
+            words: "/healthz answers {\"status\": \"ok\"} while the service runs. /metrics gives the Prometheus text format: requests and latencies per route, problems by type, batch lines and answers served from the answer store. Neither counts against the in-flight limit.",
+            examples: ex(&["curl {base}/healthz", "curl {base}/metrics"]),
+            page: "",
+        },
     ]
 }
 

@@ -662,6 +662,8 @@ fn a_client_that_trickles_its_body_is_cut_off_at_the_timeout() {
         started.elapsed()
     );
     assert_eq!(r.status, 503, "{}", String::from_utf8_lossy(&r.body));
+    let p: Value = serde_json::from_slice(&r.body).unwrap();
+    assert_eq!(p["type"], "/api#problem-timeout");
     assert_still_healthy(&app);
 }
 
