@@ -65,6 +65,7 @@ fn benches(c: &mut Criterion) {
             post_level(
                 black_box(principal),
                 i,
+                None,
                 payment,
                 360,
                 Currency::USD,
@@ -76,6 +77,7 @@ fn benches(c: &mut Criterion) {
     let ledger = post_level(
         principal,
         i,
+        None,
         payment,
         360,
         Currency::USD,

@@ -246,7 +246,7 @@ proptest! {
         let p = Currency::USD.round(exact_payment, rust_decimal::RoundingStrategy::MidpointAwayFromZero);
         prop_assume!(p > Currency::USD.round(x0 * i, rust_decimal::RoundingStrategy::MidpointAwayFromZero));
         let rounding = if even { InterestRounding::HalfEven } else { InterestRounding::HalfUp };
-        let l = post_level(x0, i, p, n, Currency::USD, rounding).unwrap();
+        let l = post_level(x0, i, None, p, n, Currency::USD, rounding).unwrap();
         prop_assert_eq!(l.rows.last().unwrap().balance, Decimal::ZERO);
         let principal: Decimal = l.rows.iter().map(|r| r.principal).sum();
         prop_assert_eq!(principal, x0);

@@ -53,6 +53,18 @@ async fn page(path: &str) -> String {
     body
 }
 
+/// A form page refusing its query: the page itself, with 422 (fields that
+/// are invalid, terms with no solution).
+async fn refused_page(path: &str) -> String {
+    let (status, content_type, body) = get(path).await;
+    assert_eq!(status, StatusCode::UNPROCESSABLE_ENTITY, "{path}: {body}");
+    assert!(
+        content_type.starts_with("text/html"),
+        "{path}: {content_type}"
+    );
+    body
+}
+
 async fn json(path: &str) -> Value {
     let (status, _, body) = get(path).await;
     assert_eq!(status, StatusCode::OK, "{path}: {body}");
@@ -164,7 +176,7 @@ async fn extra_payments_show_what_changed_against_the_base() {
 
 #[tokio::test]
 async fn errors_are_shown_next_to_their_field_with_the_form_kept() {
-    let html = page("/loan?principal=&annual_rate_percent=six&term_months=360").await;
+    let html = refused_page("/loan?principal=&annual_rate_percent=six&term_months=360").await;
     assert!(html.contains("error-summary"));
     assert!(html.contains("id=\"e-annual_rate_percent\""));
     assert!(html.contains("id=\"e-principal\""));
@@ -173,7 +185,7 @@ async fn errors_are_shown_next_to_their_field_with_the_form_kept() {
     assert!(html.contains("aria-invalid=\"true\""));
     assert!(!html.contains("data-value"), "no result is shown");
     // An engine refusal lands on its field too.
-    let html = page("/loan?principal=100000&annual_rate_percent=6&payment=500").await;
+    let html = refused_page("/loan?principal=100000&annual_rate_percent=6&payment=500").await;
     assert!(html.contains("id=\"e-payment\""), "{html}");
 }
 
@@ -259,9 +271,10 @@ async fn the_check_page_gives_the_verdicts_of_the_check_api() {
     )
     .await;
     assert!(html.contains("implies a note rate of"));
-    let html =
-        page("/check?principal=250000&annual_rate_percent=7.125&term_months=360&mortgage=maybe")
-            .await;
+    let html = refused_page(
+        "/check?principal=250000&annual_rate_percent=7.125&term_months=360&mortgage=maybe",
+    )
+    .await;
     assert!(html.contains("id=\"e-mortgage\""));
 }
 
@@ -280,7 +293,8 @@ async fn the_savings_page_shows_what_the_savings_api_answers() {
     assert!(html.contains("<math display=\"block\">"));
     assert!(links(&html).contains(&format!("/api/v1/savings/plan.csv?{q}")));
     let html =
-        page("/savings?deposit=300&withdrawal=200&annual_rate_percent=4&term_months=120").await;
+        refused_page("/savings?deposit=300&withdrawal=200&annual_rate_percent=4&term_months=120")
+            .await;
     assert!(html.contains("id=\"e-withdrawal\""));
 }
 

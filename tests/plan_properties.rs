@@ -188,13 +188,15 @@ proptest! {
         }
         let s = schedule_with(&t, &PlanOptions { extras: extras.clone(), ..PlanOptions::default() }).unwrap();
         // Two ledgers posted here, independently of the engine's posting loop.
-        let i = percent / Decimal::from(1200);
+        // Interest is b × j/12 with j = percent/100 exactly: b × percent / 1200,
+        // multiplied first so a tie (an exact half cent) stays one; the decimal
+        // percent/1200 alone is rounded at 28 digits when it does not terminate.
         let payment = s.payment;
         let post_here = |with: bool| -> (Decimal, u32) {
             let mut b = principal;
             let mut total = Decimal::ZERO;
             for k in 1..=360u32 {
-                let interest = (b * i).round_dp_with_strategy(2, RoundingStrategy::MidpointAwayFromZero);
+                let interest = (b * percent / Decimal::from(1200)).round_dp_with_strategy(2, RoundingStrategy::MidpointAwayFromZero);
                 total += interest;
                 let mut e = Decimal::ZERO;
                 if with {

@@ -28,7 +28,9 @@ pub struct CompareRowDto {
     pub payoff_date: Option<String>,
     /// Against the base plan (negative: this plan costs more).
     pub interest_saved: String,
-    pub payments_saved: i64,
+    /// Against the base plan; null when this plan's payments fall at another
+    /// frequency than the base's (counts of unlike payments are not compared).
+    pub payments_saved: Option<i64>,
 }
 
 #[derive(Debug, Serialize, utoipa::ToSchema)]
@@ -44,6 +46,23 @@ pub struct Comparison {
 }
 
 fn compute(requests: Vec<(ScheduleRequest, String)>) -> Result<Comparison, ApiError> {
+    // Savings are differences of amounts: every plan in the base's currency.
+    let base_currency = requests.first().map(|(r, _)| r.terms.currency);
+    let errors: Vec<FieldError> = requests
+        .iter()
+        .filter(|(r, _)| Some(r.terms.currency) != base_currency)
+        .map(|(r, pointer)| FieldError {
+            pointer: format!("{pointer}currency"),
+            message: format!(
+                "must be the base plan's currency ({}), not {}: savings are compared in one currency",
+                base_currency.map_or("", |c| c.code()),
+                r.terms.currency.code()
+            ),
+        })
+        .collect();
+    if !errors.is_empty() {
+        return Err(ApiError::fields(errors));
+    }
     let mut plans = Vec::with_capacity(requests.len());
     for (index, (r, pointer)) in requests.into_iter().enumerate() {
         let s = schedule_for_comparison(&r.terms, &r.options)
@@ -248,8 +267,10 @@ impl CompareDto {
                     total_paid: money(s.ledger.total_paid),
                     payoff_date: s.payoff_date.map(|d| d.to_string()),
                     interest_saved: money(base.ledger.total_interest - s.ledger.total_interest),
-                    payments_saved: i64::from(base.number_of_payments)
-                        - i64::from(s.number_of_payments),
+                    payments_saved: (s.terms.payment_frequency == base.terms.payment_frequency)
+                        .then(|| {
+                            i64::from(base.number_of_payments) - i64::from(s.number_of_payments)
+                        }),
                 }
             })
             .collect();
@@ -257,10 +278,14 @@ impl CompareDto {
             CAUTION.to_string(),
             "Savings are measured against the first plan (the base).".to_string(),
         ];
-        if c.plans.iter().any(|(_, s)| s.terms.currency != currency) {
-            notes.push(
-                "The plans are in different currencies: their savings are not comparable.".into(),
-            );
+        if c.plans
+            .iter()
+            .any(|(_, s)| s.terms.payment_frequency != base.terms.payment_frequency)
+        {
+            notes.push(format!(
+                "Plans paid at another frequency than the base ({}) leave payments saved empty: their payments are not alike, so their counts are not compared; compare their interest and payoff instead.",
+                base.terms.payment_frequency.name()
+            ));
         }
         CompareDto {
             currency: currency.code(),
@@ -283,17 +308,26 @@ pub fn compare_csv(c: &CompareDto) -> String {
             r.total_paid,
             r.payoff_date.as_deref().unwrap_or(""),
             r.interest_saved,
-            r.payments_saved
+            r.payments_saved.map_or(String::new(), |v| v.to_string())
         ));
     }
     out
 }
 
-/// A field quoted per RFC 4180 when it holds a comma, quote or line break.
+/// A text field (a label) quoted per RFC 4180 when it holds a comma, quote or
+/// line break. Text that a spreadsheet would take for a formula (a first
+/// character `=`, `+`, `-`, `@`, tab or carriage return) gets a leading `'`, so
+/// an imported label is shown, never evaluated (the OWASP advice on CSV
+/// injection). Only labels are text here; the figures are plain numbers.
 pub fn csv_field(s: &str) -> String {
+    let s = if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        std::borrow::Cow::Owned(format!("'{s}"))
+    } else {
+        std::borrow::Cow::Borrowed(s)
+    };
     if s.contains([',', '"', '\r', '\n']) {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
-        s.to_string()
+        s.into_owned()
     }
 }

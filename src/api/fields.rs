@@ -247,6 +247,39 @@ pub fn escape_pointer(name: &str) -> String {
     name.replace('~', "~0").replace('/', "~1")
 }
 
+/// `text` without its thousands separators (commas, spaces, no-break spaces or
+/// underscores), when it has any: they must group the integer digits by three
+/// ("250,000", "1 250.50"), the first group of one to three digits and not
+/// starting with 0. Anything else is refused rather than guessed at: "6,5" is a
+/// decimal comma (6.5, not 65), "1,5" is not 15.
+fn ungroup(text: &str) -> Result<String, String> {
+    let separator = |c: char| matches!(c, ',' | ' ' | '\u{a0}' | '_');
+    if !text.contains(separator) {
+        return Ok(text.to_string());
+    }
+    let refused = || {
+        format!(
+            "reads a comma or space only between groups of three digits (250,000); write a decimal with a point, e.g. 6.5, not \"{}\"",
+            shorten(text)
+        )
+    };
+    let body = text.strip_prefix('-').unwrap_or(text);
+    let (int, frac) = body.split_once('.').unwrap_or((body, ""));
+    if frac.contains(separator) {
+        return Err(refused());
+    }
+    let mut groups = int.split(separator);
+    let first = groups.next().unwrap_or("");
+    let digits = |g: &str| g.bytes().all(|b| b.is_ascii_digit());
+    if !(1..=3).contains(&first.len()) || !digits(first) || first.starts_with('0') {
+        return Err(refused());
+    }
+    if !groups.all(|g| g.len() == 3 && digits(g)) {
+        return Err(refused());
+    }
+    Ok(text.replace(separator, ""))
+}
+
 /// Parses decimal text exactly: an optional minus, digits, an optional point and
 /// digits, optionally an exponent (e.g. from a JSON encoder). Nothing is rounded:
 /// a value that needs more than 28 significant digits is refused.
@@ -265,7 +298,7 @@ pub fn parse_decimal(text: &str, lenient: bool) -> Result<Decimal, String> {
             .trim_end_matches('%')
             .trim_start_matches(['$', '€', '£'])
             .trim();
-        owned = trimmed.replace([',', ' ', '\u{a0}', '_'], "");
+        owned = ungroup(trimmed)?;
         t = &owned;
     }
     if t.len() > MAX_VALUE_LENGTH {
@@ -415,6 +448,29 @@ mod tests {
         assert_eq!(parse_decimal("250,000", true).unwrap(), d("250000"));
         assert_eq!(parse_decimal(" 6.5% ", true).unwrap(), d("6.5"));
         assert_eq!(parse_decimal("$1,250.00", true).unwrap(), d("1250.00"));
+        assert_eq!(parse_decimal("1 250 000", true).unwrap(), d("1250000"));
+        assert_eq!(parse_decimal("-12,345.5", true).unwrap(), d("-12345.5"));
+        // A decimal comma or a broken grouping is refused, never read as a
+        // bigger number ("6,5" is not 65 %).
+        for bad in [
+            "6,5",
+            "0,5",
+            "4,25",
+            "1,5",
+            "6,17",
+            "0,500",
+            "1,2345",
+            "12,34,567",
+            ",500",
+            "1,000.5,0",
+            "1.000,50",
+        ] {
+            let e = parse_decimal(bad, true).unwrap_err();
+            assert!(
+                e.contains("groups of three digits") || e.contains("digits"),
+                "{bad}: {e}"
+            );
+        }
     }
 
     #[test]

@@ -73,6 +73,35 @@ impl InterestPoster {
         }
     }
 
+    /// The same poster multiplying by the exact ratio `numerator/denominator`
+    /// (denominator > 0) that `rate` rounds, when there is one (see
+    /// [`AnnualRate::periodic_ratio`](super::rate::AnnualRate::periodic_ratio)):
+    /// a balance times the ratio is a tie exactly when it is one. A product
+    /// beyond 128 bits, far past any amount accepted, still takes the decimal.
+    #[must_use]
+    pub fn exactly(mut self, ratio: Option<(i128, i128)>) -> Self {
+        if let Some((numerator, denominator)) = ratio.filter(|&(_, d)| d > 0) {
+            self.mantissa = numerator;
+            self.mantissa_leading_zeros = numerator.unsigned_abs().leading_zeros();
+            self.divisor = denominator;
+            self.rate_f64 = numerator as f64 / denominator as f64;
+        }
+        self
+    }
+
+    /// `balance` (minor units, ≥ 0) times the rate, rounded to the minor unit by
+    /// `rule` (payment rounding: halves away from zero, or always up); `None` if
+    /// the product does not fit 128 bits.
+    pub fn times_rate(&self, balance: i128, rule: super::money::PaymentRounding) -> Option<i128> {
+        let product = balance.checked_mul(self.mantissa)?;
+        let (q, r) = (product / self.divisor, product % self.divisor);
+        let up = match rule {
+            super::money::PaymentRounding::Nearest => 2 * r.abs() >= self.divisor,
+            super::money::PaymentRounding::Up => r != 0,
+        };
+        Some(if up { q + product.signum() } else { q })
+    }
+
     /// The interest on `balance` minor units, in minor units.
     #[inline(always)]
     pub fn interest(&self, balance: i128) -> Result<i128> {
@@ -217,6 +246,8 @@ fn from_minor_wide(amount: i128, minor_units: u32) -> Decimal {
 
 /// Posts a level-payment loan: at most `max_payments` payments of `payment`, the
 /// last one absorbing the residue. Stops early when a payment would repay the balance.
+/// Interest is `periodic_rate` times the balance, or `exact_rate` times it when
+/// the rate is that ratio ([`InterestPoster::exactly`]).
 ///
 /// # Errors
 /// A payment that does not cover the interest of a period (the balance would never
@@ -224,13 +255,14 @@ fn from_minor_wide(amount: i128, minor_units: u32) -> Decimal {
 pub fn post_level(
     principal: Decimal,
     periodic_rate: Decimal,
+    exact_rate: Option<(i128, i128)>,
     payment: Decimal,
     max_payments: u32,
     currency: Currency,
     rounding: InterestRounding,
 ) -> Result<Ledger> {
     let e = currency.minor_units();
-    let poster = InterestPoster::new(periodic_rate, currency, rounding);
+    let poster = InterestPoster::new(periodic_rate, currency, rounding).exactly(exact_rate);
     let mut balance = to_minor(principal, e)?;
     let pay = to_minor(payment, e)?;
     let mut rows = Vec::with_capacity(max_payments as usize);
@@ -445,6 +477,42 @@ mod tests {
                 }
             }
         }
+        // Exact ratios (nominal rates over their periods a year, in lowest
+        // terms: 3.25 %/12, 4 %/12, 5 %/12, 4.42 %/26, 0, 6.125 %/365): the same
+        // reference with the ratio's denominator for 10^scale.
+        let ratios = [
+            (13, 4800),
+            (1, 300),
+            (1, 240),
+            (221, 130_000),
+            (0, 1),
+            (49, 292_000),
+        ];
+        for (numerator, divisor) in ratios {
+            // The decimal the ratio rounds, as the periodic rate gives it.
+            let rate = Decimal::from(numerator) / Decimal::from(divisor);
+            for rounding in [InterestRounding::HalfUp, InterestRounding::HalfEven] {
+                let p = InterestPoster::new(rate, Currency::USD, rounding)
+                    .exactly(Some((numerator, divisor)));
+                for &b in &balances {
+                    let product = b * numerator;
+                    let (q, r) = (product / divisor, product % divisor);
+                    let up = match rounding {
+                        InterestRounding::HalfUp => 2 * r >= divisor,
+                        InterestRounding::HalfEven => {
+                            2 * r > divisor || (2 * r == divisor && q % 2 == 1)
+                        }
+                    };
+                    let want = q + i128::from(up);
+                    assert_eq!(p.interest(b).unwrap(), want, "{numerator}/{divisor} × {b}");
+                    assert_eq!(
+                        p.interest(-b).unwrap(),
+                        -want,
+                        "{numerator}/{divisor} × −{b}"
+                    );
+                }
+            }
+        }
         // Exact halves: 1 × 0.5 rounds up (half up) or to even (0).
         let half = InterestPoster::new(d("0.5"), Currency::USD, InterestRounding::HalfEven);
         assert_eq!(half.interest(1).unwrap(), 0);
@@ -472,6 +540,7 @@ mod tests {
         let l = post_level(
             d("1000"),
             d("0.01"),
+            Some((1, 100)),
             d("340.02"),
             3,
             Currency::USD,

@@ -459,6 +459,7 @@ fn scheduled_payments(terms: &LoanTerms, i: Decimal) -> Result<u32> {
             let l = super::ledger::post_level(
                 terms.principal,
                 i,
+                terms.periodic_ratio(),
                 p,
                 MAX_PAYMENTS,
                 terms.currency,
@@ -475,7 +476,23 @@ fn scheduled_payments(terms: &LoanTerms, i: Decimal) -> Result<u32> {
     }
 }
 
-fn rounded_payment(terms: &LoanTerms, balance: Decimal, i: Decimal, n: u32) -> Result<Decimal> {
+fn rounded_payment(
+    terms: &LoanTerms,
+    balance: Decimal,
+    i: Decimal,
+    poster: &InterestPoster,
+    n: u32,
+) -> Result<Decimal> {
+    if n == 1 && balance >= Decimal::ZERO {
+        // One payment repays balance·(1 + i): rounded from the exact product
+        // the ledger posts (a tie is then a tie), not from the closed form's
+        // 28-digit decimal.
+        let e = terms.currency.minor_units();
+        let b = to_minor(balance, e)?;
+        if let Some(interest) = poster.times_rate(b, terms.payment_rounding) {
+            return Ok(from_minor(b + interest, e));
+        }
+    }
     let exact = payment_for_term(balance, i, n)?;
     Ok(terms
         .currency
@@ -542,6 +559,12 @@ fn post_inner(
         r.periodic_rate(terms.payment_frequency, compounding)
             .map_err(|e| e.at("rate_changes"))
     };
+    // Interest is the balance times the exact ratio the periodic rate rounds,
+    // when it is one (a nominal rate over its periods a year).
+    let poster_for = |r: &AnnualRate, i: Decimal| {
+        InterestPoster::new(i, c, terms.interest_rounding)
+            .exactly(r.periodic_ratio(terms.payment_frequency, compounding))
+    };
     let i0 = terms.periodic_rate()?;
     let n = scheduled_payments(terms, i0)?;
     check(terms, o, n)?;
@@ -571,12 +594,16 @@ fn post_inner(
     };
 
     let mut i = i0;
-    let mut poster = InterestPoster::new(i, c, terms.interest_rounding);
+    let mut poster = poster_for(&terms.rate, i);
     let mut payment = match terms.term {
         LoanTerm::Payment(p) => p,
-        LoanTerm::Payments(_) => {
-            rounded_payment(terms, terms.principal, i, n - o.interest_only_payments)?
-        }
+        LoanTerm::Payments(_) => rounded_payment(
+            terms,
+            terms.principal,
+            i,
+            &poster,
+            n - o.interest_only_payments,
+        )?,
     };
     let amortizing_payment = payment;
     let mut pay = to_minor(payment, e)?;
@@ -643,11 +670,17 @@ fn post_inner(
             if rates.last() != Some(&i) {
                 rates.push(i);
             }
-            poster = InterestPoster::new(i, c, terms.interest_rounding);
+            poster = poster_for(&rc.rate, i);
             if k > o.interest_only_payments {
                 match o.rate_change_keeps {
                     RateChangeKeeps::Term => {
-                        payment = rounded_payment(terms, from_minor(balance, e), i, n - (k - 1))?;
+                        payment = rounded_payment(
+                            terms,
+                            from_minor(balance, e),
+                            i,
+                            &poster,
+                            n - (k - 1),
+                        )?;
                         pay = to_minor(payment, e)?;
                     }
                     RateChangeKeeps::Payment => {
@@ -667,6 +700,7 @@ fn post_inner(
                 terms,
                 from_minor(balance, e),
                 i,
+                &poster,
                 n - o.interest_only_payments,
             )?;
             if matches!(terms.term, LoanTerm::Payment(p) if p > Decimal::ZERO) {
@@ -1088,6 +1122,35 @@ mod tests {
 
     fn total_principal(p: &Plan) -> Decimal {
         p.rows.iter().map(|r| r.principal).sum()
+    }
+
+    #[test]
+    fn an_exact_half_cent_of_interest_is_a_tie_whatever_the_rate_decimal() {
+        // 249,960 at 3.25 % a year, monthly: the first interest is
+        // 249960 × 0.0325/12 = 676.975 exactly (by hand). The decimal periodic
+        // rate 0.0325/12 = 0.00270833… is rounded down at 28 digits; the tie
+        // must still round half up (676.98), or to the even cent (676.98, 7 odd).
+        let mut terms = terms("249960", "3.25", 360);
+        let p = post(&terms, &PlanOptions::default(), true).unwrap();
+        assert_eq!(p.rows[0].interest, d("676.98"));
+        terms.interest_rounding = InterestRounding::HalfEven;
+        let p = post(&terms, &PlanOptions::default(), true).unwrap();
+        assert_eq!(p.rows[0].interest, d("676.98"));
+        // 1018.80 at 5 %: 4.245 exactly, whose even cent is 4.24; the decimal
+        // 0.05/12 is rounded up at 28 digits.
+        terms.principal = d("1018.80");
+        terms.rate = AnnualRate::from_percent(d("5")).unwrap();
+        terms.term = LoanTerm::Payments(12);
+        let p = post(&terms, &PlanOptions::default(), true).unwrap();
+        assert_eq!(p.rows[0].interest, d("4.24"));
+        // One payment repays 249960 × (1 + 0.0325/12) = 250636.975: 250636.98.
+        terms.principal = d("249960");
+        terms.rate = AnnualRate::from_percent(d("3.25")).unwrap();
+        terms.term = LoanTerm::Payments(1);
+        terms.interest_rounding = InterestRounding::HalfUp;
+        let p = post(&terms, &PlanOptions::default(), true).unwrap();
+        assert_eq!(p.payment, d("250636.98"));
+        assert_eq!(p.rows[0].payment, d("250636.98"));
     }
 
     #[test]

@@ -133,6 +133,45 @@ impl AnnualRate {
     }
 }
 
+impl AnnualRate {
+    /// The periodic rate as an exact ratio of integers (numerator, denominator),
+    /// in lowest terms, when it is one: payment and compounding at the same
+    /// frequency, i = j/p. `None` for an equivalent rate (a root) or a ratio
+    /// beyond 128 bits.
+    ///
+    /// The decimal of [`Self::periodic_rate`] is that ratio rounded to 28
+    /// digits; a balance times the rounded decimal can fall a hair below or
+    /// above an exact half minor unit (249,960 at 3.25 % a year, monthly:
+    /// 676.975 exactly), so the posting multiplies by the ratio instead.
+    pub fn periodic_ratio(
+        &self,
+        payment: Frequency,
+        compounding: Frequency,
+    ) -> Option<(i128, i128)> {
+        if payment.per_year() != compounding.per_year() {
+            return None;
+        }
+        let numerator = self.percent.mantissa();
+        let denominator = 10i128
+            .checked_pow(self.percent.scale())?
+            .checked_mul(100 * i128::from(payment.per_year()))?;
+        let g = gcd_wide(numerator.unsigned_abs(), denominator.unsigned_abs());
+        if g <= 1 {
+            return Some((numerator, denominator));
+        }
+        let g = g as i128;
+        Some((numerator / g, denominator / g))
+    }
+}
+
+fn gcd_wide(a: u128, b: u128) -> u128 {
+    if b == 0 {
+        a
+    } else {
+        gcd_wide(b, a % b)
+    }
+}
+
 fn gcd(a: u32, b: u32) -> u32 {
     if b == 0 {
         a
@@ -169,6 +208,36 @@ mod tests {
 
     fn d(s: &str) -> Decimal {
         s.parse().unwrap()
+    }
+
+    #[test]
+    fn the_periodic_ratio_is_the_nominal_rate_over_its_periods_in_lowest_terms() {
+        // 3.25 % / 12 = 0.0325 / 12 = 13/4800 (arithmetic by hand).
+        let r = AnnualRate::from_percent(d("3.25")).unwrap();
+        assert_eq!(
+            r.periodic_ratio(Frequency::Monthly, Frequency::Monthly),
+            Some((13, 4800))
+        );
+        // The decimal periodic rate is that ratio rounded to 28 digits.
+        let i = r
+            .periodic_rate(Frequency::Monthly, Frequency::Monthly)
+            .unwrap();
+        assert_eq!(i, Decimal::from(13) / Decimal::from(4800));
+        assert_ne!(i * Decimal::from(4800), Decimal::from(13));
+        // Trailing zeros of the rate as given do not change the ratio.
+        let r = AnnualRate::from_percent(d("6.500")).unwrap();
+        assert_eq!(
+            r.periodic_ratio(Frequency::Biweekly, Frequency::Biweekly),
+            Some((1, 400))
+        );
+        assert_eq!(
+            AnnualRate::from_percent(d("0"))
+                .unwrap()
+                .periodic_ratio(Frequency::Weekly, Frequency::Weekly),
+            Some((0, 1))
+        );
+        // An equivalent rate is a root: no ratio.
+        assert_eq!(r.periodic_ratio(Frequency::Monthly, Frequency::Daily), None);
     }
 
     #[test]

@@ -234,6 +234,9 @@ pub enum Pattern {
 pub struct FlowShape {
     /// a = 1 + i.
     pub a: Decimal,
+    /// i as the exact ratio of integers it rounds, when it is one
+    /// ([`SavingsTerms::periodic_ratio`]): the posting multiplies by it.
+    pub exact_rate: Option<(i128, i128)>,
     pub periods_per_year: u32,
     pub timing: Timing,
     pub pattern: Pattern,
@@ -556,7 +559,8 @@ fn post(
 ) -> Result<SavingsLedger> {
     let e = currency.minor_units();
     let half_up = RoundingStrategy::MidpointAwayFromZero;
-    let poster = InterestPoster::new(periodic_rate, currency, InterestRounding::HalfUp);
+    let poster = InterestPoster::new(periodic_rate, currency, InterestRounding::HalfUp)
+        .exactly(shape.exact_rate);
     let mut balance = to_minor(x0, e)?;
     let level = to_minor(currency.round(amount, half_up), e)?;
     let m = shape.periods_per_year;
@@ -872,6 +876,13 @@ impl SavingsTerms {
         self.rate
             .periodic_rate(self.frequency, self.compounding.unwrap_or(self.frequency))
             .map_err(|e| e.at("annual_rate_percent"))
+    }
+
+    /// [`Self::periodic_rate`] as the exact ratio it rounds, when it is one
+    /// ([`AnnualRate::periodic_ratio`](super::rate::AnnualRate::periodic_ratio)).
+    pub fn periodic_ratio(&self) -> Option<(i128, i128)> {
+        self.rate
+            .periodic_ratio(self.frequency, self.compounding.unwrap_or(self.frequency))
     }
 
     /// The yearly step as applied: with the flow's sign.
@@ -1302,6 +1313,7 @@ pub fn plan(terms: &SavingsTerms) -> Result<SavingsPlan> {
     let x0 = terms.opening_balance;
     let shape = FlowShape {
         a,
+        exact_rate: terms.periodic_ratio(),
         periods_per_year: frequency.per_year(),
         timing: terms.timing,
         pattern: terms.pattern(),
@@ -1712,6 +1724,7 @@ mod tests {
     fn shape(i: &str, m: u32, timing: Timing, pattern: Pattern) -> FlowShape {
         FlowShape {
             a: Decimal::ONE + d(i),
+            exact_rate: None,
             periods_per_year: m,
             timing,
             pattern,
@@ -1731,6 +1744,25 @@ mod tests {
             question,
             start_date: None,
         }
+    }
+
+    #[test]
+    fn an_exact_half_cent_of_interest_rounds_up() {
+        // 300 a month at 4 %: after 21 deposits the balance is 6514.50 and its
+        // interest 6514.50 × 0.04/12 = 21.715 exactly (by hand), a tie that
+        // rounds up to 21.72; 0.04/12 itself has no finite decimal, so the
+        // posting multiplies by the ratio 1/300, not by its 28-digit decimal.
+        let t = terms(
+            "4",
+            Question::FinalBalance {
+                flow: Flow::Deposit(d("300")),
+                periods: 120,
+            },
+        );
+        let p = plan(&t).unwrap();
+        assert_eq!(p.ledger.rows[20].balance, d("6514.50"));
+        assert_eq!(d("6514.50") * d("0.04") / d("12"), d("21.715"));
+        assert_eq!(p.ledger.rows[21].interest, d("21.72"));
     }
 
     #[test]

@@ -135,6 +135,15 @@ impl LoanTerms {
             )
             .map_err(|e| e.at("annual_rate_percent"))
     }
+
+    /// [`Self::periodic_rate`] as the exact ratio it rounds, when it is one
+    /// ([`AnnualRate::periodic_ratio`](super::rate::AnnualRate::periodic_ratio)).
+    pub fn periodic_ratio(&self) -> Option<(i128, i128)> {
+        self.rate.periodic_ratio(
+            self.payment_frequency,
+            self.compounding.unwrap_or(self.payment_frequency),
+        )
+    }
 }
 
 fn too_many_decimals(currency: Currency) -> String {
@@ -249,7 +258,19 @@ fn schedule_inner(
                 n: amortizing,
                 principal_response: h,
                 payment_response: u,
-                exact_payment: payment_for_term(start, i_start, amortizing)?,
+                exact_payment: match terms.periodic_ratio() {
+                    // One payment: start·(1 + i) from the exact ratio i rounds,
+                    // a terminating decimal whenever it is a tie.
+                    Some((num, den)) if amortizing == 1 && i_start == i => {
+                        Decimal::try_from_i128_with_scale(num, 0)
+                            .ok()
+                            .zip(Decimal::try_from_i128_with_scale(den, 0).ok())
+                            .and_then(|(num, den)| start.checked_mul(num)?.checked_div(den))
+                            .and_then(|v| v.checked_add(start))
+                            .map_or_else(|| payment_for_term(start, i_start, amortizing), Ok)?
+                    }
+                    _ => payment_for_term(start, i_start, amortizing)?,
+                },
                 unit,
             })
         }

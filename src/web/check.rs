@@ -7,7 +7,7 @@ use axum::response::Response;
 
 use super::form::{normalize, query_string, Form};
 use super::view::{group_thousands as g, Figure};
-use super::{render, Layout};
+use super::{render_form, Layout};
 use crate::api::check::{check_answer, CheckAnswer};
 use crate::api::fields::{Fields, Source};
 use crate::api::handlers::query_pairs;
@@ -353,5 +353,6 @@ pub fn build(q: Option<&str>) -> CheckPage {
 
 /// `GET /check?…`
 pub async fn page(RawQuery(q): RawQuery) -> Response {
-    render(&build(q.as_deref()))
+    let page = build(q.as_deref());
+    render_form(&page, page.form.status)
 }

@@ -7,7 +7,7 @@ use axum::response::Response;
 use super::charts::balance_chart;
 use super::form::{normalize, query_string, Form};
 use super::loan::{balance_series, LOAN_FORM};
-use super::{render, Layout};
+use super::{render_form, Layout};
 use crate::api::compare::{from_query_with, CompareDto};
 use crate::api::handlers::query_pairs;
 use crate::api::problem::ApiError;
@@ -96,13 +96,16 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CompareResult, ApiError> {
                     .clone()
                     .unwrap_or_else(|| format!("with payment {}", r.number_of_payments)),
                 interest_saved: super::view::group_thousands(&r.interest_saved),
-                payments_saved: super::view::group_thousands(&r.payments_saved.to_string()),
+                payments_saved: r.payments_saved.map_or_else(
+                    || "not counted (another frequency)".to_string(),
+                    |v| super::view::group_thousands(&v.to_string()),
+                ),
                 loan_url: format!("/loan?{}", query_string(&p)),
                 raw_payment: cur.format(s.payment),
                 raw_total_interest: cur.format(s.ledger.total_interest),
                 raw_total_paid: r.total_paid.clone(),
                 raw_interest_saved: r.interest_saved.clone(),
-                raw_payments_saved: r.payments_saved.to_string(),
+                raw_payments_saved: r.payments_saved.map_or(String::new(), |v| v.to_string()),
             }
         })
         .collect();
@@ -185,5 +188,6 @@ pub fn build(q: Option<&str>) -> ComparePage {
 
 /// `GET /compare?…`
 pub async fn page(RawQuery(q): RawQuery) -> Response {
-    render(&build(q.as_deref()))
+    let page = build(q.as_deref());
+    render_form(&page, page.form.status)
 }

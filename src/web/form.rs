@@ -216,6 +216,9 @@ pub struct Form {
     pub general_errors: Vec<String>,
     /// Every error, for the summary at the top of the form: (field id or "", words).
     pub summary: Vec<(String, String)>,
+    /// The page's HTTP status: 200, or the problem's (400 for a query that cannot
+    /// be read, 422 for fields that are invalid or terms with no solution).
+    pub status: axum::http::StatusCode,
 }
 
 impl Form {
@@ -310,6 +313,7 @@ impl Form {
             groups,
             general_errors,
             summary,
+            status: problem.map_or(axum::http::StatusCode::OK, |p| p.kind.status()),
         }
     }
 }

@@ -9,7 +9,7 @@ use super::charts::{balance_chart, stacked_bars, Bar, Series};
 use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
 use super::view::{money, percent, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS};
-use super::{render, Layout};
+use super::{render_form, Layout};
 use crate::api::fields::{Fields, Source};
 use crate::api::handlers::query_pairs;
 use crate::api::loans::schedule_request_from;
@@ -577,5 +577,6 @@ pub fn build(q: Option<&str>) -> LoanPage {
 
 /// `GET /loan?…`
 pub async fn page(RawQuery(q): RawQuery) -> Response {
-    render(&build(q.as_deref()))
+    let page = build(q.as_deref());
+    render_form(&page, page.form.status)
 }

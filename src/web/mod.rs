@@ -94,6 +94,16 @@ pub fn render<T: Template>(page: &T) -> Response {
     }
 }
 
+/// Renders a form page with its form's status: the page itself (the form
+/// with each error next to its field) answers a bad query with 400 or 422.
+pub fn render_form<T: Template>(page: &T, status: axum::http::StatusCode) -> Response {
+    let mut response = render(page);
+    if response.status() == axum::http::StatusCode::OK {
+        *response.status_mut() = status;
+    }
+    response
+}
+
 async fn stylesheet() -> Response {
     (
         [

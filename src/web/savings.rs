@@ -11,7 +11,7 @@ use super::mathml::{self, Step};
 use super::view::{
     group_thousands as g, money, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS,
 };
-use super::{render, Layout};
+use super::{render_form, Layout};
 use crate::api::fields::{Fields, Source};
 use crate::api::handlers::query_pairs;
 use crate::api::problem::ApiError;
@@ -357,5 +357,6 @@ pub fn build(q: Option<&str>) -> SavingsPage {
 
 /// `GET /savings?…`
 pub async fn page(RawQuery(q): RawQuery) -> Response {
-    render(&build(q.as_deref()))
+    let page = build(q.as_deref());
+    render_form(&page, page.form.status)
 }

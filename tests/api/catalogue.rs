@@ -327,6 +327,10 @@ fn cases() -> Vec<Case> {
         c("page /loan: 1e400", get("/loan?principal=1e400&annual_rate_percent=6&term_months=120"), Want::Page(Some("principal"))),
         c("page /loan: a term of 6001", get("/loan?principal=100000&annual_rate_percent=6&term_months=6001"), Want::Page(Some("term_months"))),
         c("page /loan: 2027-02-30", get("/loan?principal=100000&annual_rate_percent=6&term_months=12&first_payment_date=2027-02-30"), Want::Page(Some("first_payment_date"))),
+        c("page /loan: a decimal comma in the rate (not 65 %)", get("/loan?principal=250000&annual_rate_percent=6,5&term_months=12"), Want::Page(Some("annual_rate_percent"))),
+        c("page /loan: a comma that groups no thousands", get("/loan?principal=1,5&annual_rate_percent=6&term_months=12"), Want::Page(Some("principal"))),
+        c("page /savings: a decimal comma in the rate", get("/savings?deposit=350&annual_rate_percent=4,25&term_months=96"), Want::Page(Some("annual_rate_percent"))),
+        c("page /check: a decimal comma in the quoted APR", get("/check?principal=100000&annual_rate_percent=6&term_months=360&quoted_apr_percent=6,17"), Want::Page(Some("quoted_apr_percent"))),
         c("page /loan: a repeated field", get("/loan?principal=1&principal=2&annual_rate_percent=6&term_months=12"), Want::Page(Some("principal"))),
         c("page /loan: bad percent-encoding", get("/loan?principal=%FF"), Want::Page(None)),
         c("page /loan: a 100 KB value", get(format!("/loan?principal={}&annual_rate_percent=6&term_months=12", "9".repeat(100 * 1024))), Want::Status(414)),
@@ -438,6 +442,13 @@ fn check(case: &Case, r: &Response) -> Result<(), String> {
         Want::Page(field) => {
             if r.media_type() != "text/html" {
                 return Err(format!("a page is HTML, got {:?}", r.media_type()));
+            }
+            // The form page itself answers, with the problem's status.
+            if !(400..500).contains(&r.status) {
+                return Err(format!(
+                    "a page refusing its query answers 4xx, got {}",
+                    r.status
+                ));
             }
             if let Some(f) = field {
                 let marker = format!("id=\"e-{f}\"");

@@ -1753,3 +1753,94 @@ fn an_extra_payment_on_a_date_without_a_first_payment_date_is_refused() {
     assert_invalid(&app, &posted, "/extra_payments/0/at");
     assert_invalid(&app, &got, "extra_payments");
 }
+
+#[test]
+fn a_compare_csv_label_that_reads_as_a_formula_is_neutralized() {
+    // Arrange: labels a spreadsheet would evaluate on import (the OWASP advice on
+    // CSV injection: a leading =, +, -, @ is made text with a leading ').
+    let app = spawn_app();
+    let body = json!({
+        "base": {"principal": "1000", "annual_rate_percent": "6", "term_months": 12,
+                 "label": "=HYPERLINK(\"http://example.invalid\")"},
+        "variants": [{"label": "@SUM(A1)", "term_months": 6}, {"label": "-1+2", "term_months": 9}]
+    });
+
+    // Act
+    let r = app.request(
+        "POST",
+        COMPARE,
+        &[("Content-Type", "application/json"), ("Accept", "text/csv")],
+        Some(&serde_json::to_vec(&body).unwrap()),
+    );
+
+    // Assert
+    assert_eq!(r.status, 200, "{}", r.text());
+    let lines: Vec<&str> = r.text().split("\r\n").collect();
+    assert!(
+        lines[1].starts_with("\"'=HYPERLINK(\"\"http://example.invalid\"\")\","),
+        "{}",
+        lines[1]
+    );
+    assert!(lines[2].starts_with("'@SUM(A1),"), "{}", lines[2]);
+    assert!(lines[3].starts_with("'-1+2,"), "{}", lines[3]);
+    // The JSON keeps the labels as given.
+    let json = app.post_json(COMPARE, &body).json();
+    assert_eq!(json["rows"][1]["label"], "@SUM(A1)");
+}
+
+#[test]
+fn a_compare_across_currencies_is_refused_at_the_variants_currency() {
+    let app = spawn_app();
+    let body = json!({
+        "base": {"principal": "250000", "annual_rate_percent": "6", "term_months": 360},
+        "variants": [{"currency": "JPY"}]
+    });
+    let r = app.post_json(COMPARE, &body);
+    assert_field_problem(&r, 422, "invalid-fields", "/variants/0/currency");
+    let r = app.get(&format!(
+        "{COMPARE}?principal=250000&annual_rate_percent=6&term_months=360&currency=USD,JPY"
+    ));
+    assert_field_problem(&r, 422, "invalid-fields", "currency");
+}
+
+#[test]
+fn payments_saved_is_left_empty_for_a_plan_paid_at_another_frequency() {
+    // A biweekly plan has 780 scheduled payments against the monthly base's 360;
+    // their difference counts unlike payments, so it is not given (null, an empty
+    // CSV cell); the interest saved still is.
+    let app = spawn_app();
+    let body = json!({
+        "base": {"principal": "278000", "annual_rate_percent": "6.375", "term_months": 360},
+        "variants": [{"label": "biweekly", "payment_frequency": "biweekly"}, {"label": "25 years", "term_months": 300}]
+    });
+    let r = app.post_json(COMPARE, &body);
+    assert_eq!(r.status, 200, "{}", r.text());
+    let c = r.json();
+    assert_eq!(c["rows"][1]["payments_saved"], Value::Null, "{c}");
+    assert!(
+        dec_of(&c["rows"][1]["interest_saved"]) > Decimal::ZERO,
+        "{c}"
+    );
+    assert_eq!(c["rows"][2]["payments_saved"], 60, "{c}");
+    assert!(
+        c["notes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|n| n.as_str().unwrap().contains("another frequency")),
+        "{c}"
+    );
+    let csv = app.request(
+        "POST",
+        COMPARE,
+        &[("Content-Type", "application/json"), ("Accept", "text/csv")],
+        Some(&serde_json::to_vec(&body).unwrap()),
+    );
+    let lines: Vec<&str> = csv.text().split("\r\n").collect();
+    assert!(
+        lines[2].starts_with("biweekly,") && lines[2].ends_with(','),
+        "{}",
+        lines[2]
+    );
+    assert!(lines[3].ends_with(",60"), "{}", lines[3]);
+}
