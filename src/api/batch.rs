@@ -21,7 +21,6 @@ use std::collections::VecDeque;
 
 use futures_util::{FutureExt, StreamExt};
 use serde::Serialize;
-use serde_json::Value;
 
 use super::fields::{Fields, Source};
 use super::json::{self, Json};
@@ -125,21 +124,42 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
 
 const JOBS: [&str; 5] = ["loan_schedule", "loan_check", "apr", "apy", "savings_plan"];
 
-fn json_to_value(j: &Json) -> Value {
+/// Writes `j` as JSON with each number as its own text, so an id is echoed
+/// exactly as it was sent (20 digits, 1e400 and all).
+fn write_json(out: &mut Vec<u8>, j: &Json) {
     match j {
-        Json::Null => Value::Null,
-        Json::Bool(b) => Value::Bool(*b),
-        Json::Number(n) => n
-            .parse::<serde_json::Number>()
-            .map(Value::Number)
-            .unwrap_or_else(|_| Value::String(n.clone())),
-        Json::String(s) => Value::String(s.clone()),
-        Json::Array(a) => Value::Array(a.iter().map(json_to_value).collect()),
-        Json::Object(m) => Value::Object(
-            m.iter()
-                .map(|(k, v)| (k.clone(), json_to_value(v)))
-                .collect(),
-        ),
+        Json::Null => out.extend_from_slice(b"null"),
+        Json::Bool(b) => out.extend_from_slice(if *b { b"true" } else { b"false" }),
+        Json::Number(n) => out.extend_from_slice(n.as_bytes()),
+        Json::String(s) => write_string(out, s),
+        Json::Array(items) => {
+            out.push(b'[');
+            for (i, item) in items.iter().enumerate() {
+                if i > 0 {
+                    out.push(b',');
+                }
+                write_json(out, item);
+            }
+            out.push(b']');
+        }
+        Json::Object(members) => {
+            out.push(b'{');
+            for (i, (k, v)) in members.iter().enumerate() {
+                if i > 0 {
+                    out.push(b',');
+                }
+                write_string(out, k);
+                out.push(b':');
+                write_json(out, v);
+            }
+            out.push(b'}');
+        }
+    }
+}
+
+fn write_string(out: &mut Vec<u8>, s: &str) {
+    if super::emit::to_writer(out, s).is_err() {
+        out.extend_from_slice(b"null");
     }
 }
 
@@ -218,6 +238,20 @@ pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
 /// [`answer_line`], appended to `bytes`.
 pub fn answer_line_into(bytes: &mut Vec<u8>, line: &[u8], number: usize) {
     bytes.extend_from_slice(b"{\"id\":");
+    // A whole line longer than the limit, read in one piece, fails alone
+    // (a longer line still arriving ends the batch: it is not buffered).
+    if line.len() > MAX_LINE_BYTES {
+        bytes.extend_from_slice(b"null,\"ok\":false,\"problem\":");
+        let p = ApiError::new(
+            ProblemKind::TooLarge,
+            format!("line {number} is longer than {MAX_LINE_BYTES} bytes"),
+        );
+        if super::emit::to_writer(bytes, &p.problem()).is_err() {
+            bytes.extend_from_slice(b"{}");
+        }
+        bytes.extend_from_slice(b"}\n");
+        return;
+    }
     let outcome = match json::parse(line) {
         Err(e) => {
             bytes.extend_from_slice(b"null");
@@ -227,9 +261,9 @@ pub fn answer_line_into(bytes: &mut Vec<u8>, line: &[u8], number: usize) {
             ))
         }
         Ok(v) => {
-            let id = v.get("id").map_or(Value::Null, json_to_value);
-            if super::emit::to_writer(bytes, &id).is_err() {
-                bytes.extend_from_slice(b"null");
+            match v.get("id") {
+                Some(id) => write_json(bytes, id),
+                None => bytes.extend_from_slice(b"null"),
             }
             let after_id = bytes.len();
             bytes.extend_from_slice(b",\"ok\":true,\"result\":");
@@ -257,6 +291,12 @@ fn answer_parsed(v: &Json, out: &mut Vec<u8>) -> Result<(), ApiError> {
         }]));
     };
     let mut errors = Vec::new();
+    if v.get("id").is_none() {
+        errors.push(FieldError {
+            pointer: "/id".into(),
+            message: "is required: any JSON value, echoed in the line's answer".into(),
+        });
+    }
     for (k, _) in m {
         if !["id", "job", "request", "detail"].contains(&k.as_str()) {
             errors.push(FieldError {

@@ -555,6 +555,23 @@ enum ExtraAt {
     },
 }
 
+/// The most extra payments, and the most rate changes, a request may hold (in
+/// a JSON array or a query list alike).
+pub const MAX_LIST_ITEMS: usize = 120;
+
+/// True when a query list of `len` items is within [`MAX_LIST_ITEMS`]; else
+/// records the error on `name` and answers false.
+fn within_list_limit(f: &mut Fields<'_>, name: &'static str, len: usize, what: &str) -> bool {
+    if len <= MAX_LIST_ITEMS {
+        return true;
+    }
+    f.error(
+        name,
+        format!("may hold at most {MAX_LIST_ITEMS} {what}, not {len}"),
+    );
+    false
+}
+
 /// Reads the compact query form of one extra payment:
 /// `AMOUNT@FROM-TO` (every payment from FROM to TO), `AMOUNT@FROM-` (to the end),
 /// `AMOUNT@FROM-TO/EVERY`, `AMOUNT@AT` (once, with payment AT) or `AMOUNT@YYYY-MM-DD`
@@ -573,14 +590,23 @@ fn parse_extra_item(item: &str) -> Result<(Decimal, ExtraWhen), String> {
             r,
             Some(
                 e.parse::<u32>()
-                    .map_err(|_| "EVERY must be a whole number")?,
+                    .ok()
+                    .filter(|e| *e <= MAX_PAYMENTS)
+                    .ok_or(format!(
+                        "EVERY must be a whole number from 0 to {MAX_PAYMENTS}"
+                    ))?,
             ),
         ),
         None => (when, None),
     };
+    // The same range as a JSON body's payment numbers.
     let number = |s: &str| {
         s.parse::<u32>()
-            .map_err(|_| format!("\"{s}\" is not a payment number"))
+            .ok()
+            .filter(|n| *n <= MAX_PAYMENTS)
+            .ok_or(format!(
+                "\"{s}\" is not a payment number from 0 to {MAX_PAYMENTS}"
+            ))
     };
     match range.split_once('-') {
         Some((from, "")) => Ok((
@@ -684,7 +710,10 @@ pub fn read_plan_options(
     // Extra payments.
     let mut pending: Vec<ExtraAt> = Vec::new();
     if f.is_query() {
-        if let Some(items) = f.query_list("extra_payments") {
+        if let Some(items) = f
+            .query_list("extra_payments")
+            .filter(|items| within_list_limit(f, "extra_payments", items.len(), "extra payments"))
+        {
             for item in items {
                 match parse_extra_item(item) {
                     Ok((amount, ExtraWhen::Range { from, to, every })) => {
@@ -712,7 +741,7 @@ pub fn read_plan_options(
         }
     } else if let Some(raw) = f.raw("extra_payments") {
         match raw {
-            Raw::Json(Json::Array(items)) if items.len() <= 120 => {
+            Raw::Json(Json::Array(items)) if items.len() <= MAX_LIST_ITEMS => {
                 for (index, item) in items.iter().enumerate() {
                     let pointer = format!("{pointer_base}extra_payments/{index}");
                     let Json::Object(m) = item else {
@@ -781,9 +810,10 @@ pub fn read_plan_options(
                     }
                 }
             }
-            Raw::Json(Json::Array(_)) => {
-                f.error("extra_payments", "may hold at most 120 extra payments")
-            }
+            Raw::Json(Json::Array(_)) => f.error(
+                "extra_payments",
+                format!("may hold at most {MAX_LIST_ITEMS} extra payments"),
+            ),
             Raw::Json(other) => f.error(
                 "extra_payments",
                 format!("must be an array, not {}", other.kind()),
@@ -826,10 +856,17 @@ pub fn read_plan_options(
     }
     // Rate changes.
     if f.is_query() {
-        if let Some(items) = f.query_list("rate_changes") {
+        if let Some(items) = f
+            .query_list("rate_changes")
+            .filter(|items| within_list_limit(f, "rate_changes", items.len(), "rate changes"))
+        {
             for item in items {
                 let parsed = item.split_once(':').and_then(|(at, rate)| {
-                    let at = at.trim().parse::<u32>().ok()?;
+                    let at = at
+                        .trim()
+                        .parse::<u32>()
+                        .ok()
+                        .filter(|at| *at <= MAX_PAYMENTS)?;
                     let rate = super::fields::parse_decimal(rate.trim(), false).ok()?;
                     Some((at, rate))
                 });
@@ -848,7 +885,7 @@ pub fn read_plan_options(
         }
     } else if let Some(raw) = f.raw("rate_changes") {
         match raw {
-            Raw::Json(Json::Array(items)) if items.len() <= 120 => {
+            Raw::Json(Json::Array(items)) if items.len() <= MAX_LIST_ITEMS => {
                 for (index, item) in items.iter().enumerate() {
                     let pointer = format!("{pointer_base}rate_changes/{index}");
                     let Json::Object(m) = item else {
@@ -895,7 +932,7 @@ pub fn read_plan_options(
             Raw::Json(other) => f.error(
                 "rate_changes",
                 format!(
-                    "must be an array of at most 120 rate changes, not {}",
+                    "must be an array of at most {MAX_LIST_ITEMS} rate changes, not {}",
                     other.kind()
                 ),
             ),

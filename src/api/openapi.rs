@@ -440,9 +440,10 @@ pub mod request {
     /// One line of a batch (`application/x-ndjson`, up to 100,000 lines).
     #[derive(ToSchema)]
     pub struct BatchLine {
-        /// Any JSON value; echoed in the answer line.
+        /// Any JSON value (null too); required; echoed exactly as sent in the
+        /// answer line (a number keeps its own digits).
         #[schema(value_type = Value)]
-        pub id: Option<serde_json::Value>,
+        pub id: serde_json::Value,
         pub job: BatchJob,
         /// The job's request: the body its own operation takes.
         #[schema(value_type = Object)]

@@ -159,3 +159,45 @@ fn each_line_is_answered_before_the_client_sends_the_next() {
     seen.extend_from_slice(&rest);
     assert!(String::from_utf8_lossy(&seen).contains("{\"id\":3,\"ok\":true"));
 }
+
+#[test]
+fn ids_are_required_and_echoed_exactly_and_a_whole_long_line_fails_alone() {
+    // Arrange: an id beyond 64 bits and one beyond binary floating point must
+    // come back as sent (compared as text: a JSON reader would round them);
+    // a line without an id fails alone; a 70 KB line sent whole fails alone.
+    let app = spawn_app();
+    let request = r#""job":"apy","request":{"principal":"1000","interest":"61.68","days":365}"#;
+    let long = format!(
+        r#"{{"id":4,"job":"apy","request":{{"principal":"1000","interest":"61.68","days":365}},"detail":"summary"{}}}"#,
+        " ".repeat(70 * 1024)
+    );
+    let body = [
+        format!(r#"{{"id":123456789012345678901234567890,{request}}}"#),
+        format!(r#"{{"id":1e400,{request}}}"#),
+        format!(r#"{{{request}}}"#),
+        long,
+        format!(r#"{{"id":[1,"x"],{request}}}"#),
+    ]
+    .join("\n");
+    // Act
+    let r = app.post("/api/v1/batch", "application/x-ndjson", body.as_bytes());
+    // Assert
+    assert_eq!(r.status, 200);
+    let raw: Vec<&str> = r.text().lines().collect();
+    assert_eq!(raw.len(), 5, "{}", r.text());
+    assert!(
+        raw[0].starts_with(r#"{"id":123456789012345678901234567890,"ok":true"#),
+        "{}",
+        raw[0]
+    );
+    assert!(raw[1].starts_with(r#"{"id":1e400,"ok":true"#), "{}", raw[1]);
+    // (1e400 is valid JSON that serde_json refuses to read: the rest only.)
+    let out = lines(&raw[2..].join("\n"));
+    assert_eq!(out[0]["ok"], false);
+    assert_eq!(out[0]["problem"]["errors"][0]["pointer"], "/id");
+    assert_eq!(out[1]["ok"], false);
+    assert_eq!(out[1]["problem"]["type"], "/api#problem-too-large");
+    assert_eq!(out[2]["id"], json!([1, "x"]));
+    assert_eq!(out[2]["ok"], true);
+    assert_still_healthy(&app);
+}
