@@ -75,7 +75,7 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
         "loan_schedule" => {
             let r = super::loans::schedule_request_from(fields(members(request)?))?;
             let s = crate::engine::schedule::schedule_with(&r.terms, &r.options)
-                .map_err(|e| ApiError::from_engine(e, "/"))?;
+                .map_err(|e| r.problem(e, "/"))?;
             if detail == Detail::Summary {
                 let dto = super::loans::LoanScheduleDto::build(&s, false);
                 write(

@@ -496,6 +496,8 @@ pub fn check_answer(f: Fields<'_>) -> Result<CheckAnswer, ApiError> {
 /// As [`check_answer`].
 pub fn check_answer_with(f: Fields<'_>, with_rounding: bool) -> Result<CheckAnswer, ApiError> {
     let prefix = f.pointer("");
+    let mut f = f;
+    let term_in_months = f.has("term_months");
     let req = read_check(f)?;
     let c = check_loan_with(
         &req.terms,
@@ -504,7 +506,7 @@ pub fn check_answer_with(f: Fields<'_>, with_rounding: bool) -> Result<CheckAnsw
         &req.quotes,
         req.mortgage,
     )
-    .map_err(|e| ApiError::from_engine(e, &prefix))?;
+    .map_err(|e| super::loans::engine_problem(e, &prefix, term_in_months))?;
     Ok(CheckAnswer::from_check(c, with_rounding))
 }
 

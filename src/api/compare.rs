@@ -65,8 +65,8 @@ fn compute(requests: Vec<(ScheduleRequest, String)>) -> Result<Comparison, ApiEr
     }
     let mut plans = Vec::with_capacity(requests.len());
     for (index, (r, pointer)) in requests.into_iter().enumerate() {
-        let s = schedule_for_comparison(&r.terms, &r.options)
-            .map_err(|e| ApiError::from_engine(e, &pointer))?;
+        let s =
+            schedule_for_comparison(&r.terms, &r.options).map_err(|e| r.problem(e, &pointer))?;
         let label = r.label.unwrap_or_else(|| {
             if index == 0 {
                 "base".into()

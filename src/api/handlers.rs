@@ -210,7 +210,7 @@ async fn loan_answer(
     let short = short_schedule(&request.terms, &request.options);
     offload(short, held, move || {
         let s = schedule_with(&request.terms, &request.options)
-            .map_err(|e| ApiError::from_engine(e, &prefix))?;
+            .map_err(|e| request.problem(e, &prefix))?;
         Ok(if csv {
             csv_answer(schedule_csv(&s), "schedule.csv")
         } else {

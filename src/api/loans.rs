@@ -947,6 +947,29 @@ pub struct ScheduleRequest {
     pub terms: LoanTerms,
     pub options: PlanOptions,
     pub label: Option<String>,
+    /// The term was given as `term_months` (the engine counts payments).
+    pub term_in_months: bool,
+}
+
+impl ScheduleRequest {
+    /// The problem for an engine error on this request, its pointer prefixed
+    /// (see [`engine_problem`]).
+    pub fn problem(&self, e: crate::engine::EngineError, prefix: &str) -> ApiError {
+        engine_problem(e, prefix, self.term_in_months)
+    }
+}
+
+/// [`ApiError::from_engine`], naming the term as it was given: the engine
+/// speaks of `term_payments`, which is `term_months` when that was sent.
+pub fn engine_problem(
+    mut e: crate::engine::EngineError,
+    prefix: &str,
+    term_in_months: bool,
+) -> ApiError {
+    if term_in_months && e.field == Some("term_payments") {
+        e.field = Some("term_months");
+    }
+    ApiError::from_engine(e, prefix)
 }
 
 /// Reads a whole schedule request (loan terms and plan options), reporting every bad field.
@@ -954,6 +977,7 @@ pub struct ScheduleRequest {
 /// # Errors
 /// The problem to answer.
 pub fn schedule_request_from(mut f: Fields<'_>) -> Result<ScheduleRequest, ApiError> {
+    let term_in_months = f.has("term_months");
     let terms = read_loan_terms(&mut f);
     let (currency, frequency) = terms
         .as_ref()
@@ -971,6 +995,7 @@ pub fn schedule_request_from(mut f: Fields<'_>) -> Result<ScheduleRequest, ApiEr
             terms,
             options,
             label,
+            term_in_months,
         }),
         _ => Err(ApiError::fields(errors)),
     }

@@ -240,13 +240,24 @@ impl Tally {
     }
 }
 
-fn never_falls(k: u32) -> EngineError {
-    EngineError::no_solution(
-        Some("payment"),
-        format!(
-            "at payment {k} the payment does not exceed the interest, so the balance never falls"
+/// The payment (given, or solved from the term) does not exceed payment `k`'s
+/// interest: the error names the field that set it.
+fn never_falls(k: u32, terms: &LoanTerms, pay: i128) -> EngineError {
+    match terms.term {
+        LoanTerm::Payment(_) => EngineError::no_solution(
+            Some("payment"),
+            format!(
+                "at payment {k} the payment does not exceed the interest, so the balance never falls"
+            ),
         ),
-    )
+        LoanTerm::Payments(_) => EngineError::no_solution(
+            Some("term_payments"),
+            format!(
+                "over this term the payment would be {}, which does not exceed the interest of payment {k}, so the balance never falls: a shorter term, a larger principal or a lower rate has a solution",
+                terms.currency.format(from_minor(pay, terms.currency.minor_units()))
+            ),
+        ),
+    }
 }
 
 /// A posted plan with its closed-form segments.
@@ -644,7 +655,7 @@ fn post_inner(
             let interest = poster.interest(balance)?;
             let owed = balance + interest;
             if pay <= interest && owed > pay {
-                return Err(never_falls(k));
+                return Err(never_falls(k, terms, pay));
             }
             // The last payment, or one that repays, takes what is owed.
             if owed <= pay || k == limit {
@@ -719,7 +730,7 @@ fn post_inner(
             pay
         };
         if k > o.interest_only_payments && regular <= interest && owed > regular {
-            return Err(never_falls(k));
+            return Err(never_falls(k, terms, pay));
         }
         let (recurring, lump) = if extras.is_empty() {
             (0, 0)
