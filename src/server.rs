@@ -116,6 +116,8 @@ pub fn app(state: AppState) -> Router {
             "/api/v1/savings/plan.csv",
             get(crate::api::savings::plan_get_csv),
         )
+        // The operations above answer only the media types they offer.
+        .layer(middleware::from_fn(negotiate))
         .route("/api/openapi.json", get(crate::api::openapi::openapi_json))
         .merge(web::routes())
         .fallback(not_found)
@@ -134,6 +136,37 @@ pub fn app(state: AppState) -> Router {
         log_and_secure,
     ))
     .with_state(state)
+}
+
+/// Operations that answer a table, as JSON or CSV.
+const TABLES: [&str; 3] = [
+    "/api/v1/loans/schedule",
+    "/api/v1/loans/compare",
+    "/api/v1/savings/plan",
+];
+
+/// 406 (a problem) when the Accept header takes none of the operation's media
+/// types: JSON, CSV too for a table, CSV alone at a `.csv` address.
+async fn negotiate(req: Request, next: Next) -> Response {
+    let path = req.uri().path();
+    let offered: &[&str] = if path.ends_with(".csv") {
+        &["text/csv"]
+    } else if TABLES.contains(&path) {
+        &["application/json", "text/csv"]
+    } else {
+        &["application/json"]
+    };
+    if !handlers::acceptable(req.headers(), offered) {
+        return ApiError::new(
+            ProblemKind::NotAcceptable,
+            format!(
+                "this operation answers {}; the Accept header takes none of them",
+                offered.join(" or ")
+            ),
+        )
+        .into_response();
+    }
+    next.run(req).await
 }
 
 async fn metrics(State(state): State<AppState>) -> Response {

@@ -144,19 +144,70 @@ pub fn csv_answer(body: String, filename: &str) -> Response {
     r
 }
 
-/// True when the client asks for CSV before JSON.
+/// The media ranges of an Accept header with their weights (q; 1 when absent,
+/// 0 when unreadable).
+fn accept_ranges(accept: &str) -> impl Iterator<Item = (&str, f32)> {
+    accept.split(',').filter_map(|item| {
+        let mut parts = item.split(';');
+        let range = parts.next()?.trim();
+        if range.is_empty() {
+            return None;
+        }
+        let q = parts
+            .find_map(|p| p.trim().strip_prefix("q="))
+            .map_or(1.0, |v| v.trim().parse::<f32>().unwrap_or(0.0));
+        Some((range, q))
+    })
+}
+
+/// True when the media range `range` (`*/*`, `text/*`, `text/csv`) takes `media`.
+fn range_takes(range: &str, media: &str) -> bool {
+    range == "*/*"
+        || range.eq_ignore_ascii_case(media)
+        || range.strip_suffix("/*").is_some_and(|kind| {
+            media
+                .split('/')
+                .next()
+                .is_some_and(|m| m.eq_ignore_ascii_case(kind))
+        })
+}
+
+/// True when the client asks for CSV over JSON: `text/csv` named with a
+/// higher weight than `application/json`, or the same weight and first; or
+/// neither named and only CSV taken (`text/*`).
 pub fn wants_csv(headers: &HeaderMap) -> bool {
-    let accept = headers
-        .get(header::ACCEPT)
-        .and_then(|v| v.to_str().ok())
-        .unwrap_or("");
-    let csv = accept.find("text/csv");
-    let json = accept.find("application/json");
-    match (csv, json) {
-        (Some(c), Some(j)) => c < j,
-        (Some(_), None) => true,
-        _ => false,
+    let Some(accept) = headers.get(header::ACCEPT).and_then(|v| v.to_str().ok()) else {
+        return false;
+    };
+    let (mut csv, mut json) = (None, None);
+    for (i, (range, q)) in accept_ranges(accept).enumerate() {
+        if csv.is_none() && range.eq_ignore_ascii_case("text/csv") {
+            csv = Some((q, i));
+        } else if json.is_none() && range.eq_ignore_ascii_case("application/json") {
+            json = Some((q, i));
+        }
     }
+    match (csv, json) {
+        (Some((qc, ic)), Some((qj, ij))) => qc > 0.0 && (qc > qj || (qc == qj && ic < ij)),
+        (Some((qc, _)), None) => qc > 0.0,
+        (None, Some(_)) => false,
+        // Neither named: CSV when only a wildcard for it (text/*) is there.
+        (None, None) => {
+            acceptable(headers, &["text/csv"]) && !acceptable(headers, &["application/json"])
+        }
+    }
+}
+
+/// True when the Accept header (absent or empty: anything) takes one of
+/// `offered` with a weight above 0.
+pub fn acceptable(headers: &HeaderMap, offered: &[&str]) -> bool {
+    let Some(accept) = headers.get(header::ACCEPT) else {
+        return true;
+    };
+    let accept = String::from_utf8_lossy(accept.as_bytes());
+    accept.trim().is_empty()
+        || accept_ranges(&accept)
+            .any(|(range, q)| q > 0.0 && offered.iter().any(|m| range_takes(range, m)))
 }
 
 /// The most payments a schedule may have to be computed on the runtime's own

@@ -671,3 +671,38 @@ fn extreme_but_valid_terms_are_answered_without_a_server_error() {
     }
     assert_still_healthy(&app);
 }
+
+#[test]
+fn an_accept_header_taking_none_of_the_media_types_gets_406() {
+    // RFC 9110 §12.5.1: the media ranges with their weights; q=0 is "not acceptable".
+    let app = spawn_app();
+    let schedule = "/api/v1/loans/schedule?principal=1000&annual_rate_percent=6&term_months=12";
+    let apy = "/api/v1/apy?principal=1000&interest=61.68&days=365";
+    for (path, accept, want) in [
+        (schedule, "image/png", "406"),
+        (schedule, "application/json;q=0", "406"),
+        (apy, "text/csv", "406"),
+        (
+            "/api/v1/loans/schedule.csv?principal=1000&annual_rate_percent=6&term_months=12",
+            "application/json",
+            "406",
+        ),
+        (
+            schedule,
+            "text/csv;q=0, application/json",
+            "application/json",
+        ),
+        (schedule, "application/json;q=0.5, text/csv", "text/csv"),
+        (schedule, "text/*", "text/csv"),
+        (schedule, "*/*", "application/json"),
+        (apy, "application/*;q=0.2", "application/json"),
+    ] {
+        let r = app.get_with(path, &[("Accept", accept)]);
+        if want == "406" {
+            assert_problem(&r, 406, "not-acceptable");
+        } else {
+            assert_eq!(r.status, 200, "{path} {accept}: {}", r.text());
+            assert_eq!(r.media_type(), want, "{path} {accept}");
+        }
+    }
+}
