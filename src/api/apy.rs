@@ -226,7 +226,7 @@ fn rounded(r: &ApyResult) -> String {
 /// # Errors
 /// The engine's refusal (a zero balance, days out of range, an overflow), pointed at its field.
 pub fn answer(req: &ApyRequest, prefix: &str) -> Result<ApyAnswer, ApiError> {
-    let err = |e| ApiError::from_engine(e, prefix);
+    let err = |e| ApiError::from_engine(e, prefix).naming(prefix, &["interest", "days"]);
     let mut notes = vec![CAUTION.to_string()];
     let (form, result, formula) = match *req {
         ApyRequest::General {
@@ -266,7 +266,7 @@ pub fn answer(req: &ApyRequest, prefix: &str) -> Result<ApyAnswer, ApiError> {
                 } else {
                     e
                 };
-                ApiError::from_engine(e, prefix)
+                ApiError::from_engine(e, prefix).naming(prefix, &["annual_rate_percent"])
             })?;
             notes.push(format!(
                 "A 365-day year: interest compounded {} is compounded {m} times a year.",

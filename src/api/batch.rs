@@ -103,8 +103,8 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
         ),
         "savings_plan" => {
             let terms = super::savings::savings_terms_from(fields(members(request)?))?;
-            let p =
-                crate::engine::savings::plan(&terms).map_err(|e| ApiError::from_engine(e, "/"))?;
+            let p = crate::engine::savings::plan(&terms)
+                .map_err(|e| super::savings::overflow_named(ApiError::from_engine(e, "/"), "/"))?;
             let dto = super::savings::SavingsPlanDto::from_plan(&p);
             if detail == Detail::Summary {
                 write(

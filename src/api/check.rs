@@ -506,7 +506,19 @@ pub fn check_answer_with(f: Fields<'_>, with_rounding: bool) -> Result<CheckAnsw
         &req.quotes,
         req.mortgage,
     )
-    .map_err(|e| super::loans::engine_problem(e, &prefix, term_in_months))?;
+    .map_err(|e| {
+        super::loans::engine_problem(e, &prefix, term_in_months).naming(
+            &prefix,
+            &[
+                "annual_rate_percent",
+                if term_in_months {
+                    "term_months"
+                } else {
+                    "term_payments"
+                },
+            ],
+        )
+    })?;
     Ok(CheckAnswer::from_check(c, with_rounding))
 }
 

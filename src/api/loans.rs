@@ -955,7 +955,13 @@ impl ScheduleRequest {
     /// The problem for an engine error on this request, its pointer prefixed
     /// (see [`engine_problem`]).
     pub fn problem(&self, e: crate::engine::EngineError, prefix: &str) -> ApiError {
+        let term = match self.terms.term {
+            LoanTerm::Payment(_) => "payment",
+            LoanTerm::Payments(_) if self.term_in_months => "term_months",
+            LoanTerm::Payments(_) => "term_payments",
+        };
         engine_problem(e, prefix, self.term_in_months)
+            .naming(prefix, &["annual_rate_percent", term])
     }
 }
 

@@ -177,6 +177,26 @@ impl ApiError {
         }
     }
 
+    /// An overflow that names no field is put on `fields` (under `prefix`):
+    /// the figures whose size took the arithmetic out of range, so the answer
+    /// names what to change. Any other problem is returned as it is.
+    #[must_use]
+    pub fn naming(mut self, prefix: &str, fields: &[&str]) -> Self {
+        if self.kind == ProblemKind::Overflow && self.errors.is_empty() {
+            self.errors = fields
+                .iter()
+                .map(|f| FieldError {
+                    pointer: format!("{prefix}{f}"),
+                    message: format!(
+                        "takes the computation, with the other figures, out of the range of exact decimal arithmetic ({}); a figure of another size has an answer",
+                        self.detail
+                    ),
+                })
+                .collect();
+        }
+        self
+    }
+
     pub fn problem(&self) -> Problem {
         Problem {
             type_uri: self.kind.type_uri(),

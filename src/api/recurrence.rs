@@ -182,7 +182,9 @@ pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> 
 /// # Errors
 /// An overflow, as a problem.
 pub fn answer(r: &Recurrence, ks: &[u32]) -> Result<RecurrenceAnswer, ApiError> {
-    let s = r.solve().map_err(|e| ApiError::from_engine(e, "/"))?;
+    let s = r
+        .solve()
+        .map_err(|e| ApiError::from_engine(e, "/").naming("/", &["a"]))?;
     let values = ks
         .iter()
         .map(|k| {
@@ -192,7 +194,7 @@ pub fn answer(r: &Recurrence, ks: &[u32]) -> Result<RecurrenceAnswer, ApiError> 
             })
         })
         .collect::<Result<Vec<_>, _>>()
-        .map_err(|e| ApiError::from_engine(e, "/"))?;
+        .map_err(|e| ApiError::from_engine(e, "/").naming("/", &["a", "evaluate_at"]))?;
     Ok(RecurrenceAnswer {
         derivation: DerivationDto::from_solution(&s),
         values,

@@ -641,10 +641,15 @@ pub fn schedule_csv(p: &SavingsPlan) -> String {
     out
 }
 
+/// A savings plan's overflow, put on the rate (the size of the growth).
+pub fn overflow_named(e: ApiError, prefix: &str) -> ApiError {
+    e.naming(prefix, &["annual_rate_percent"])
+}
+
 fn savings_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
     let prefix = fields.pointer("");
     let terms = savings_terms_from(fields)?;
-    let p = plan(&terms).map_err(|e| ApiError::from_engine(e, &prefix))?;
+    let p = plan(&terms).map_err(|e| overflow_named(ApiError::from_engine(e, &prefix), &prefix))?;
     Ok(if csv {
         csv_answer(schedule_csv(&p), "savings-plan.csv")
     } else {

@@ -54,7 +54,7 @@ pub fn problem_words(kind: ProblemKind) -> &'static str {
         ProblemKind::TooLarge => "The body is larger than the server accepts (1 MiB by default, `--max-body-bytes`).",
         ProblemKind::NotFound => "No page or operation has this address. The operations are listed on this page.",
         ProblemKind::MethodNotAllowed => "The address exists but not with this method: the operations take GET (query parameters) or POST (a JSON body) as listed here.",
-        ProblemKind::NotAcceptable => "No representation matches the Accept header. Ask for `application/json` or, where a schedule is offered as CSV, `text/csv`.",
+        ProblemKind::NotAcceptable => "No representation matches the Accept header (406). Ask for `application/json` or, where a table is offered as CSV, `text/csv` (or leave Accept out).",
         ProblemKind::Overloaded => "More requests are being computed than the server allows at once (`--max-in-flight`). Retry after the `Retry-After` seconds.",
         ProblemKind::Timeout => "The request took longer than the server's limit (`--request-timeout-secs`). Retry after the `Retry-After` seconds, or ask for less.",
         ProblemKind::Internal => "Something went wrong inside the service. The answer says no more than that; the server's log has the request id (`x-request-id`).",
@@ -82,7 +82,7 @@ fn operations(base: &str) -> Vec<Operation> {
             id: "compare",
             title: "Comparing plans",
             method_path: "GET or POST /api/v1/loans/compare (CSV: /api/v1/loans/compare.csv)",
-            words: "Up to four plans: a base and variants that change some of its fields. In a query, one field may list values separated by commas, each making one plan; the first is the base. Each row gives payment, number_of_payments, total_interest, total_paid, payoff_date, interest_saved and payments_saved against the base.",
+            words: "Up to four plans: a base and variants that change some of its fields. In a query, one field may list values separated by commas, each making one plan; the first is the base. Each row gives payment, number_of_payments, total_interest, total_paid, payoff_date, interest_saved and payments_saved against the base. Every plan is in the base's currency (a variant in another is refused); payments_saved is null (an empty CSV cell) for a plan paid at another frequency than the base, whose payments are not alike.",
             examples: ex(&[
                 "curl '{base}/api/v1/loans/compare?principal=278000&annual_rate_percent=6.375&term_months=180,240,360'",
                 "curl -H 'content-type: application/json' -d '{\"base\":{\"principal\":\"278000\",\"annual_rate_percent\":\"6.375\",\"term_months\":360},\"variants\":[{\"label\":\"20 years\",\"term_months\":240}]}' {base}/api/v1/loans/compare",

@@ -311,7 +311,8 @@ fn cases() -> Vec<Case> {
         c("recurrence: k = -1", post(RECURRENCE, recurrence(json!({"evaluate_at": [-1]}))), invalid("/evaluate_at/0")),
         c("recurrence: k beyond range", post(RECURRENCE, recurrence(json!({"evaluate_at": [99_999_999_999_u64]}))), invalid("/evaluate_at/0")),
         c("recurrence: an object as inputs", post(RECURRENCE, recurrence(json!({"inputs": {"kind": "step"}}))), invalid("/inputs")),
-        c("recurrence: a power past the decimal range", post(RECURRENCE, recurrence(json!({"a": "1.5", "inputs": [{"kind": "geometric", "amount": "1", "ratio": "1.5"}], "evaluate_at": [6000]}))), Want::Problem(422, "overflow", None)),
+        c("recurrence: a power past the decimal range", post(RECURRENCE, recurrence(json!({"a": "1.5", "inputs": [{"kind": "geometric", "amount": "1", "ratio": "1.5"}], "evaluate_at": [6000]}))), Want::Problem(422, "overflow", Some("/a"))),
+        c("apy: interest a billion times the principal over one day (overflow names the field)", get(format!("{APY}?principal=1000&interest=1e12&days=1")), Want::Problem(422, "overflow", Some("interest"))),
         // --- batch ---
         c("batch: a bad line in the middle fails alone", Req::Post(BATCH, "application/x-ndjson", {
             let mut b = ndjson(&[job(1, "loan_schedule", good_loan()), job(2, "loan_schedule", json!({"principal": "abc", "annual_rate_percent": "6", "term_months": 12}))]);
