@@ -386,12 +386,27 @@ fn odd_days_note(plan: &Plan, options: &PlanOptions, currency: Currency) -> Opti
     if plan.odd_days == 0 {
         return None;
     }
+    if plan.odd_days < 0 {
+        // Funded after the start of the first regular period: that period's
+        // interest is charged in full on the balance, and the days before
+        // funding are credited back.
+        let place = match options.odd_days_interest {
+            OddDaysInterest::FirstPayment => "taken off the first payment",
+            OddDaysInterest::Prepaid => "credited at closing",
+        };
+        return Some(format!(
+            "The first period is {} days shorter than a regular one ({}): the first payment's interest is for a full period, and {} of interest for the days before funding is {place}.",
+            -plan.odd_days,
+            options.day_count.name(),
+            currency.format(-plan.odd_days_interest)
+        ));
+    }
     let place = match options.odd_days_interest {
         OddDaysInterest::FirstPayment => "added to the first payment",
         OddDaysInterest::Prepaid => "collected at closing as prepaid interest",
     };
     Some(format!(
-        "The first period is odd by {} days ({}): {} of interest, {place}.",
+        "The first period is {} days longer than a regular one ({}): {} of interest, {place}.",
         plan.odd_days,
         options.day_count.name(),
         currency.format(plan.odd_days_interest)
