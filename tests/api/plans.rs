@@ -476,7 +476,7 @@ fn a_loan_funded_january_10th_paying_from_march_1st_adds_22_days_of_interest_to_
     );
     assert!(undated["summary"]["payoff_date"].is_null());
     assert!(
-        has_note(&s, "odd by 22 days"),
+        has_note(&s, "22 days longer than a regular one"),
         "a note explains the odd period: {:?}",
         notes(&s)
     );
@@ -1843,4 +1843,32 @@ fn payments_saved_is_left_empty_for_a_plan_paid_at_another_frequency() {
         lines[2]
     );
     assert!(lines[3].ends_with(",60"), "{}", lines[3]);
+}
+
+#[test]
+fn a_short_first_period_charges_a_full_period_less_a_credit_and_says_so() {
+    // Funded 2026-03-25, first payment 2026-04-01: the regular period runs from
+    // 2026-03-01, 24 days before funding. By hand: a full month's interest is
+    // 250,000 × 0.06/12 = 1,250.00; the credit 250,000 × 0.06 × 24/365 =
+    // 986.301… = 986.30 (actual/365); the first interest 1,250.00 − 986.30 = 263.70.
+    let app = spawn_app();
+    let s = app
+        .get(&format!(
+            "{SCHEDULE}?principal=250000&annual_rate_percent=6&term_months=360&funding_date=2026-03-25&first_payment_date=2026-04-01"
+        ))
+        .json();
+    assert_eq!(
+        s["schedule"][0]["interest"], "263.70",
+        "{}",
+        s["schedule"][0]
+    );
+    assert!(
+        has_note(&s, "24 days shorter than a regular one")
+            && has_note(
+                &s,
+                "986.30 of interest for the days before funding is taken off the first payment"
+            ),
+        "{:?}",
+        notes(&s)
+    );
 }
