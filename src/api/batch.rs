@@ -255,10 +255,7 @@ pub fn answer_line_into(bytes: &mut Vec<u8>, line: &[u8], number: usize) {
     let outcome = match json::parse(line) {
         Err(e) => {
             bytes.extend_from_slice(b"null");
-            Err(ApiError::new(
-                ProblemKind::MalformedJson,
-                format!("line {number}: {e}"),
-            ))
+            Err(ApiError::malformed_json(&e, format!("line {number}: {e}")))
         }
         Ok(v) => {
             match v.get("id") {

@@ -63,8 +63,7 @@ impl FromRequest<AppState> for JsonBody {
 /// # Errors
 /// Malformed JSON (400), or a value that is not an object (422).
 pub fn parse_object(bytes: &Bytes) -> Result<Json, ApiError> {
-    let v =
-        json::parse(bytes).map_err(|e| ApiError::new(ProblemKind::MalformedJson, e.to_string()))?;
+    let v = json::parse(bytes).map_err(|e| ApiError::malformed_json(&e, e.to_string()))?;
     if !matches!(v, Json::Object(_)) {
         return Err(ApiError::fields(vec![FieldError {
             pointer: String::new(),

@@ -50,6 +50,9 @@ pub struct SyntaxError {
     pub line: usize,
     pub column: usize,
     pub message: String,
+    /// The JSON Pointer of a member given twice (the document is otherwise
+    /// well formed there); `None` for any other error.
+    pub pointer: Option<String>,
 }
 
 impl fmt::Display for SyntaxError {
@@ -74,6 +77,7 @@ pub fn parse(bytes: &[u8]) -> Result<Json, SyntaxError> {
             line,
             column,
             message: "the body is not valid UTF-8".into(),
+            pointer: None,
         }
     })?;
     let mut p = Parser {
@@ -107,6 +111,7 @@ impl Parser<'_> {
             line,
             column,
             message: message.into(),
+            pointer: None,
         }
     }
 
@@ -159,7 +164,9 @@ impl Parser<'_> {
             let key = self.string()?;
             if members.iter().any(|(k, _)| *k == key) {
                 self.i = at;
-                return Err(self.error(&format!("the member \"{}\" appears twice", truncate(&key))));
+                let mut e = self.error(&format!("the member \"{}\" appears twice", truncate(&key)));
+                e.pointer = Some(format!("/{}", super::fields::escape_pointer(&key)));
+                return Err(e);
             }
             self.ws();
             if self.s.get(self.i) != Some(&b':') {
@@ -167,7 +174,13 @@ impl Parser<'_> {
             }
             self.i += 1;
             self.ws();
-            let v = self.value(depth + 1)?;
+            // A duplicate deeper down: its pointer gains this member's name.
+            let v = self.value(depth + 1).map_err(|mut e| {
+                if let Some(p) = &mut e.pointer {
+                    *p = format!("/{}{p}", super::fields::escape_pointer(&key));
+                }
+                e
+            })?;
             members.push((key, v));
             self.ws();
             match self.s.get(self.i) {
@@ -191,7 +204,13 @@ impl Parser<'_> {
         }
         loop {
             self.ws();
-            items.push(self.value(depth + 1)?);
+            let index = items.len();
+            items.push(self.value(depth + 1).map_err(|mut e| {
+                if let Some(p) = &mut e.pointer {
+                    *p = format!("/{index}{p}");
+                }
+                e
+            })?);
             self.ws();
             match self.s.get(self.i) {
                 Some(b',') => self.i += 1,
@@ -328,6 +347,16 @@ fn truncate(s: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_member_given_twice_is_named_by_its_pointer() {
+        let e = parse(br#"{"a":1,"a":2}"#).unwrap_err();
+        assert_eq!(e.pointer.as_deref(), Some("/a"));
+        let e = parse(br#"{"x":[{"b":1},{"c/d":1,"c/d":2}]}"#).unwrap_err();
+        assert_eq!(e.pointer.as_deref(), Some("/x/1/c~1d"));
+        // Any other error names no member.
+        assert_eq!(parse(br#"{"a":1,}"#).unwrap_err().pointer, None);
+    }
 
     #[test]
     fn numbers_keep_their_exact_text() {

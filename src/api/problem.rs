@@ -197,6 +197,23 @@ impl ApiError {
         self
     }
 
+    /// Malformed JSON (400) described by `detail`; a member given twice is
+    /// named by its pointer too.
+    pub fn malformed_json(e: &super::json::SyntaxError, detail: String) -> Self {
+        Self {
+            kind: ProblemKind::MalformedJson,
+            errors: e
+                .pointer
+                .iter()
+                .map(|p| FieldError {
+                    pointer: p.clone(),
+                    message: "appears twice in its object: give each member once".into(),
+                })
+                .collect(),
+            detail,
+        }
+    }
+
     pub fn problem(&self) -> Problem {
         Problem {
             type_uri: self.kind.type_uri(),
