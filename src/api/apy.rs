@@ -226,7 +226,7 @@ fn rounded(r: &ApyResult) -> String {
 /// # Errors
 /// The engine's refusal (a zero balance, days out of range, an overflow), pointed at its field.
 pub fn answer(req: &ApyRequest, prefix: &str) -> Result<ApyAnswer, ApiError> {
-    let err = |e| ApiError::from_engine(e, prefix).naming(prefix, &["interest", "days"]);
+    let err = |e| ApiError::from_engine(e, prefix);
     let mut notes = vec![CAUTION.to_string()];
     let (form, result, formula) = match *req {
         ApyRequest::General {
@@ -234,7 +234,8 @@ pub fn answer(req: &ApyRequest, prefix: &str) -> Result<ApyAnswer, ApiError> {
             interest,
             days,
         } => {
-            let r = apy_general(principal, interest, days).map_err(err)?;
+            let r = apy_general(principal, interest, days)
+                .map_err(|e| err(e).naming(prefix, &["interest", "days"]))?;
             let formula = if days == 365 {
                 format!(
                     "APY = 100 (Interest/Principal) = 100 × ({}/{}) = {} (12 CFR 1030 Appendix A, Part I.A, a term of 365 days)",
@@ -286,8 +287,8 @@ pub fn answer(req: &ApyRequest, prefix: &str) -> Result<ApyAnswer, ApiError> {
             average_daily_balance,
             days_in_period,
         } => {
-            let r =
-                apy_earned(interest_earned, average_daily_balance, days_in_period).map_err(err)?;
+            let r = apy_earned(interest_earned, average_daily_balance, days_in_period)
+                .map_err(|e| err(e).naming(prefix, &["interest_earned", "days_in_period"]))?;
             let formula = format!(
                 "APY earned = 100 [(1 + Interest earned/Balance)^(365/Days in period) − 1] = 100 [(1 + {}/{})^(365/{days_in_period}) − 1] = {} (12 CFR 1030 Appendix A, Part II.A; Balance is the average daily balance)",
                 full(interest_earned),

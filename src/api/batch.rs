@@ -238,9 +238,9 @@ pub fn answer_line(line: &[u8], number: usize) -> Vec<u8> {
 /// [`answer_line`], appended to `bytes`.
 pub fn answer_line_into(bytes: &mut Vec<u8>, line: &[u8], number: usize) {
     bytes.extend_from_slice(b"{\"id\":");
-    // A whole line longer than the limit, read in one piece, fails alone
-    // (a longer line still arriving ends the batch: it is not buffered).
-    if line.len() > MAX_LINE_BYTES {
+    // A line longer than the limit fails alone: whole (read in one piece), or
+    // marked by an empty range when it was dropped as it arrived.
+    if line.len() > MAX_LINE_BYTES || line.is_empty() {
         bytes.extend_from_slice(b"null,\"ok\":false,\"problem\":");
         let p = ApiError::new(
             ProblemKind::TooLarge,
@@ -383,7 +383,9 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         let mut jobs: Vec<(usize, usize, usize)> = Vec::new();
         let mut lines = 0usize;
         let mut finished = false;
-        let mut too_long = false;
+        // True while the rest of a line already answered as too long is
+        // arriving: its bytes are dropped up to its newline.
+        let mut skipping = false;
         let mut over = false;
         let mut stalled = first.is_none();
         let mut early = first;
@@ -433,6 +435,16 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                 Some(Err(_)) => break,
                 None => finished = true,
             }
+            if skipping {
+                match pending[start..].iter().position(|b| *b == b'\n') {
+                    Some(p) => {
+                        pending.drain(start..=start + p);
+                        skipping = false;
+                    }
+                    None => pending.truncate(start),
+                }
+                scanned = start;
+            }
             while let Some(pos) = pending[scanned..]
                 .iter()
                 .position(|b| *b == b'\n')
@@ -461,10 +473,24 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                     start = pending.len();
                 }
             }
-            too_long = !over && pending.len() - start > MAX_LINE_BYTES;
+            if !over && !skipping && pending.len() - start > MAX_LINE_BYTES {
+                // A line past the limit still arriving fails alone, as a whole
+                // one does (`answer_line_into`): it is answered as too long (an
+                // empty range marks it) and its bytes are dropped as they come,
+                // so no line is held whole however long it is.
+                lines += 1;
+                if lines > MAX_LINES {
+                    over = true;
+                } else {
+                    jobs.push((start, start, lines));
+                    pending.truncate(start);
+                    scanned = start;
+                    skipping = true;
+                }
+            }
             // Lines already here are answered together; a slow client still gets
             // each answer as soon as its line is in (the wait above sends it).
-            if !(finished || over || too_long) && jobs.len() < GROUP {
+            if !(finished || over) && jobs.len() < GROUP {
                 if let Some(item) = body.next().now_or_never() {
                     early = Some(item);
                     continue;
@@ -490,7 +516,7 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                     return;
                 }
             }
-            if finished || over || too_long {
+            if finished || over {
                 break;
             }
         }
@@ -507,14 +533,6 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                 format!(
                     "no data for {} s after line {lines}: the batch stops here",
                     idle_timeout.as_secs_f64()
-                ),
-            ))
-        } else if too_long {
-            Some((
-                ProblemKind::TooLarge,
-                format!(
-                    "line {} is longer than {MAX_LINE_BYTES} bytes: the batch stops here",
-                    lines + 1
                 ),
             ))
         } else if over {

@@ -159,54 +159,60 @@ fn accept_ranges(accept: &str) -> impl Iterator<Item = (&str, f32)> {
     })
 }
 
-/// True when the media range `range` (`*/*`, `text/*`, `text/csv`) takes `media`.
-fn range_takes(range: &str, media: &str) -> bool {
-    range == "*/*"
-        || range.eq_ignore_ascii_case(media)
-        || range.strip_suffix("/*").is_some_and(|kind| {
+/// The weight the Accept header gives `media`: the q of the most specific range
+/// that takes it (`text/csv` over `text/*` over `*/*`, RFC 9110 §12.5.1), with
+/// that range's position; `None` when no range takes it.
+fn weight(accept: &str, media: &str) -> Option<(f32, usize)> {
+    let mut best: Option<(u8, f32, usize)> = None;
+    for (i, (range, q)) in accept_ranges(accept).enumerate() {
+        let specificity = if range.eq_ignore_ascii_case(media) {
+            3
+        } else if range == "*/*" {
+            1
+        } else if range.strip_suffix("/*").is_some_and(|kind| {
             media
                 .split('/')
                 .next()
                 .is_some_and(|m| m.eq_ignore_ascii_case(kind))
-        })
+        }) {
+            2
+        } else {
+            continue;
+        };
+        if best.is_none_or(|(s, _, _)| specificity > s) {
+            best = Some((specificity, q, i));
+        }
+    }
+    best.map(|(_, q, i)| (q, i))
 }
 
-/// True when the client asks for CSV over JSON: `text/csv` named with a
-/// higher weight than `application/json`, or the same weight and first; or
-/// neither named and only CSV taken (`text/*`).
+/// True when the client asks for CSV over JSON: CSV weighs more, or as much
+/// and is named first (`*/*` alone, or no Accept, is JSON).
 pub fn wants_csv(headers: &HeaderMap) -> bool {
     let Some(accept) = headers.get(header::ACCEPT).and_then(|v| v.to_str().ok()) else {
         return false;
     };
-    let (mut csv, mut json) = (None, None);
-    for (i, (range, q)) in accept_ranges(accept).enumerate() {
-        if csv.is_none() && range.eq_ignore_ascii_case("text/csv") {
-            csv = Some((q, i));
-        } else if json.is_none() && range.eq_ignore_ascii_case("application/json") {
-            json = Some((q, i));
-        }
-    }
-    match (csv, json) {
+    match (
+        weight(accept, "text/csv"),
+        weight(accept, "application/json"),
+    ) {
         (Some((qc, ic)), Some((qj, ij))) => qc > 0.0 && (qc > qj || (qc == qj && ic < ij)),
         (Some((qc, _)), None) => qc > 0.0,
-        (None, Some(_)) => false,
-        // Neither named: CSV when only a wildcard for it (text/*) is there.
-        (None, None) => {
-            acceptable(headers, &["text/csv"]) && !acceptable(headers, &["application/json"])
-        }
+        _ => false,
     }
 }
 
-/// True when the Accept header (absent or empty: anything) takes one of
-/// `offered` with a weight above 0.
+/// True when the Accept header (absent or empty: anything) gives one of
+/// `offered` a weight above 0.
 pub fn acceptable(headers: &HeaderMap, offered: &[&str]) -> bool {
     let Some(accept) = headers.get(header::ACCEPT) else {
         return true;
     };
     let accept = String::from_utf8_lossy(accept.as_bytes());
     accept.trim().is_empty()
-        || accept_ranges(&accept)
-            .any(|(range, q)| q > 0.0 && offered.iter().any(|m| range_takes(range, m)))
+        || offered
+            .iter()
+            .any(|m| weight(&accept, m).is_some_and(|(q, _)| q > 0.0))
 }
 
 /// The most payments a schedule may have to be computed on the runtime's own

@@ -591,9 +591,9 @@ fn parse_extra_item(item: &str) -> Result<(Decimal, ExtraWhen), String> {
             Some(
                 e.parse::<u32>()
                     .ok()
-                    .filter(|e| *e <= MAX_PAYMENTS)
+                    .filter(|e| (1..=MAX_PAYMENTS).contains(e))
                     .ok_or(format!(
-                        "EVERY must be a whole number from 0 to {MAX_PAYMENTS}"
+                        "EVERY must be a whole number from 1 to {MAX_PAYMENTS}"
                     ))?,
             ),
         ),

@@ -535,8 +535,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<LoanResult, ApiError> {
     let mut f = Fields::new(Source::Query(&normalized));
     f.lenient = true;
     let request = schedule_request_from(f)?;
-    let s = schedule_with(&request.terms, &request.options)
-        .map_err(|e| ApiError::from_engine(e, ""))?;
+    let s = schedule_with(&request.terms, &request.options).map_err(|e| request.problem(e, ""))?;
     Ok(result(
         &s,
         request.label.as_deref(),

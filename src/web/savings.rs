@@ -172,7 +172,8 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
     let mut f = Fields::new(Source::Query(&normalized));
     f.lenient = true;
     let terms = savings_terms_from(f)?;
-    let p = plan(&terms).map_err(|e| ApiError::from_engine(e, ""))?;
+    let p = plan(&terms)
+        .map_err(|e| crate::api::savings::overflow_named(ApiError::from_engine(e, ""), ""))?;
     let dto = SavingsPlanDto::from_plan(&p);
     let s = &dto.summary;
     let c = p.terms.currency;

@@ -314,6 +314,8 @@ fn cases() -> Vec<Case> {
         c("recurrence: an object as inputs", post(RECURRENCE, recurrence(json!({"inputs": {"kind": "step"}}))), invalid("/inputs")),
         c("recurrence: a power past the decimal range", post(RECURRENCE, recurrence(json!({"a": "1.5", "inputs": [{"kind": "geometric", "amount": "1", "ratio": "1.5"}], "evaluate_at": [6000]}))), Want::Problem(422, "overflow", Some("/a"))),
         c("apy: interest a billion times the principal over one day (overflow names the field)", get(format!("{APY}?principal=1000&interest=1e12&days=1")), Want::Problem(422, "overflow", Some("interest"))),
+        c("apy earned: the same overflow names the earned form's own field", get(format!("{APY}?interest_earned=1e12&average_daily_balance=1000&days_in_period=1")), Want::Problem(422, "overflow", Some("interest_earned"))),
+        c("schedule query: an extra every 0 payments", get(format!("{SCHEDULE}?{LOAN_Q}&extra_payments=100@1-/0")), invalid("extra_payments")),
         // --- batch ---
         c("batch: a bad line in the middle fails alone", Req::Post(BATCH, "application/x-ndjson", {
             let mut b = ndjson(&[job(1, "loan_schedule", good_loan()), job(2, "loan_schedule", json!({"principal": "abc", "annual_rate_percent": "6", "term_months": 12}))]);
@@ -321,11 +323,12 @@ fn cases() -> Vec<Case> {
             b.extend(ndjson(&[job(4, "no_such_job", json!({})), job(5, "apy", json!({"principal": "1000", "interest": "61.68", "days": 365}))]));
             b
         }), Want::Batch(vec![None, Some(("invalid-fields", Some("/principal"))), Some(("malformed-json", None)), Some(("invalid-fields", Some("/job"))), None])),
-        c("batch: a line of 10 MB ends the batch", Req::Post(BATCH, "application/x-ndjson", {
+        c("batch: a line of 10 MB fails alone, dropped as it arrives", Req::Post(BATCH, "application/x-ndjson", {
             let mut b = ndjson(&[job(1, "loan_schedule", good_loan())]);
             b.extend(big_batch_line);
+            b.extend(ndjson(&[job(3, "loan_schedule", good_loan())]));
             b
-        }), Want::Batch(vec![None, Some(("too-large", None))])),
+        }), Want::Batch(vec![None, Some(("too-large", None)), None])),
         c("batch: as application/json", Req::Post(BATCH, "application/json", b"{}".to_vec()), Want::Problem(415, "unsupported-media-type", None)),
         // --- pages ---
         c("page /loan: a non-number", get("/loan?principal=abc&annual_rate_percent=6&term_months=120"), Want::Page(Some("principal"))),

@@ -696,6 +696,19 @@ fn an_accept_header_taking_none_of_the_media_types_gets_406() {
         (schedule, "text/*", "text/csv"),
         (schedule, "*/*", "application/json"),
         (apy, "application/*;q=0.2", "application/json"),
+        // The most specific range decides: an explicit q=0 is not undone by */*.
+        (
+            "/api/v1/apr?principal=1000&annual_rate_percent=6&term_months=12",
+            "application/json;q=0, */*",
+            "406",
+        ),
+        (
+            "/api/v1/loans/schedule.csv?principal=1000&annual_rate_percent=6&term_months=12",
+            "text/csv;q=0, */*",
+            "406",
+        ),
+        (schedule, "text/csv;q=0.5, */*", "application/json"),
+        (schedule, "text/*;q=0.9, application/json;q=0.8", "text/csv"),
     ] {
         let r = app.get_with(path, &[("Accept", accept)]);
         if want == "406" {
