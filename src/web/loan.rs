@@ -437,11 +437,26 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
         ));
     }
     if !s.plan.prepaid_interest.is_zero() {
+        // A short first period credits its days before funding at closing:
+        // shown as a credit of a positive amount, not a negative charge.
+        let (label, amount, days) = if s.plan.prepaid_interest.is_sign_negative() {
+            (
+                "Interest credited at closing",
+                -s.plan.prepaid_interest,
+                format!("first period {} days short", -s.plan.odd_days),
+            )
+        } else {
+            (
+                "Prepaid interest at closing",
+                s.plan.prepaid_interest,
+                format!("{} odd days", s.plan.odd_days),
+            )
+        };
         changed.push(Figure::new(
-            "Prepaid interest at closing",
-            money(c, s.plan.prepaid_interest),
+            label,
+            money(c, amount),
             c.format(s.plan.prepaid_interest),
-            format!("{} odd days", s.plan.odd_days),
+            days,
         ));
     }
     let mut milestones = Vec::new();
