@@ -43,9 +43,10 @@ async fn get(path: &str) -> (StatusCode, String, String) {
     )
 }
 
-async fn page(path: &str) -> String {
+/// An HTML page answered with `want`.
+async fn html_page(path: &str, want: StatusCode) -> String {
     let (status, content_type, body) = get(path).await;
-    assert_eq!(status, StatusCode::OK, "{path}: {body}");
+    assert_eq!(status, want, "{path}: {body}");
     assert!(
         content_type.starts_with("text/html"),
         "{path}: {content_type}"
@@ -53,16 +54,14 @@ async fn page(path: &str) -> String {
     body
 }
 
+async fn page(path: &str) -> String {
+    html_page(path, StatusCode::OK).await
+}
+
 /// A form page refusing its query: the page itself, with 422 (fields that
 /// are invalid, terms with no solution).
 async fn refused_page(path: &str) -> String {
-    let (status, content_type, body) = get(path).await;
-    assert_eq!(status, StatusCode::UNPROCESSABLE_ENTITY, "{path}: {body}");
-    assert!(
-        content_type.starts_with("text/html"),
-        "{path}: {content_type}"
-    );
-    body
+    html_page(path, StatusCode::UNPROCESSABLE_ENTITY).await
 }
 
 async fn json(path: &str) -> Value {

@@ -433,6 +433,17 @@ mod tests {
         }
     }
 
+    /// The reference: product / divisor (both ≥ 0) by Rust's exact i128
+    /// division, rounded by the remainder.
+    fn rounded_quotient(product: i128, divisor: i128, rounding: InterestRounding) -> i128 {
+        let (q, r) = (product / divisor, product % divisor);
+        let up = match rounding {
+            InterestRounding::HalfUp => 2 * r >= divisor,
+            InterestRounding::HalfEven => 2 * r > divisor || (2 * r == divisor && q % 2 == 1),
+        };
+        q + i128::from(up)
+    }
+
     #[test]
     fn interest_equals_exact_integer_division_rounded() {
         // Reference: Rust's exact i128 division of balance × mantissa by 10^scale.
@@ -464,14 +475,7 @@ mod tests {
                         let _ = p.interest(b);
                         continue;
                     };
-                    let (q, r) = (product / divisor, product % divisor);
-                    let up = match rounding {
-                        InterestRounding::HalfUp => 2 * r >= divisor,
-                        InterestRounding::HalfEven => {
-                            2 * r > divisor || (2 * r == divisor && q % 2 == 1)
-                        }
-                    };
-                    let want = q + i128::from(up);
+                    let want = rounded_quotient(product, divisor, rounding);
                     assert_eq!(p.interest(b).unwrap(), want, "{text} × {b}");
                     assert_eq!(p.interest(-b).unwrap(), -want, "{text} × −{b}");
                 }
@@ -495,15 +499,7 @@ mod tests {
                 let p = InterestPoster::new(rate, Currency::USD, rounding)
                     .exactly(Some((numerator, divisor)));
                 for &b in &balances {
-                    let product = b * numerator;
-                    let (q, r) = (product / divisor, product % divisor);
-                    let up = match rounding {
-                        InterestRounding::HalfUp => 2 * r >= divisor,
-                        InterestRounding::HalfEven => {
-                            2 * r > divisor || (2 * r == divisor && q % 2 == 1)
-                        }
-                    };
-                    let want = q + i128::from(up);
+                    let want = rounded_quotient(b * numerator, divisor, rounding);
                     assert_eq!(p.interest(b).unwrap(), want, "{numerator}/{divisor} × {b}");
                     assert_eq!(
                         p.interest(-b).unwrap(),
