@@ -678,15 +678,12 @@ fn an_accept_header_taking_none_of_the_media_types_gets_406() {
     let app = spawn_app();
     let schedule = "/api/v1/loans/schedule?principal=1000&annual_rate_percent=6&term_months=12";
     let apy = "/api/v1/apy?principal=1000&interest=61.68&days=365";
+    let csv = "/api/v1/loans/schedule.csv?principal=1000&annual_rate_percent=6&term_months=12";
     for (path, accept, want) in [
         (schedule, "image/png", "406"),
         (schedule, "application/json;q=0", "406"),
         (apy, "text/csv", "406"),
-        (
-            "/api/v1/loans/schedule.csv?principal=1000&annual_rate_percent=6&term_months=12",
-            "application/json",
-            "406",
-        ),
+        (csv, "application/json", "406"),
         (
             schedule,
             "text/csv;q=0, application/json",
@@ -702,11 +699,7 @@ fn an_accept_header_taking_none_of_the_media_types_gets_406() {
             "application/json;q=0, */*",
             "406",
         ),
-        (
-            "/api/v1/loans/schedule.csv?principal=1000&annual_rate_percent=6&term_months=12",
-            "text/csv;q=0, */*",
-            "406",
-        ),
+        (csv, "text/csv;q=0, */*", "406"),
         (schedule, "text/csv;q=0.5, */*", "application/json"),
         (schedule, "text/*;q=0.9, application/json;q=0.8", "text/csv"),
     ] {
