@@ -1,7 +1,7 @@
 //! The router, its middleware (limits, timeouts, headers, logs) and graceful shutdown.
 
 use std::net::SocketAddr;
-use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
 
@@ -217,7 +217,8 @@ async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next)
                 return ApiError::new(ProblemKind::Internal, "the answer could not be read")
                     .into_response();
             };
-            let headers = [header::CONTENT_TYPE, header::CONTENT_DISPOSITION]
+            let caution = header::HeaderName::from_static(handlers::CAUTION_HEADER);
+            let headers = [header::CONTENT_TYPE, header::CONTENT_DISPOSITION, caution]
                 .into_iter()
                 .filter_map(|name| parts.headers.get(&name).map(|v| (name, v.clone())))
                 .collect();
@@ -295,6 +296,7 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         .into_response();
     };
     let limit = state.config.request_timeout;
+    let (req, body_arrived) = watch_body(req);
     let inline = req
         .extensions()
         .get::<axum::extract::MatchedPath>()
@@ -322,6 +324,20 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
     };
     match computed {
         Ok(Ok(response)) => response,
+        Ok(Err(_))
+            if body_arrived
+                .as_ref()
+                .is_some_and(|b| !b.load(Ordering::Acquire)) =>
+        {
+            ApiError::new(
+                ProblemKind::BodyTimeout,
+                format!(
+                    "the request's body did not arrive within {} s; send it whole, without pauses",
+                    state.config.request_timeout.as_secs_f64()
+                ),
+            )
+            .into_response()
+        }
         Ok(Err(_)) => ApiError::new(
             ProblemKind::Timeout,
             format!(
@@ -333,6 +349,32 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         Err(_) => ApiError::new(ProblemKind::Internal, "the request could not be computed")
             .into_response(),
     }
+}
+
+/// A request that declares a body gets it wrapped so that its end is seen: the
+/// flag is set once the last byte has been read. A request timed out before
+/// then was waiting for its client (408), not for its computation (503).
+/// A request without a body is passed on untouched, with no flag.
+fn watch_body(req: Request) -> (Request, Option<Arc<AtomicBool>>) {
+    use futures_util::StreamExt;
+    let declared = req
+        .headers()
+        .get(header::CONTENT_LENGTH)
+        .is_some_and(|v| v.as_bytes() != b"0")
+        || req.headers().contains_key(header::TRANSFER_ENCODING);
+    if !declared {
+        return (req, None);
+    }
+    let arrived = Arc::new(AtomicBool::new(false));
+    let flag = arrived.clone();
+    let req = req.map(move |body| {
+        let end = futures_util::stream::poll_fn(move |_| {
+            flag.store(true, Ordering::Release);
+            std::task::Poll::Ready(None)
+        });
+        axum::body::Body::from_stream(body.into_data_stream().chain(end))
+    });
+    (req, Some(arrived))
 }
 
 /// Security headers on every answer; one log line per request with its id.
@@ -373,7 +415,7 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         h.insert(header::ACCESS_CONTROL_ALLOW_ORIGIN, origin);
         h.insert(
             header::ACCESS_CONTROL_EXPOSE_HEADERS,
-            HeaderValue::from_static("etag, retry-after, x-request-id"),
+            HeaderValue::from_static("etag, retry-after, x-request-id, residue-caution"),
         );
         h.append(header::VARY, HeaderValue::from_static("origin"));
     }

@@ -130,9 +130,18 @@ pub fn json_bytes_answer(body: Vec<u8>) -> Response {
         .into_response()
 }
 
-/// A CSV answer (RFC 4180), offered as a download with a file name.
+/// The header that carries the caution with a CSV answer: a line of text in the
+/// file itself would break the table a spreadsheet imports.
+pub const CAUTION_HEADER: &str = "residue-caution";
+
+/// A CSV answer (RFC 4180), offered as a download with a file name, with the
+/// caution in the [`CAUTION_HEADER`].
 pub fn csv_answer(body: String, filename: &str) -> Response {
     let mut r = body.into_response();
+    r.headers_mut().insert(
+        header::HeaderName::from_static(CAUTION_HEADER),
+        HeaderValue::from_static(crate::engine::schedule::CAUTION),
+    );
     r.headers_mut().insert(
         header::CONTENT_TYPE,
         HeaderValue::from_static("text/csv; charset=utf-8; header=present"),

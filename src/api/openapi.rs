@@ -886,6 +886,10 @@ fn responses(op: &Operation) -> Value {
             }),
         );
         if op.method == "post" {
+            r.insert(
+                "408".into(),
+                problem_response("The body did not arrive whole within the request timeout"),
+            );
             r.insert("413".into(), problem_response("The body is too large"));
             r.insert(
                 "415".into(),

@@ -32,11 +32,12 @@ pub enum ProblemKind {
     NotAcceptable,
     Overloaded,
     Timeout,
+    BodyTimeout,
     Internal,
 }
 
 impl ProblemKind {
-    pub const ALL: [ProblemKind; 13] = [
+    pub const ALL: [ProblemKind; 14] = [
         ProblemKind::MalformedJson,
         ProblemKind::MalformedQuery,
         ProblemKind::InvalidFields,
@@ -49,6 +50,7 @@ impl ProblemKind {
         ProblemKind::NotAcceptable,
         ProblemKind::Overloaded,
         ProblemKind::Timeout,
+        ProblemKind::BodyTimeout,
         ProblemKind::Internal,
     ];
 
@@ -67,6 +69,7 @@ impl ProblemKind {
             ProblemKind::NotAcceptable => "not-acceptable",
             ProblemKind::Overloaded => "overloaded",
             ProblemKind::Timeout => "timeout",
+            ProblemKind::BodyTimeout => "body-timeout",
             ProblemKind::Internal => "internal",
         }
     }
@@ -88,6 +91,7 @@ impl ProblemKind {
             ProblemKind::MethodNotAllowed => StatusCode::METHOD_NOT_ALLOWED,
             ProblemKind::NotAcceptable => StatusCode::NOT_ACCEPTABLE,
             ProblemKind::Overloaded | ProblemKind::Timeout => StatusCode::SERVICE_UNAVAILABLE,
+            ProblemKind::BodyTimeout => StatusCode::REQUEST_TIMEOUT,
             ProblemKind::Internal => StatusCode::INTERNAL_SERVER_ERROR,
         }
     }
@@ -106,6 +110,7 @@ impl ProblemKind {
             ProblemKind::NotAcceptable => "No representation matches the Accept header",
             ProblemKind::Overloaded => "The service is busy",
             ProblemKind::Timeout => "The request took too long",
+            ProblemKind::BodyTimeout => "The request's body did not arrive in time",
             ProblemKind::Internal => "Something went wrong inside the service",
         }
     }

@@ -629,7 +629,7 @@ fn assert_others_answered(app: &TestApp) {
 }
 
 #[test]
-fn a_client_that_stalls_mid_body_is_answered_503_timeout_within_the_timeout() {
+fn a_client_that_stalls_mid_body_is_answered_408_within_the_timeout() {
     // Arrange
     let app = app_with_timeout(1);
     let mut slow = open_post(&app, SCHEDULE, "application/json", 100);
@@ -646,9 +646,13 @@ fn a_client_that_stalls_mid_body_is_answered_503_timeout_within_the_timeout() {
         "answered after {:?}",
         started.elapsed()
     );
-    assert_eq!(r.status, 503, "{}", String::from_utf8_lossy(&r.body));
+    assert_eq!(r.status, 408, "{}", String::from_utf8_lossy(&r.body));
     let p: Value = serde_json::from_slice(&r.body).unwrap();
-    assert_eq!(p["type"], "/api#problem-timeout");
+    assert_eq!(p["type"], "/api#problem-body-timeout");
+    assert!(
+        r.header("retry-after").is_none(),
+        "the client's pause, not the server's load"
+    );
     assert_still_healthy(&app);
 }
 
@@ -681,9 +685,13 @@ fn a_client_that_trickles_its_body_is_cut_off_at_the_timeout() {
         "answered after {:?} (write refused early: {answered_early})",
         started.elapsed()
     );
-    assert_eq!(r.status, 503, "{}", String::from_utf8_lossy(&r.body));
+    assert_eq!(r.status, 408, "{}", String::from_utf8_lossy(&r.body));
     let p: Value = serde_json::from_slice(&r.body).unwrap();
-    assert_eq!(p["type"], "/api#problem-timeout");
+    assert_eq!(p["type"], "/api#problem-body-timeout");
+    assert!(
+        r.header("retry-after").is_none(),
+        "the client's pause, not the server's load"
+    );
     assert_still_healthy(&app);
 }
 
@@ -708,13 +716,23 @@ fn many_stalled_clients_do_not_hold_the_in_flight_permits_past_the_timeout() {
     let after = app.post(SCHEDULE, "application/json", &loan(json!({})));
 
     // Assert
+    let statuses: Vec<u16> = answers.iter().map(|r| r.status).collect();
     for r in &answers {
-        assert_eq!(
-            r.status, 503,
-            "each stalled client gets 503 (overloaded or timeout)"
-        );
-        assert!(r.header("retry-after").is_some() || r.status == 503);
+        let p: Value = serde_json::from_slice(&r.body).unwrap();
+        match r.status {
+            503 => {
+                assert_eq!(p["type"], "/api#problem-overloaded");
+                assert!(r.header("retry-after").is_some());
+            }
+            408 => assert_eq!(p["type"], "/api#problem-body-timeout"),
+            other => panic!("a stalled client got {other}: {statuses:?}"),
+        }
     }
+    assert_eq!(
+        statuses.iter().filter(|s| **s == 408).count(),
+        2,
+        "the two holding a permit wait out the timeout: {statuses:?}"
+    );
     assert_eq!(
         after.status, 200,
         "permits are free again after the timeout"

@@ -251,3 +251,47 @@ fn a_batch_sent_with_expect_100_continue_is_answered_without_waiting() {
     let text = String::from_utf8_lossy(&rest);
     assert!(text.contains("\"ok\":true"), "{text}");
 }
+
+/// The caution cannot be a line of the CSV file (a spreadsheet would import it as
+/// a row of the table): every CSV answer carries it in its `Residue-Caution`
+/// header, the same words the JSON answer leads its notes with.
+#[test]
+fn every_csv_answer_carries_the_caution_the_json_answer_leads_its_notes_with() {
+    // Arrange
+    let app = spawn_app();
+    let loan = "principal=27400&annual_rate_percent=7.2&term_months=60";
+    let plan = "deposit=125&annual_rate_percent=3.5&term_months=36";
+    let compare = "principal=27400&annual_rate_percent=7.2&term_months=60,72";
+    let caution = app.get(&format!("/api/v1/loans/schedule?{loan}")).json()["notes"][0]
+        .as_str()
+        .expect("the JSON answer's first note")
+        .to_string();
+    let csv = [("Accept", "text/csv")];
+
+    // Act
+    let answers = [
+        app.get(&format!("/api/v1/loans/schedule.csv?{loan}")),
+        app.get_with(&format!("/api/v1/loans/schedule?{loan}"), &csv),
+        app.get(&format!("/api/v1/loans/compare.csv?{compare}")),
+        app.get_with(&format!("/api/v1/loans/compare?{compare}"), &csv),
+        app.get(&format!("/api/v1/savings/plan.csv?{plan}")),
+        app.get_with(&format!("/api/v1/savings/plan?{plan}"), &csv),
+    ];
+
+    // Assert
+    assert!(caution.contains("not an offer"), "{caution}");
+    for r in &answers {
+        assert_eq!(r.status, 200, "{}", String::from_utf8_lossy(&r.body));
+        assert_eq!(r.media_type(), "text/csv");
+        assert_eq!(r.header("residue-caution"), Some(caution.as_str()));
+        assert!(
+            !String::from_utf8_lossy(&r.body).contains("not an offer"),
+            "the caution stays out of the table"
+        );
+    }
+    let json = app.get(&format!("/api/v1/loans/schedule?{loan}"));
+    assert!(
+        json.header("residue-caution").is_none(),
+        "JSON carries it in its notes"
+    );
+}
