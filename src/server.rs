@@ -1,7 +1,7 @@
 //! The router, its middleware (limits, timeouts, headers, logs) and graceful shutdown.
 
 use std::net::SocketAddr;
-use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::atomic::{AtomicU64, AtomicU8, Ordering};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
 
@@ -296,7 +296,7 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         .into_response();
     };
     let limit = state.config.request_timeout;
-    let (req, body_arrived) = watch_body(req);
+    let (req, body) = watch_body(req);
     let inline = req
         .extensions()
         .get::<axum::extract::MatchedPath>()
@@ -325,9 +325,9 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
     match computed {
         Ok(Ok(response)) => response,
         Ok(Err(_))
-            if body_arrived
+            if body
                 .as_ref()
-                .is_some_and(|b| !b.load(Ordering::Acquire)) =>
+                .is_some_and(|b| b.load(Ordering::Acquire) == BODY_READING) =>
         {
             ApiError::new(
                 ProblemKind::BodyTimeout,
@@ -351,11 +351,17 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
     }
 }
 
-/// A request that declares a body gets it wrapped so that its end is seen: the
-/// flag is set once the last byte has been read. A request timed out before
-/// then was waiting for its client (408), not for its computation (503).
-/// A request without a body is passed on untouched, with no flag.
-fn watch_body(req: Request) -> (Request, Option<Arc<AtomicBool>>) {
+/// Where a request's body is: not asked for yet, being read, or read to its end.
+const BODY_UNREAD: u8 = 0;
+const BODY_READING: u8 = 1;
+const BODY_ARRIVED: u8 = 2;
+
+/// A request that declares a body gets it wrapped so that its reading is seen.
+/// A request timed out while its handler was still waiting for the body was
+/// waiting for its client (408), not for its computation (503); one whose
+/// handler never asked for the body, or had it whole, was not. A request
+/// without a body is passed on untouched, with no state.
+fn watch_body(req: Request) -> (Request, Option<Arc<AtomicU8>>) {
     use futures_util::StreamExt;
     let declared = req
         .headers()
@@ -365,16 +371,22 @@ fn watch_body(req: Request) -> (Request, Option<Arc<AtomicBool>>) {
     if !declared {
         return (req, None);
     }
-    let arrived = Arc::new(AtomicBool::new(false));
-    let flag = arrived.clone();
+    let state = Arc::new(AtomicU8::new(BODY_UNREAD));
+    let seen = state.clone();
     let req = req.map(move |body| {
-        let end = futures_util::stream::poll_fn(move |_| {
-            flag.store(true, Ordering::Release);
-            std::task::Poll::Ready(None)
-        });
-        axum::body::Body::from_stream(body.into_data_stream().chain(end))
+        let mut inner = body.into_data_stream();
+        axum::body::Body::from_stream(futures_util::stream::poll_fn(move |cx| {
+            let next = inner.poll_next_unpin(cx);
+            let now = if matches!(next, std::task::Poll::Ready(None)) {
+                BODY_ARRIVED
+            } else {
+                BODY_READING
+            };
+            seen.store(now, Ordering::Release);
+            next
+        }))
     });
-    (req, Some(arrived))
+    (req, Some(state))
 }
 
 /// Security headers on every answer; one log line per request with its id.
@@ -566,4 +578,63 @@ async fn shutdown_signal() {
         () = term => {},
     }
     tracing::info!("shutting down: finishing requests in flight");
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use futures_util::StreamExt;
+
+    fn request(headers: &[(header::HeaderName, &str)], body: axum::body::Body) -> Request {
+        let mut req = Request::new(body);
+        for (name, value) in headers {
+            req.headers_mut()
+                .insert(name.clone(), HeaderValue::from_str(value).unwrap());
+        }
+        req
+    }
+
+    fn now_or_never<F: std::future::Future>(f: F) -> Option<F::Output> {
+        futures_util::FutureExt::now_or_never(f)
+    }
+
+    #[test]
+    fn a_request_without_a_body_is_not_watched() {
+        for headers in [vec![], vec![(header::CONTENT_LENGTH, "0")]] {
+            let (_, state) = watch_body(request(&headers, axum::body::Body::empty()));
+            assert!(state.is_none());
+        }
+    }
+
+    #[test]
+    fn a_body_read_to_its_end_has_arrived_and_one_never_asked_for_is_unread() {
+        let headers = [(header::CONTENT_LENGTH, "3")];
+        let (req, state) = watch_body(request(&headers, axum::body::Body::from("abc")));
+        let state = state.expect("a declared body is watched");
+        assert_eq!(state.load(Ordering::Acquire), BODY_UNREAD);
+
+        let bytes = now_or_never(axum::body::to_bytes(req.into_body(), 16))
+            .expect("a body in memory is read at once")
+            .unwrap();
+
+        assert_eq!(&bytes[..], b"abc");
+        assert_eq!(state.load(Ordering::Acquire), BODY_ARRIVED);
+    }
+
+    #[test]
+    fn a_body_still_awaited_is_being_read() {
+        // A chunk, then a client that sends nothing more.
+        let chunks = futures_util::stream::iter([Ok::<_, std::io::Error>(
+            axum::body::Bytes::from_static(b"{\"principal\":"),
+        )])
+        .chain(futures_util::stream::pending());
+        let headers = [(header::TRANSFER_ENCODING, "chunked")];
+        let (req, state) = watch_body(request(&headers, axum::body::Body::from_stream(chunks)));
+        let state = state.expect("a declared body is watched");
+
+        let read = now_or_never(axum::body::to_bytes(req.into_body(), 1024));
+
+        assert!(read.is_none(), "the rest of the body never comes");
+        assert_eq!(state.load(Ordering::Acquire), BODY_READING);
+    }
 }
