@@ -3,7 +3,7 @@
 #
 #   bash scripts/load.sh [path/to/release/residue]
 #
-# Needs wrk (`apt-get install -y wrk`) and curl. Not part of CI: it measures.
+# Needs wrk (`apt-get install -y wrk`), GNU time and curl. Not part of CI: it measures.
 # Each wrk run lasts LOAD_DURATION (default 10s) with 2 threads. It prints:
 #   1. /healthz and the 360-payment JSON schedule in the same run: both request
 #      rates and their ratio;
@@ -24,6 +24,7 @@ base="http://$addr"
 schedule="$base/api/v1/loans/schedule?principal=100000&annual_rate_percent=6&term_months=360"
 
 command -v wrk >/dev/null || { echo "load: wrk is missing (apt-get install -y wrk)" >&2; exit 2; }
+/usr/bin/env time -f "" true 2>/dev/null || { echo "load: GNU time is missing (apt-get install -y time)" >&2; exit 2; }
 if [[ ! -x "$binary" ]]; then
     echo "load: building the release binary" >&2
     cargo build --release --bin residue
@@ -53,12 +54,24 @@ echo "server: $binary on $addr (pid $server_pid), $(nproc) cores"
 rate() { awk '/^Requests\/sec:/ {print $2}' "$1"; }
 
 # 1. /healthz against the 360-payment schedule, one after the other in the same run.
-wrk -t2 -c32 -d"$duration" --latency "$base/healthz" >"$work/healthz.txt"
-wrk -t2 -c32 -d"$duration" --latency "$schedule" >"$work/schedule.txt"
+# Each run also accounts the CPU time the server and wrk spent (both share the
+# machine's cores): microseconds of each a request.
+server_cpu() { awk '{print $14 + $15}' "/proc/$server_pid/stat"; }
+ticks="$(getconf CLK_TCK)"
+measured() { # name, then wrk's arguments
+    local name="$1" before after
+    shift
+    before="$(server_cpu)"
+    /usr/bin/env time -f "%U %S" -o "$work/$name.cpu" wrk "$@" >"$work/$name.txt"
+    after="$(server_cpu)"
+    echo "$((after - before))" >"$work/$name.server"
+}
+measured healthz -t2 -c32 -d"$duration" --latency "$base/healthz"
+measured schedule -t2 -c32 -d"$duration" --latency "$schedule"
 # Every request a different loan (the principal changes by cents): none is
 # served from the answer store, each one is computed. Answered at most
 # max_in_flight at once; the rest get 503 (counted apart).
-wrk -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base" >"$work/distinct.txt"
+measured distinct -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base"
 h="$(rate "$work/healthz.txt")"
 s="$(rate "$work/schedule.txt")"
 u="$(rate "$work/distinct.txt")"
@@ -70,6 +83,13 @@ echo "GET 360-payment JSON schedule:    $s requests/s (the same URL again and ag
 echo "GET distinct 360-payment schedules: $u requests/s at 16 connections (each computed; ${refused:-0} answered 503)"
 awk -v h="$h" -v s="$s" 'BEGIN {printf "schedule / healthz:               %.1f %%\n", 100 * s / h}'
 awk -v h="$h" -v u="$u" 'BEGIN {printf "distinct schedules / healthz:     %.1f %%\n", 100 * u / h}'
+echo "CPU time a request (server + wrk, microseconds):"
+for name in healthz schedule distinct; do
+    n="$(awk '/requests in/ {print $1}' "$work/$name.txt")"
+    awk -v name="$name" -v n="$n" -v t="$ticks" -v s="$(cat "$work/$name.server")" \
+        -v w="$(cat "$work/$name.cpu")" 'BEGIN {split(w, c, " ");
+        printf "  %-9s server %6.1f + wrk %5.1f\n", name, 1e6 * s / t / n, 1e6 * (c[1] + c[2]) / n}'
+done
 
 # 2. A batch of level-payment loan checks.
 awk -v n="$batch_lines" -f scripts/check-batch.awk >"$work/batch.ndjson"
