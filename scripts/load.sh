@@ -71,7 +71,10 @@ measured schedule -t2 -c32 -d"$duration" --latency "$schedule"
 # Every request a different loan (the principal changes by cents): none is
 # served from the answer store, each one is computed. Answered at most
 # max_in_flight at once; the rest get 503 (counted apart).
+store_hits() { curl -fs "$base/metrics" | awk '/^residue_answer_cache_hits_total/ {print $2}'; }
+hits_before="$(store_hits)"
 measured distinct -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base"
+hits_after="$(store_hits)"
 h="$(rate "$work/healthz.txt")"
 s="$(rate "$work/schedule.txt")"
 u="$(rate "$work/distinct.txt")"
@@ -80,7 +83,7 @@ echo
 echo "== request rates (wrk -t2 -c32 -d$duration) =="
 echo "GET /healthz:                     $h requests/s"
 echo "GET 360-payment JSON schedule:    $s requests/s (the same URL again and again: after the first, from the answer store)"
-echo "GET distinct 360-payment schedules: $u requests/s at 16 connections (each computed; ${refused:-0} answered 503)"
+echo "GET distinct 360-payment schedules: $u requests/s at 16 connections (${refused:-0} answered 503; $((hits_after - hits_before)) served from the answer store, the rest computed)"
 awk -v h="$h" -v s="$s" 'BEGIN {printf "schedule / healthz:               %.1f %%\n", 100 * s / h}'
 awk -v h="$h" -v u="$u" 'BEGIN {printf "distinct schedules / healthz:     %.1f %%\n", 100 * u / h}'
 echo "CPU time a request (server + wrk, microseconds):"
@@ -124,10 +127,6 @@ echo "saturating concurrency: $best_c ($best requests/s); overload at $overload"
 
 cp scripts/distinct-schedules.lua "$work/count.lua"
 cat >>"$work/count.lua" <<'EOF'
-local threads = {}
-function setup(thread)
-    table.insert(threads, thread)
-end
 function init(args)
     counts = {}
     no_retry_after = 0
