@@ -75,6 +75,9 @@ store_hits() { curl -fs "$base/metrics" | awk '/^residue_answer_cache_hits_total
 hits_before="$(store_hits)"
 measured distinct -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base"
 hits_after="$(store_hits)"
+if ((hits_after > hits_before)); then
+    echo "load: WARNING: $((hits_after - hits_before)) distinct schedules came from the answer store: the distinct rate below is not a computed rate" >&2
+fi
 h="$(rate "$work/healthz.txt")"
 s="$(rate "$work/schedule.txt")"
 u="$(rate "$work/distinct.txt")"
