@@ -55,10 +55,17 @@ grep -q '/floor/schedule' "$tree/distinct-floor.lua"
 rate() {
     wrk -t2 -c"$connections" -d"${seconds}s" "$@" | awk '/Requests\/sec/ {printf "%.0f", $2}'
 }
-for _ in $(seq 1 "$rounds"); do
+store_hits() { curl -fs "http://$addr/metrics" | awk '/^residue_answer_cache_hits_total/ {print $2}'; }
+# Each round asks for loans of its own (the wrk script's argument), so no answer
+# of an earlier round comes back from the store.
+for round in $(seq 1 "$rounds"); do
     h="$(rate "http://$addr/healthz")"
-    s="$(rate -s scripts/distinct-schedules.lua "http://$addr")"
-    f="$(rate -s "$tree/distinct-floor.lua" "http://$addr")"
+    hits="$(store_hits)"
+    s="$(rate -s scripts/distinct-schedules.lua "http://$addr" -- "$round")"
+    f="$(rate -s "$tree/distinct-floor.lua" "http://$addr" -- "$round")"
+    if (($(store_hits) > hits)); then
+        echo "floor-experiment: WARNING: distinct schedules came from the answer store in round $round" >&2
+    fi
     c="$(rate "http://$addr/api/v1/loans/schedule?principal=100000.07&annual_rate_percent=6&term_months=360")"
     awk -v h="$h" -v s="$s" -v f="$f" -v c="$c" 'BEGIN {
         printf "/healthz %6d/s; computed schedules %6d/s (%4.1f %%); rows only %6d/s (%4.1f %%); stored %6d/s (%4.1f %%)\n",

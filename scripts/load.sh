@@ -73,7 +73,7 @@ measured schedule -t2 -c32 -d"$duration" --latency "$schedule"
 # max_in_flight at once; the rest get 503 (counted apart).
 store_hits() { curl -fs "$base/metrics" | awk '/^residue_answer_cache_hits_total/ {print $2}'; }
 hits_before="$(store_hits)"
-measured distinct -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base"
+measured distinct -t2 -c16 -d"$duration" -s scripts/distinct-schedules.lua "$base" -- 0
 hits_after="$(store_hits)"
 if ((hits_after > hits_before)); then
     echo "load: WARNING: $((hits_after - hits_before)) distinct schedules came from the answer store: the distinct rate below is not a computed rate" >&2
@@ -115,8 +115,11 @@ echo
 echo "== saturation sweep of distinct schedules (wrk -t2, 3 s each) =="
 best=0
 best_c=1
+run=1
 for c in 2 4 8 16 32; do
-    wrk -t2 -c"$c" -d3s -s scripts/distinct-schedules.lua "$base" >"$work/sweep.txt"
+    # Each run of the sweep asks for loans of its own (the script's argument).
+    wrk -t2 -c"$c" -d3s -s scripts/distinct-schedules.lua "$base" -- "$run" >"$work/sweep.txt"
+    run=$((run + 1))
     r="$(rate "$work/sweep.txt")"
     echo "c=$c: $r requests/s"
     if awk -v r="$r" -v b="$best" 'BEGIN {exit !(r > 1.05 * b)}'; then
@@ -130,7 +133,9 @@ echo "saturating concurrency: $best_c ($best requests/s); overload at $overload"
 
 cp scripts/distinct-schedules.lua "$work/count.lua"
 cat >>"$work/count.lua" <<'EOF'
+local start = init
 function init(args)
+    start(args)
     counts = {}
     no_retry_after = 0
 end
@@ -166,7 +171,7 @@ rss_max=0
     done
 ) >"$work/rss.txt" &
 sampler=$!
-wrk -t2 -c"$overload" -d"$duration" --latency -s "$work/count.lua" "$base" >"$work/overload.txt"
+wrk -t2 -c"$overload" -d"$duration" --latency -s "$work/count.lua" "$base" -- "$run" >"$work/overload.txt"
 kill "$sampler" 2>/dev/null || true
 wait "$sampler" 2>/dev/null || true
 rss_max="$(sort -n "$work/rss.txt" | tail -1)"

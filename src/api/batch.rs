@@ -529,7 +529,7 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         }
         let closing = if stalled {
             Some((
-                ProblemKind::Timeout,
+                ProblemKind::BodyTimeout,
                 format!(
                     "no data for {} s after line {lines}: the batch stops here",
                     idle_timeout.as_secs_f64()

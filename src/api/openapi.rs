@@ -871,11 +871,16 @@ fn responses(op: &Operation) -> Value {
         Answer::Prometheus => json!({"text/plain": {"schema": {"type": "string"}}}),
         Answer::OpenApi => json!({"application/json": {"schema": {"type": "object"}}}),
     };
+    let mut ok = json!({"description": "The answer", "content": content});
+    if matches!(op.answer, Answer::JsonOrCsv(_) | Answer::Csv) {
+        // A line of text in the file would be imported as a row of the table.
+        ok["headers"] = json!({crate::api::handlers::CAUTION_HEADER: {
+            "description": "With a CSV answer: the caution (estimates, not an offer, disclosure or advice) that a JSON answer leads its notes with",
+            "schema": {"type": "string"}
+        }});
+    }
     let mut r = Map::new();
-    r.insert(
-        "200".into(),
-        json!({"description": "The answer", "content": content}),
-    );
+    r.insert("200".into(), ok);
     if op.request.is_some() {
         r.insert(
             "400".into(),
@@ -886,10 +891,14 @@ fn responses(op: &Operation) -> Value {
             }),
         );
         if op.method == "post" {
-            r.insert(
-                "408".into(),
-                problem_response("The body did not arrive whole within the request timeout"),
-            );
+            // A batch has answered 200 before its body ends: a stalled upload
+            // ends its stream with a body-timeout line instead.
+            if op.answer != Answer::Ndjson {
+                r.insert(
+                    "408".into(),
+                    problem_response("The body did not arrive whole within the request timeout"),
+                );
+            }
             r.insert("413".into(), problem_response("The body is too large"));
             r.insert(
                 "415".into(),

@@ -57,7 +57,7 @@ pub fn problem_words(kind: ProblemKind) -> &'static str {
         ProblemKind::NotAcceptable => "No representation matches the Accept header (406). Ask for `application/json` or, where a table is offered as CSV, `text/csv` (or leave Accept out).",
         ProblemKind::Overloaded => "More requests are being computed than the server allows at once (`--max-in-flight`). Retry after the `Retry-After` seconds.",
         ProblemKind::Timeout => "The request took longer than the server's limit (`--request-timeout-secs`). Retry after the `Retry-After` seconds, or ask for less.",
-        ProblemKind::BodyTimeout => "The request's body did not arrive whole within the server's limit (`--request-timeout-secs`): the client paused or sent it too slowly (408). Nothing was computed. Send the body whole, at once, and try again.",
+        ProblemKind::BodyTimeout => "The request's body did not arrive whole within the server's limit (`--request-timeout-secs`): the client paused or sent it too slowly (408). Nothing was computed. Send the body whole, at once, and try again. A batch has already begun its answer by then: its stream ends with a line holding this problem instead, after the answers to the lines that arrived.",
         ProblemKind::Internal => "Something went wrong inside the service. The answer says no more than that; the server's log has the request id (`x-request-id`).",
     }
 }

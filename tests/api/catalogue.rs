@@ -791,7 +791,7 @@ fn a_connection_that_sends_nothing_is_closed_within_a_bounded_time() {
 }
 
 #[test]
-fn stalled_batch_uploads_end_with_a_timeout_line_and_free_the_batch_permits() {
+fn stalled_batch_uploads_end_with_a_body_timeout_line_and_free_the_batch_permits() {
     // Arrange: two batches (the most that run at once) stall after one line.
     let app = app_with_timeout(1);
     let first = ndjson(&[job(1, "loan_schedule", good_loan())]);
@@ -826,7 +826,7 @@ fn stalled_batch_uploads_end_with_a_timeout_line_and_free_the_batch_permits() {
             "the answered line, then the closing problem"
         );
         assert_eq!(lines[0]["ok"], true);
-        assert_eq!(lines[1]["problem"]["type"], "/api#problem-timeout");
+        assert_eq!(lines[1]["problem"]["type"], "/api#problem-body-timeout");
     }
     assert_eq!(after.status, 200, "a new batch runs: {}", after.text());
     assert_eq!(after.text().lines().count(), 1);

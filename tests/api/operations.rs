@@ -98,6 +98,15 @@ fn a_configured_origin_may_read_answers_and_others_may_not() {
         allowed.header("access-control-allow-origin"),
         Some("https://desk.example")
     );
+    let exposed: Vec<&str> = allowed
+        .header("access-control-expose-headers")
+        .unwrap_or("")
+        .split(',')
+        .map(str::trim)
+        .collect();
+    for name in ["etag", "retry-after", "x-request-id", "residue-caution"] {
+        assert!(exposed.contains(&name), "{name} not in {exposed:?}");
+    }
     let other = app.get_with(SCHEDULE_GET, &[("Origin", "https://elsewhere.example")]);
     assert!(other.header("access-control-allow-origin").is_none());
 
