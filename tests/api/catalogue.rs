@@ -615,6 +615,17 @@ fn open_post(app: &TestApp, path: &str, ct: &str, length: usize) -> TcpStream {
     s
 }
 
+/// Asserts a 408 body-timeout problem: the client's pause, so no Retry-After.
+fn assert_body_timeout(r: &Response) {
+    assert_eq!(r.status, 408, "{}", String::from_utf8_lossy(&r.body));
+    let p: Value = serde_json::from_slice(&r.body).unwrap();
+    assert_eq!(p["type"], "/api#problem-body-timeout");
+    assert!(
+        r.header("retry-after").is_none(),
+        "the client's pause, not the server's load"
+    );
+}
+
 /// Asserts other requests are answered promptly while a slow client is connected.
 fn assert_others_answered(app: &TestApp) {
     let started = Instant::now();
@@ -646,13 +657,7 @@ fn a_client_that_stalls_mid_body_is_answered_408_within_the_timeout() {
         "answered after {:?}",
         started.elapsed()
     );
-    assert_eq!(r.status, 408, "{}", String::from_utf8_lossy(&r.body));
-    let p: Value = serde_json::from_slice(&r.body).unwrap();
-    assert_eq!(p["type"], "/api#problem-body-timeout");
-    assert!(
-        r.header("retry-after").is_none(),
-        "the client's pause, not the server's load"
-    );
+    assert_body_timeout(&r);
     assert_still_healthy(&app);
 }
 
@@ -685,13 +690,7 @@ fn a_client_that_trickles_its_body_is_cut_off_at_the_timeout() {
         "answered after {:?} (write refused early: {answered_early})",
         started.elapsed()
     );
-    assert_eq!(r.status, 408, "{}", String::from_utf8_lossy(&r.body));
-    let p: Value = serde_json::from_slice(&r.body).unwrap();
-    assert_eq!(p["type"], "/api#problem-body-timeout");
-    assert!(
-        r.header("retry-after").is_none(),
-        "the client's pause, not the server's load"
-    );
+    assert_body_timeout(&r);
     assert_still_healthy(&app);
 }
 
