@@ -67,8 +67,9 @@ use super::handlers::{json_answer, query_pairs, JsonBody};
 use super::json::Json;
 use super::problem::{ApiError, FieldError};
 use crate::engine::apr::{
-    apr_from_dates, apr_from_dates_with_unit, solve_apr, solve_aprc, AprcTimeBasis, DatedFlow,
-    PaymentSeries, UnitFlow, UnitPeriod, UnitPeriodRule, MAX_UNIT_PERIODS,
+    apr_from_dates, apr_from_dates_with_unit, solve_apr, solve_aprc_with, AprcTimeBasis,
+    AprcTimeChoice, DatedFlow, PaymentSeries, UnitFlow, UnitPeriod, UnitPeriodRule,
+    MAX_UNIT_PERIODS,
 };
 use crate::engine::disclosure::TOOL_NOT_OPINION;
 use crate::engine::loan::MAX_PAYMENTS;
@@ -172,6 +173,8 @@ pub struct AprRequest {
     pub unit_period: Option<UnitPeriod>,
     pub advances: Vec<RequestedFlow>,
     pub payments: Vec<RequestedFlow>,
+    /// How the EU APRC counts time in years (`time_basis`; default `auto`).
+    pub time_basis: AprcTimeChoice,
     /// Read from a query string (errors name parameters, not pointers).
     pub from_query: bool,
 }
@@ -557,8 +560,17 @@ fn read_json_list(
     flows
 }
 
-/// Reads `method`, `currency` and `unit_period`, shared by both sources.
-fn read_common(f: &mut Fields<'_>) -> (Option<Method>, Option<Currency>, Option<UnitPeriod>) {
+/// `method`, `currency`, `unit_period` and `time_basis` as read.
+struct Common {
+    method: Option<Method>,
+    currency: Option<Currency>,
+    unit_period: Option<UnitPeriod>,
+    /// None when not given (or given wrong, with its error recorded).
+    time_basis: Option<AprcTimeChoice>,
+}
+
+/// Reads `method`, `currency`, `unit_period` and `time_basis`, shared by both sources.
+fn read_common(f: &mut Fields<'_>) -> Common {
     let method = if f.has("method") {
         f.choice(
             "method",
@@ -611,8 +623,17 @@ fn read_common(f: &mut Fields<'_>) -> (Option<Method>, Option<Currency>, Option<
             }
         }
     };
-    (method, currency, unit_period)
+    let time_basis = f.choice("time_basis", AprcTimeChoice::parse, &TIME_BASES);
+    Common {
+        method,
+        currency,
+        unit_period,
+        time_basis,
+    }
 }
+
+/// The names `time_basis` takes.
+const TIME_BASES: [&str; 4] = ["auto", "days", "weeks", "equal_months"];
 
 /// Reads the JSON body of `POST /api/v1/apr`.
 ///
@@ -629,7 +650,8 @@ pub fn read_json(body: &Json) -> Result<AprRequest, ApiError> {
         members,
         pointer: "",
     });
-    let (method, currency, unit_period) = read_common(&mut f);
+    let common = read_common(&mut f);
+    let currency = common.currency;
     let mut errors = Vec::new();
     let list_currency = currency.unwrap_or(Currency::USD);
     let advances = read_json_list(&mut f, "advances", list_currency, &mut errors);
@@ -639,15 +661,7 @@ pub fn read_json(body: &Json) -> Result<AprRequest, ApiError> {
         all.extend(e);
     }
     all.extend(errors);
-    finish_request(
-        all,
-        method,
-        currency,
-        unit_period,
-        advances,
-        payments,
-        false,
-    )
+    finish_request(all, common, advances, payments, false)
 }
 
 // ---------------------------------------------------------------------------
@@ -757,7 +771,8 @@ pub fn read_query(pairs: &[(String, String)]) -> Result<AprRequest, ApiError> {
     let flow_pairs = pairs.iter().filter(|(k, _)| is_flow(k));
     let rest: Vec<(String, String)> = pairs.iter().filter(|(k, _)| !is_flow(k)).cloned().collect();
     let mut f = Fields::new(Source::Query(&rest));
-    let (method, currency, unit_period) = read_common(&mut f);
+    let common = read_common(&mut f);
+    let currency = common.currency;
     let list_currency = currency.unwrap_or(Currency::USD);
     let mut errors = Vec::new();
     let (mut advances, mut payments) = (Vec::new(), Vec::new());
@@ -810,23 +825,26 @@ pub fn read_query(pairs: &[(String, String)]) -> Result<AprRequest, ApiError> {
         }
     }
     all.extend(errors);
-    finish_request(all, method, currency, unit_period, advances, payments, true)
+    finish_request(all, common, advances, payments, true)
 }
 
 // ---------------------------------------------------------------------------
 // Checks across fields
 // ---------------------------------------------------------------------------
 
-#[allow(clippy::too_many_arguments)]
 fn finish_request(
     mut errors: Vec<FieldError>,
-    method: Option<Method>,
-    currency: Option<Currency>,
-    unit_period: Option<UnitPeriod>,
+    common: Common,
     advances: Vec<RequestedFlow>,
     payments: Vec<RequestedFlow>,
     from_query: bool,
 ) -> Result<AprRequest, ApiError> {
+    let Common {
+        method,
+        currency,
+        unit_period,
+        time_basis,
+    } = common;
     let (Some(method), Some(currency)) = (method, currency) else {
         return Err(ApiError::fields(errors));
     };
@@ -865,6 +883,11 @@ fn finish_request(
                 message: "is not used by eu_aprc, which counts time in years".into(),
             });
         }
+    } else if time_basis.is_some() {
+        errors.push(FieldError {
+            pointer: top("time_basis"),
+            message: "is used only by method=eu_aprc; us_actuarial counts unit-periods".into(),
+        });
     }
     if !unit_form && errors.is_empty() {
         let dated_count: usize = all()
@@ -901,6 +924,7 @@ fn finish_request(
         unit_period,
         advances,
         payments,
+        time_basis: time_basis.unwrap_or_default(),
         from_query,
     })
 }
@@ -1111,7 +1135,8 @@ pub fn answer(req: &AprRequest) -> Result<AprAnswer, ApiError> {
     if req.method == Method::EuAprc {
         let drawdowns = lay_out(&req.advances)?;
         let repayments = lay_out(&req.payments)?;
-        let r = solve_aprc(&drawdowns, &repayments).map_err(|e| engine_error(e, q))?;
+        let r = solve_aprc_with(&drawdowns, &repayments, req.time_basis)
+            .map_err(|e| engine_error(e, q))?;
         let flows = dated_flows(&drawdowns, &repayments, c, |k, i| {
             let years = if k == "advance" {
                 r.drawdowns[i].years
@@ -1120,17 +1145,21 @@ pub fn answer(req: &AprRequest) -> Result<AprAnswer, ApiError> {
             };
             (None, None, None, Some(full(years)))
         });
-        let basis = match r.time_basis {
-            AprcTimeBasis::EqualMonths => "equal_months",
-            AprcTimeBasis::Weeks => "weeks",
-            AprcTimeBasis::Days => "days",
+        let basis = r.time_basis.name();
+        let chosen = match req.time_basis {
+            AprcTimeChoice::Auto => match r.time_basis {
+                AprcTimeBasis::EqualMonths => "time_basis auto: every flow falls on a monthly anniversary of the first drawdown, so",
+                AprcTimeBasis::Weeks => "time_basis auto: every flow falls a whole number of weeks after the first drawdown, so",
+                AprcTimeBasis::Days => "time_basis auto: the flows fall neither on monthly anniversaries nor whole weeks after the first drawdown, so",
+            },
+            AprcTimeChoice::Basis(_) => "time_basis chosen by the request:",
         };
         notes.push(format!(
-            "EU APRC (Directive 2008/48/EC Annex I): Σ drawdowns (1 + X)^(−t) = Σ repayments (1 + X)^(−s), times in years from the first drawdown counted in {} (remark (c), Residue's reading); rounded to one decimal, halves up (remark (d)).",
+            "EU APRC (Directive 2008/48/EC Annex I): Σ drawdowns (1 + X)^(−t) = Σ repayments (1 + X)^(−s), times in years from the first drawdown; {chosen} counted in {} (remark (c)). Residue's reading of the counting rule: whole periods are counted back from each flow's date towards the first drawdown, and the days left are divided by the days (365 or 366) of the complete year counted back from the last of them. Rounded to one decimal, halves up (remark (d)).",
             match r.time_basis {
-                AprcTimeBasis::EqualMonths => "equal months (months ÷ 12)",
-                AprcTimeBasis::Weeks => "weeks (weeks ÷ 52)",
-                AprcTimeBasis::Days => "days (÷ 365, or 366 in a year holding 29 February)",
+                AprcTimeBasis::EqualMonths => "equal months (months ÷ 12, plus days left)",
+                AprcTimeBasis::Weeks => "weeks (weeks ÷ 52, plus days left)",
+                AprcTimeBasis::Days => "days (whole years, plus days left ÷ 365 or 366)",
             }
         ));
         return Ok(AprAnswer {

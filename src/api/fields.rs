@@ -126,7 +126,7 @@ impl<'a> Fields<'a> {
         match parse_decimal(text, self.lenient) {
             Ok(d) => Some(d),
             Err(message) => {
-                self.error(name, message);
+                self.error(name, with_example(message, name));
                 None
             }
         }
@@ -185,6 +185,19 @@ impl<'a> Fields<'a> {
         rust_decimal::prelude::ToPrimitive::to_u32(&d)
     }
 
+    /// A whole number of something whose range the engine states (terms): an error
+    /// here says only what kind of value it must be, so the field has one range
+    /// message, the engine's. Beyond u32 it is read as u32::MAX, which is out of
+    /// every such range.
+    pub fn whole(&mut self, name: &'static str, example: &str) -> Option<u32> {
+        let d = self.decimal(name)?;
+        if d.fract() != Decimal::ZERO || d.is_sign_negative() && !d.is_zero() {
+            self.error(name, format!("must be a whole number, e.g. {example}"));
+            return None;
+        }
+        Some(rust_decimal::prelude::ToPrimitive::to_u32(&d).unwrap_or(u32::MAX))
+    }
+
     /// One of a fixed set of names.
     pub fn choice<T>(
         &mut self,
@@ -240,6 +253,40 @@ impl<'a> Fields<'a> {
             Err(self.errors)
         }
     }
+}
+
+/// An example value of the field's own kind: a percentage for a rate, a whole
+/// number for a count, an amount of money otherwise.
+pub fn example_for(name: &str) -> &'static str {
+    if name.contains("percent") || name.contains("rate") {
+        "6.5"
+    } else if name.starts_with("term_")
+        || name.ends_with("_payments")
+        || name.ends_with("_periods")
+        || name.starts_with("days")
+        || name == "count"
+        || name == "periods"
+    {
+        "360"
+    } else {
+        MONEY_EXAMPLE
+    }
+}
+
+/// The example [`parse_decimal`] gives, an amount of money.
+const MONEY_EXAMPLE: &str = "1250.50";
+
+/// `message` from [`parse_decimal`] with its example replaced by one of the
+/// field's own kind ([`example_for`]).
+pub fn with_example(message: String, name: &str) -> String {
+    let example = example_for(name);
+    if example == MONEY_EXAMPLE {
+        return message;
+    }
+    message.replace(
+        &format!("e.g. {MONEY_EXAMPLE},"),
+        &format!("e.g. {example},"),
+    )
 }
 
 /// Escapes a member name for a JSON Pointer (RFC 6901: ~ as ~0, / as ~1).
@@ -325,7 +372,7 @@ pub fn parse_decimal(text: &str, lenient: bool) -> Result<Decimal, String> {
             return Err("must be a finite number".into());
         }
         return Err(format!(
-            "must be a number written with digits, e.g. 1250.50, not \"{}\"",
+            "must be a number written with digits, e.g. {MONEY_EXAMPLE}, not \"{}\"",
             shorten(text)
         ));
     }

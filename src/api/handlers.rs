@@ -46,16 +46,78 @@ impl FromRequest<AppState> for JsonBody {
             ));
         }
         let limit = state.config.max_body_bytes;
-        let bytes = axum::body::to_bytes(req.into_body(), limit)
-            .await
-            .map_err(|_| {
-                ApiError::new(
-                    ProblemKind::TooLarge,
-                    format!("the body may be at most {limit} bytes"),
-                )
-            })?;
+        let bytes = read_body(req, limit).await?;
         parse_object(&bytes).map(JsonBody)
     }
+}
+
+/// The most bytes past the limit read and thrown away before a 413 is answered.
+pub const DRAIN_BYTES: usize = 16 * 1024 * 1024;
+/// The longest time spent throwing away a body past the limit.
+pub const DRAIN_TIME: std::time::Duration = std::time::Duration::from_secs(5);
+
+/// Reads a body of at most `limit` bytes.
+///
+/// A body past the limit is answered 413. Many clients write the whole body before
+/// they read any answer (they do not send `Expect: 100-continue`); closing the
+/// connection under them would leave them a broken pipe instead of the problem.
+/// So the rest is read and thrown away, up to [`DRAIN_BYTES`] and [`DRAIN_TIME`],
+/// before the 413 goes out with `Connection: close`. A client that asked for
+/// `100-continue`, or whose `Content-Length` is beyond what would be drained, is
+/// answered at once.
+///
+/// # Errors
+/// 413 past the limit; 400 for a body that is not valid HTTP framing (a bad chunk).
+pub async fn read_body(req: Request, limit: usize) -> Result<Bytes, ApiError> {
+    use futures_util::StreamExt;
+    let waits_for_continue = req
+        .headers()
+        .get(header::EXPECT)
+        .is_some_and(|v| v.as_bytes().eq_ignore_ascii_case(b"100-continue"));
+    let declared = req
+        .headers()
+        .get(header::CONTENT_LENGTH)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.parse::<u64>().ok());
+    let too_large = || {
+        ApiError::new(
+            ProblemKind::TooLarge,
+            format!("the body may be at most {limit} bytes"),
+        )
+    };
+    let malformed = || {
+        ApiError::new(
+            ProblemKind::MalformedJson,
+            "the body could not be read: its HTTP framing is malformed (a bad chunk size or an early end)",
+        )
+    };
+    if declared.is_some_and(|n| n > limit as u64)
+        && (waits_for_continue || declared.is_some_and(|n| n > (limit + DRAIN_BYTES) as u64))
+    {
+        return Err(too_large());
+    }
+    let mut stream = req.into_body().into_data_stream();
+    let mut body = Vec::new();
+    while let Some(chunk) = stream.next().await {
+        let chunk = chunk.map_err(|_| malformed())?;
+        if body.len() + chunk.len() > limit {
+            if !waits_for_continue {
+                let mut drained = body.len() + chunk.len();
+                let _ = tokio::time::timeout(DRAIN_TIME, async {
+                    while let Some(Ok(c)) = stream.next().await {
+                        drained += c.len();
+                        if drained > limit + DRAIN_BYTES {
+                            break;
+                        }
+                    }
+                })
+                .await;
+            }
+            return Err(too_large());
+        }
+        body.extend_from_slice(&chunk);
+    }
+    Ok(Bytes::from(body))
 }
 
 /// Parses a body that must be a JSON object.

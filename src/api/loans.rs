@@ -13,7 +13,10 @@ use crate::engine::loan::MAX_PAYMENTS;
 use crate::engine::money::{AmountText, Currency, InterestRounding, PaymentRounding};
 use crate::engine::plan::{Extra, OddDaysInterest, PlanOptions, RateChange, RateChangeKeeps};
 use crate::engine::rate::{AnnualRate, Frequency};
-use crate::engine::schedule::{payments_in_months, LoanSchedule, LoanTerm, LoanTerms};
+use crate::engine::schedule::{
+    check_payment, check_payment_count, check_principal, payments_in_months, LoanSchedule,
+    LoanTerm, LoanTerms,
+};
 
 const PAYMENT_FREQUENCIES: [&str; 7] = [
     "annual",
@@ -104,8 +107,8 @@ pub fn read_loan_terms(f: &mut Fields<'_>) -> Option<LoanTerms> {
         },
         &["half_up", "half_even"],
     );
-    let months = f.count("term_months", 100_000);
-    let payments = f.count("term_payments", 100_000);
+    let months = f.whole("term_months", "360");
+    let payments = f.whole("term_payments", "360");
     let payment = f.decimal("payment");
     let given = [
         f.has("term_months"),
@@ -113,18 +116,6 @@ pub fn read_loan_terms(f: &mut Fields<'_>) -> Option<LoanTerms> {
         f.has("payment"),
     ];
     let count = given.iter().filter(|g| **g).count();
-    if count == 0 {
-        f.error(
-            "term_months",
-            "give one of term_months, term_payments or payment (the other is solved)",
-        );
-    } else if count > 1 {
-        let name = if given[2] { "payment" } else { "term_payments" };
-        f.error(
-            name,
-            "give only one of term_months, term_payments and payment: the other is solved",
-        );
-    }
     if principal.is_none() && !f.errors.iter().any(|e| e.pointer.ends_with("principal")) {
         f.error("principal", "is required");
     }
@@ -143,6 +134,38 @@ pub fn read_loan_terms(f: &mut Fields<'_>) -> Option<LoanTerms> {
             None
         }
     });
+    // Each field's own range, so that every bad field is named at once; the
+    // rules across fields come after.
+    let amounts_in = currency.unwrap_or(Currency::USD);
+    let in_range = |f: &mut Fields<'_>, r: crate::engine::Result<()>| match r {
+        Ok(()) => true,
+        Err(e) => {
+            f.error(e.field.unwrap_or("principal"), e.message);
+            false
+        }
+    };
+    let principal = principal.filter(|p| in_range(f, check_principal(*p, amounts_in)));
+    let months = months.filter(|m| match payment_frequency {
+        Some(frequency) => in_range(f, payments_in_months(*m, frequency).map(|_| ())),
+        None => true,
+    });
+    let payments = payments.filter(|n| in_range(f, check_payment_count(*n, "term_payments")));
+    let payment = payment.filter(|p| in_range(f, check_payment(*p, amounts_in)));
+    // The rule across fields, once each field alone is valid.
+    if f.errors.is_empty() {
+        if count == 0 {
+            f.error(
+                "term_months",
+                "give one of term_months, term_payments or payment (the other is solved)",
+            );
+        } else if count > 1 {
+            let name = if given[2] { "payment" } else { "term_payments" };
+            f.error(
+                name,
+                "give only one of term_months, term_payments and payment: the other is solved",
+            );
+        }
+    }
     let (Some(currency), Some(principal), Some(rate), Some(payment_frequency)) =
         (currency, principal, rate, payment_frequency)
     else {
@@ -677,7 +700,14 @@ pub fn read_plan_options(
     if let Some(d) = f.choice(
         "day_count",
         DayCount::parse,
-        &["actual_365", "actual_360", "thirty_360"],
+        &[
+            "actual_365",
+            "actual_360",
+            "thirty_360_bond_basis",
+            "thirty_360_us",
+            "thirty_e_360",
+            "thirty_360 (read as thirty_360_bond_basis)",
+        ],
     ) {
         o.day_count = d;
     }

@@ -80,7 +80,15 @@ pub mod request {
         HalfEven,
     }
 
-    /// Day count of the odd first period (default `actual_365`).
+    /// Day count of the odd first period (default `actual_365`): `actual_365` and
+    /// `actual_360` count actual days and divide by 365 or 360; the 30/360 rules count
+    /// 30-day months and divide by 360, differing at month ends (D1, D2 the days of
+    /// the month of the start and end): `thirty_360_bond_basis` (ISDA 2006 4.16(f):
+    /// D1 31 becomes 30; D2 31 becomes 30 when D1 is then 30), `thirty_360_us` (SIA:
+    /// when D1 is February's last day it becomes 30, and D2 too when it is also
+    /// February's last day; then D2 31 becomes 30 when D1 is 30 or 31; then D1 31
+    /// becomes 30), `thirty_e_360` (ISDA 4.16(g): every 31st becomes 30).
+    /// `thirty_360` is an alias of `thirty_360_bond_basis`.
     #[derive(ToSchema)]
     #[schema(rename_all = "snake_case")]
     pub enum DayCount {
@@ -88,6 +96,12 @@ pub mod request {
         Actual365,
         #[schema(rename = "actual_360")]
         Actual360,
+        #[schema(rename = "thirty_360_bond_basis")]
+        Thirty360BondBasis,
+        #[schema(rename = "thirty_360_us")]
+        Thirty360Us,
+        #[schema(rename = "thirty_e_360")]
+        ThirtyE360,
         #[schema(rename = "thirty_360")]
         Thirty360,
     }
@@ -303,10 +317,30 @@ pub mod request {
         pub fraction: Option<serde_json::Value>,
     }
 
+    /// How `eu_aprc` counts time in years (Directive 2008/48/EC Annex I remark (c)):
+    /// `days` (whole years plus days left ÷ 365 or 366), `weeks` (weeks ÷ 52), or
+    /// `equal_months` (months ÷ 12). Whatever is not a whole number of periods is
+    /// counted as whole periods back from each flow's date towards the first drawdown
+    /// plus the days left, divided by the days (365 or 366) of the complete year
+    /// counted back from the last of them (Residue's reading of the Annex). `auto`
+    /// (the default) takes equal months when every flow falls on a monthly
+    /// anniversary of the first drawdown, else weeks when every flow falls a whole
+    /// number of weeks after it, else days.
+    #[derive(ToSchema)]
+    #[schema(rename_all = "snake_case")]
+    pub enum AprcTimeBasis {
+        Auto,
+        Days,
+        Weeks,
+        EqualMonths,
+    }
+
     /// An APR request: the advances and the payments of the loan.
     #[derive(ToSchema)]
     pub struct AprRequest {
         pub method: Option<AprMethod>,
+        /// Only with `method` `eu_aprc`.
+        pub time_basis: Option<AprcTimeBasis>,
         pub currency: Option<CurrencyCode>,
         /// `month`, `semimonth`, `quarter`, `year`, `week`, `day`, "2 weeks", or
         /// `{"weeks": n}`, `{"months": n}`, `{"days": n}`.
@@ -322,6 +356,8 @@ pub mod request {
     #[derive(ToSchema)]
     pub struct AprQuery {
         pub method: Option<AprMethod>,
+        /// Only with `method` `eu_aprc`.
+        pub time_basis: Option<AprcTimeBasis>,
         pub currency: Option<CurrencyCode>,
         /// `month`, `2 weeks`, `255days`, …
         pub unit_period: Option<String>,

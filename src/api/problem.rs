@@ -243,6 +243,11 @@ impl IntoResponse for ApiError {
         if matches!(self.kind, ProblemKind::Overloaded | ProblemKind::Timeout) {
             headers.insert(header::RETRY_AFTER, HeaderValue::from_static("1"));
         }
+        if self.kind == ProblemKind::TooLarge {
+            // The rest of an oversized body is not read: the connection cannot carry
+            // another request.
+            headers.insert(header::CONNECTION, HeaderValue::from_static("close"));
+        }
         // For the metrics middleware: which problem this was.
         response.extensions_mut().insert(self.kind);
         response

@@ -39,6 +39,7 @@ use jiff::Span;
 use rust_decimal::prelude::{FromPrimitive, ToPrimitive};
 use rust_decimal::{Decimal, MathematicalOps, RoundingStrategy};
 
+use super::calendar::{self, add_months};
 use super::error::{EngineError, OrOverflow, Result};
 use super::loan::MAX_PAYMENTS;
 use super::rate::Frequency;
@@ -872,10 +873,6 @@ fn solve_falling(
 // Dates: month arithmetic with the month-end rules of (b)(3)
 // ---------------------------------------------------------------------------
 
-fn calendar_error(field: &'static str) -> EngineError {
-    EngineError::out_of_range(field, "a date leaves the calendar (years −9999 to 9999)")
-}
-
 /// `later − earlier` in days (may be negative).
 fn days_between(earlier: Date, later: Date) -> i64 {
     i64::from((later - earlier).get_days())
@@ -883,26 +880,6 @@ fn days_between(earlier: Date, later: Date) -> i64 {
 
 fn is_month_end(d: Date) -> bool {
     d.day() == d.days_in_month()
-}
-
-/// The month `delta` months from (year, month).
-fn shift_month(year: i16, month: i8, delta: i64, field: &'static str) -> Result<(i16, i8)> {
-    let index = i64::from(year) * 12 + i64::from(month) - 1 + delta;
-    let y = i16::try_from(index.div_euclid(12)).map_err(|_| calendar_error(field))?;
-    let m = i8::try_from(index.rem_euclid(12) + 1).map_err(|_| calendar_error(field))?;
-    Ok((y, m))
-}
-
-/// Day `day` of a month, or its last day when the month is shorter.
-fn day_in_month(year: i16, month: i8, day: i8, field: &'static str) -> Result<Date> {
-    let first = Date::new(year, month, 1).map_err(|_| calendar_error(field))?;
-    Date::new(year, month, day.min(first.days_in_month())).map_err(|_| calendar_error(field))
-}
-
-/// The day `date` + `months` months on day `anchor` (clamped to the month's last day).
-fn add_months(date: Date, months: i64, anchor: i8, field: &'static str) -> Result<Date> {
-    let (y, m) = shift_month(date.year(), date.month(), months, field)?;
-    day_in_month(y, m, anchor, field)
 }
 
 /// Full months counted back from `later` towards `earlier` (Appendix J (b)(5)(ii)),
@@ -1062,43 +1039,7 @@ impl PaymentSeries {
                 format!("a payment series must have 1 to {MAX_PAYMENTS} payments"),
             ));
         }
-        let first = self.first_date;
-        let months_apart = match self.frequency {
-            Frequency::Monthly => Some(1),
-            Frequency::Quarterly => Some(3),
-            Frequency::Semiannual => Some(6),
-            Frequency::Annual => Some(12),
-            _ => None,
-        };
-        let days_apart = match self.frequency {
-            Frequency::Weekly => Some(7),
-            Frequency::Biweekly => Some(14),
-            Frequency::Daily => Some(1),
-            _ => None,
-        };
-        let mut dates = Vec::with_capacity(self.count as usize);
-        for k in 0..i64::from(self.count) {
-            let date = if let Some(step) = months_apart {
-                add_months(first, k * step, first.day(), field)?
-            } else if let Some(step) = days_apart {
-                first
-                    .checked_add(Span::new().days(k * step))
-                    .map_err(|_| calendar_error(field))?
-            } else {
-                // Semimonthly.
-                let d = first.day();
-                let (low, high, start_half) = if d <= 15 {
-                    (d, d + 15, 0)
-                } else {
-                    (d - 15, d, 1)
-                };
-                let half = start_half + k;
-                let day = if half % 2 == 0 { low } else { high };
-                add_months(first, half / 2, day, field)?
-            };
-            dates.push(date);
-        }
-        Ok(dates)
+        calendar::dates_named(self.first_date, self.count, self.frequency, field)
     }
 
     /// The payments as dated flows.
@@ -1420,17 +1361,57 @@ pub struct YearFlow {
     pub years: Decimal,
 }
 
-/// How the times from the first drawdown were counted in years (Annex I remark (c):
+/// How the times from the first drawdown are counted in years (Annex I remark (c):
 /// a year has 365 days (366 in leap years), 52 weeks or 12 equal months).
+///
+/// On every basis a time that is not a whole number of its periods is whole
+/// periods counted back from the flow's date towards the first drawdown, plus the
+/// days left ([`years_between`]).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum AprcTimeBasis {
-    /// Every flow falls on a monthly anniversary of the first drawdown: months ÷ 12.
+    /// Whole months ÷ 12 (months counted back with the month-end rules of Appendix J
+    /// (b)(3)), plus any days left.
     EqualMonths,
-    /// Every flow falls a whole number of weeks after the first drawdown: weeks ÷ 52.
+    /// Whole weeks ÷ 52, plus any days left.
     Weeks,
-    /// Otherwise: whole years plus the remaining days ÷ 365, or ÷ 366 when the
-    /// year they fall in contains 29 February.
+    /// Whole years, plus the days left ÷ 365 or 366.
     Days,
+}
+
+impl AprcTimeBasis {
+    /// The name in requests and answers.
+    pub fn name(self) -> &'static str {
+        match self {
+            AprcTimeBasis::EqualMonths => "equal_months",
+            AprcTimeBasis::Weeks => "weeks",
+            AprcTimeBasis::Days => "days",
+        }
+    }
+}
+
+/// The time basis a caller asks for: one of the three, or `auto`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum AprcTimeChoice {
+    /// Equal months when every flow falls on a monthly anniversary of the first
+    /// drawdown (month-end rules of Appendix J (b)(3)); else weeks when every flow
+    /// falls a whole number of weeks after it; else days.
+    #[default]
+    Auto,
+    /// This basis for every flow.
+    Basis(AprcTimeBasis),
+}
+
+impl AprcTimeChoice {
+    /// `auto`, `days`, `weeks` or `equal_months`.
+    pub fn parse(s: &str) -> Option<Self> {
+        match s {
+            "auto" => Some(AprcTimeChoice::Auto),
+            "days" => Some(AprcTimeChoice::Basis(AprcTimeBasis::Days)),
+            "weeks" => Some(AprcTimeChoice::Basis(AprcTimeBasis::Weeks)),
+            "equal_months" => Some(AprcTimeChoice::Basis(AprcTimeBasis::EqualMonths)),
+            _ => None,
+        }
+    }
 }
 
 /// The APRC.
@@ -1613,18 +1594,31 @@ fn aprc_equation_f64(
 /// The APRC of dated drawdowns and repayments (Directive 2008/48/EC Annex I),
 /// times in years from the first drawdown.
 ///
-/// Residue's reading of remark (c) (a year is 365 days, 366 in leap years, 52
-/// weeks or 12 equal months): when every flow falls on a monthly anniversary of
-/// the first drawdown (month-end rules as in Appendix J (b)(3)), times are
-/// months ÷ 12; else when every flow falls a whole number of weeks after it,
-/// weeks ÷ 52; else whole years (anniversaries of the first drawdown, 29 February
-/// falling on 28 February) plus the remaining days ÷ the days of the year that
-/// begins at the last anniversary: 366 when that year contains 29 February,
-/// else 365. The time basis is reported.
+/// Remark (c) lets a year be 365 days (366 in leap years), 52 weeks or 12 equal
+/// months; `choice` picks the basis or leaves it to [`AprcTimeChoice::Auto`]. Times
+/// are counted by [`years_between`]. The time basis is reported.
 ///
 /// # Errors
 /// A flow before the first drawdown, or as [`solve_aprc_years`].
-pub fn solve_aprc(drawdowns: &[DatedFlow], repayments: &[DatedFlow]) -> Result<DatedAprcResult> {
+///
+/// # Example
+/// ```
+/// // Directive 98/7/EC Annex III, first example: 1,000 lent on 1994-01-01 and repaid
+/// // by 1,200 on 1995-07-01 has an APRC of 12.96 % on a days basis.
+/// use residue::engine::apr::{solve_aprc_with, AprcTimeChoice, AprcTimeBasis, DatedFlow};
+/// let flow = |amount: &str, date: &str| DatedFlow { amount: amount.parse().unwrap(), date: date.parse().unwrap() };
+/// let r = solve_aprc_with(
+///     &[flow("1000", "1994-01-01")],
+///     &[flow("1200", "1995-07-01")],
+///     AprcTimeChoice::Basis(AprcTimeBasis::Days),
+/// ).unwrap();
+/// assert_eq!(r.aprc.aprc_percent.round_dp(2).to_string(), "12.96");
+/// ```
+pub fn solve_aprc_with(
+    drawdowns: &[DatedFlow],
+    repayments: &[DatedFlow],
+    choice: AprcTimeChoice,
+) -> Result<DatedAprcResult> {
     let start = drawdowns
         .iter()
         .map(|f| f.date)
@@ -1642,20 +1636,24 @@ pub fn solve_aprc(drawdowns: &[DatedFlow], repayments: &[DatedFlow]) -> Result<D
             "a repayment falls before the first drawdown",
         ));
     }
-    let all = || drawdowns.iter().chain(repayments);
-    let mut monthly = true;
-    let mut weekly = true;
-    for flow in all() {
-        let (_, rest, _) = months_back(start, flow.date, "repayments")?;
-        monthly &= rest == 0;
-        weekly &= days_between(start, flow.date) % 7 == 0;
-    }
-    let basis = if monthly {
-        AprcTimeBasis::EqualMonths
-    } else if weekly {
-        AprcTimeBasis::Weeks
-    } else {
-        AprcTimeBasis::Days
+    let basis = match choice {
+        AprcTimeChoice::Basis(b) => b,
+        AprcTimeChoice::Auto => {
+            let mut monthly = true;
+            let mut weekly = true;
+            for flow in drawdowns.iter().chain(repayments) {
+                let (_, rest, _) = months_back(start, flow.date, "repayments")?;
+                monthly &= rest == 0;
+                weekly &= days_between(start, flow.date) % 7 == 0;
+            }
+            if monthly {
+                AprcTimeBasis::EqualMonths
+            } else if weekly {
+                AprcTimeBasis::Weeks
+            } else {
+                AprcTimeBasis::Days
+            }
+        }
     };
     let place = |flows: &[DatedFlow], field: &'static str| -> Result<Vec<YearFlow>> {
         flows
@@ -1679,7 +1677,26 @@ pub fn solve_aprc(drawdowns: &[DatedFlow], repayments: &[DatedFlow]) -> Result<D
     })
 }
 
-/// Years from `start` to `date` on a time basis (see [`solve_aprc`]).
+/// [`solve_aprc_with`] with the basis chosen by [`AprcTimeChoice::Auto`].
+///
+/// # Errors
+/// As [`solve_aprc_with`].
+pub fn solve_aprc(drawdowns: &[DatedFlow], repayments: &[DatedFlow]) -> Result<DatedAprcResult> {
+    solve_aprc_with(drawdowns, repayments, AprcTimeChoice::Auto)
+}
+
+/// Years from `start` to `date` on a time basis, by the counting rule that follows
+/// remark (c) of Directive 2008/48/EC Annex I (Residue's reading of it):
+///
+/// 1. whole periods of the basis (years for `days`, months for `equal_months`,
+///    weeks for `weeks`) are counted back from `date` towards `start`, reaching the
+///    day B (months and years with the month-end rules of Appendix J (b)(3): from
+///    28 February 2025 one year back is 29 February 2024 when the drawdown was on
+///    the 29th);
+/// 2. the days left, from `start` (excluded) to B (included), are divided by the
+///    days of the complete year counted back from B, "the last day", to the same
+///    day of the previous year: 366 when that year holds a 29 February, else 365;
+/// 3. t = whole periods ÷ (1, 12 or 52) + days left ÷ (365 or 366).
 ///
 /// # Errors
 /// `date` before `start`, or a date off the calendar.
@@ -1701,26 +1718,35 @@ fn years_from(
             "a flow falls before the first drawdown",
         ));
     }
-    Ok(match basis {
+    // Whole periods counted back from `date`, the day B they reach, and the
+    // periods a year.
+    let (whole, per_year, back) = match basis {
         AprcTimeBasis::EqualMonths => {
-            let (months, _, _) = months_back(start, date, field)?;
-            Decimal::from(months) / Decimal::from(12)
+            let (months, _, back) = months_back(start, date, field)?;
+            (i64::from(months), 12, back)
         }
-        AprcTimeBasis::Weeks => Decimal::from(days) / Decimal::from(52 * 7),
+        AprcTimeBasis::Weeks => {
+            let weeks = days / 7;
+            let back = date
+                .checked_sub(Span::new().days(weeks * 7))
+                .map_err(|_| dates_out_of_order(field))?;
+            (weeks, 52, back)
+        }
         AprcTimeBasis::Days => {
-            let anniversary =
-                |years: i64| -> Result<Date> { add_months(start, years * 12, start.day(), field) };
-            let mut years = i64::from(date.year()) - i64::from(start.year());
-            if anniversary(years)? > date {
-                years -= 1;
-            }
-            let from = anniversary(years)?;
-            let year_days = days_between(from, anniversary(years + 1)?);
-            let rest = days_between(from, date);
-            (Decimal::from(years) * Decimal::from(year_days) + Decimal::from(rest))
-                / Decimal::from(year_days)
+            let (months, _, _) = months_back(start, date, field)?;
+            let years = i64::from(months / 12);
+            let back = add_months(date, -12 * years, month_anchor(start, date), field)?;
+            (years, 1, back)
         }
-    })
+    };
+    let rest = days_between(start, back);
+    let mut t = Decimal::from(whole) / Decimal::from(per_year);
+    if rest != 0 {
+        let year_before = add_months(back, -12, back.day(), field)?;
+        let year_days = days_between(year_before, back);
+        t += Decimal::from(rest) / Decimal::from(year_days);
+    }
+    Ok(t)
 }
 
 #[cfg(test)]
@@ -2628,12 +2654,98 @@ mod tests {
             y(date(2023, 6, 1), date(2024, 6, 3)),
             Decimal::from(367) / Decimal::from(365)
         );
+        // The year counted back from 2024-02-01 (2023-02-01 to 2024-02-01) holds no
+        // 29 February: 365, though the days left run up to a leap year
+        // (Directive 2008/48/EC Annex I, the counting rule after remark (c)).
         assert_eq!(
             y(date(2023, 3, 1), date(2024, 2, 1)),
-            Decimal::from(337) / Decimal::from(366)
+            Decimal::from(337) / Decimal::from(365)
+        );
+        // The year counted back from 2024-03-01 holds 29 February 2024: 366.
+        assert_eq!(
+            y(date(2023, 4, 1), date(2024, 3, 1)),
+            Decimal::from(335) / Decimal::from(366)
+        );
+        // Whole years are counted back from the flow's date, the days left at the
+        // start: 2022-12-01 to 2025-03-01 is 2 years (back to 2023-03-01) plus the
+        // 90 days from 2022-12-01, divided by the year 2022-03-01 to 2023-03-01 (365).
+        assert_eq!(
+            y(date(2022, 12, 1), date(2025, 3, 1)),
+            Decimal::from(2) + Decimal::from(90) / Decimal::from(365)
         );
         assert_eq!(y(date(2024, 2, 29), date(2025, 2, 28)), d("1"));
         assert_eq!(y(date(2025, 5, 5), date(2028, 5, 5)), d("3"));
+    }
+
+    #[test]
+    fn the_three_annex_iii_examples_of_98_7_ec_hold_on_the_days_basis() {
+        // Directive 98/7/EC Annex III, examples 1 to 3 (figures as summarised in
+        // REGULATIONS.md): 12.96 %, 16.90 %, 13.07 %, to two decimals of the full figure.
+        let days = AprcTimeChoice::Basis(AprcTimeBasis::Days);
+        let cases: [(&[DatedFlow], &[DatedFlow], &str); 3] = [
+            (
+                &[flow("1000", date(1994, 1, 1))],
+                &[flow("1200", date(1995, 7, 1))],
+                "12.96",
+            ),
+            (
+                &[flow("950", date(1994, 1, 1))],
+                &[flow("1200", date(1995, 7, 1))],
+                "16.90",
+            ),
+            (
+                &[flow("1000", date(1994, 1, 1))],
+                &[flow("600", date(1995, 1, 1)), flow("600", date(1996, 1, 1))],
+                "13.07",
+            ),
+        ];
+        for (drawdowns, repayments, want) in cases {
+            let r = solve_aprc_with(drawdowns, repayments, days).unwrap();
+            assert_eq!(r.time_basis, AprcTimeBasis::Days);
+            assert_eq!(
+                r.aprc
+                    .aprc_percent
+                    .round_dp_with_strategy(2, RoundingStrategy::MidpointAwayFromZero)
+                    .to_string(),
+                want
+            );
+        }
+        // 1995-07-01 is one year and 181 days (of a 365-day year) after 1994-01-01.
+        let r = solve_aprc_with(cases[0].0, cases[0].1, days).unwrap();
+        assert_eq!(
+            r.repayments[0].years,
+            Decimal::ONE + Decimal::from(181) / Decimal::from(365)
+        );
+    }
+
+    #[test]
+    fn a_chosen_time_basis_counts_whole_periods_back_then_days() {
+        let (start, end) = (date(2027, 1, 10), date(2027, 3, 20));
+        // Equal months: 2 months back to 2027-01-20, 10 days left, year 2026-01-20 to
+        // 2027-01-20 (365).
+        assert_eq!(
+            years_between(start, end, AprcTimeBasis::EqualMonths).unwrap(),
+            Decimal::from(2) / Decimal::from(12) + Decimal::from(10) / Decimal::from(365)
+        );
+        // Weeks: 69 days are 9 weeks and 6 days.
+        assert_eq!(
+            years_between(start, end, AprcTimeBasis::Weeks).unwrap(),
+            Decimal::from(9) / Decimal::from(52) + Decimal::from(6) / Decimal::from(365)
+        );
+        let auto = solve_aprc(&[flow("1000", start)], &[flow("1020", end)]).unwrap();
+        assert_eq!(auto.time_basis, AprcTimeBasis::Days);
+        let months = solve_aprc_with(
+            &[flow("1000", start)],
+            &[flow("1020", end)],
+            AprcTimeChoice::Basis(AprcTimeBasis::EqualMonths),
+        )
+        .unwrap();
+        assert_eq!(months.time_basis, AprcTimeBasis::EqualMonths);
+        assert_ne!(months.aprc.annual_rate, auto.aprc.annual_rate);
+        for name in ["auto", "days", "weeks", "equal_months"] {
+            assert!(AprcTimeChoice::parse(name).is_some());
+        }
+        assert_eq!(AprcTimeChoice::parse("months"), None);
     }
 
     #[test]

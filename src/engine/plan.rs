@@ -276,6 +276,9 @@ pub struct Plan {
     /// Odd-days interest (signed: a short first period gives a credit).
     pub odd_days: i64,
     pub odd_days_interest: Decimal,
+    /// The due date one regular period before the first payment, by the rule that
+    /// dates the rows: the odd days run from funding to it.
+    pub regular_period_start: Option<Date>,
     pub prepaid_interest: Decimal,
     pub largest_drift: Option<(Decimal, u32)>,
     pub notes: Vec<String>,
@@ -584,8 +587,10 @@ fn post_inner(
 
     // The odd first period.
     let (mut odd_days, mut odd_interest) = (0i64, Decimal::ZERO);
+    let mut regular_period_start = None;
     if let (Some(funding), Some(first)) = (o.funding_date, o.first_payment_date) {
         let regular_start = period_before(first, terms.payment_frequency)?;
+        regular_period_start = Some(regular_start);
         odd_days = o.day_count.days(funding, regular_start);
         if odd_days != 0 {
             let exact = terms.principal * terms.rate.fraction() * Decimal::from(odd_days)
@@ -823,6 +828,7 @@ fn post_inner(
         balloon,
         odd_days,
         odd_days_interest: odd_interest,
+        regular_period_start,
         prepaid_interest: prepaid,
         largest_drift,
         notes,
@@ -1288,7 +1294,7 @@ mod tests {
         for (count, days, interest) in [
             (DayCount::Actual365, 22, "361.64"),
             (DayCount::Actual360, 22, "366.67"),
-            (DayCount::Thirty360, 21, "350.00"),
+            (DayCount::Thirty360BondBasis, 21, "350.00"),
         ] {
             o.day_count = count;
             let p = post(&t, &o, true).unwrap();

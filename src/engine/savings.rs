@@ -58,7 +58,6 @@
 //! the closed form may be off by more than a hundredth of a minor unit.
 
 use jiff::civil::Date;
-use jiff::Span;
 use rust_decimal::prelude::ToPrimitive;
 use rust_decimal::{Decimal, MathematicalOps, RoundingStrategy};
 
@@ -818,7 +817,7 @@ pub fn periods_in_months(months: u32, frequency: Frequency) -> Result<u32> {
 /// start's day of the month, clamped to shorter months (Jan 31 → Feb 28 → Mar 31);
 /// semimonthly on two days 15 apart (d and d + 15 when d ≤ 15, else d − 15 and d,
 /// clamped); weekly and biweekly by days. These are the rules of
-/// [`super::apr::PaymentSeries::dates`], counted here from any k.
+/// [`super::calendar::due_date`], the one rule that dates every schedule.
 ///
 /// # Errors
 /// A date past the calendar's end (9999-12-31), naming `start_date`.
@@ -832,39 +831,9 @@ pub fn periods_in_months(months: u32, frequency: Frequency) -> Result<u32> {
 /// assert_eq!(period_date(start, Frequency::Monthly, 2).unwrap().to_string(), "2027-03-31");
 /// ```
 pub fn period_date(start: Date, frequency: Frequency, k: u32) -> Result<Date> {
-    let off = || EngineError::out_of_range("start_date", "the plan's dates run past 9999-12-31");
-    let k = i64::from(k);
-    let on_day = |months: i64, day: i8| -> Result<Date> {
-        let index = i64::from(start.year()) * 12 + i64::from(start.month()) - 1 + months;
-        let y = i16::try_from(index.div_euclid(12)).map_err(|_| off())?;
-        // rem_euclid(12) + 1 is 1 to 12: it fits an i8.
-        let m = (index.rem_euclid(12) + 1) as i8;
-        let first = Date::new(y, m, 1).map_err(|_| off())?;
-        Date::new(y, m, day.min(first.days_in_month())).map_err(|_| off())
-    };
-    let by_days = |days: i64| -> Result<Date> {
-        let span = Span::new().try_days(days).map_err(|_| off())?;
-        start.checked_add(span).map_err(|_| off())
-    };
-    match frequency {
-        Frequency::Monthly => on_day(k, start.day()),
-        Frequency::Quarterly => on_day(3 * k, start.day()),
-        Frequency::Semiannual => on_day(6 * k, start.day()),
-        Frequency::Annual => on_day(12 * k, start.day()),
-        Frequency::Weekly => by_days(7 * k),
-        Frequency::Biweekly => by_days(14 * k),
-        Frequency::Daily => by_days(k),
-        Frequency::Semimonthly => {
-            let d = start.day();
-            let (low, high, first_half) = if d <= 15 {
-                (d, d + 15, 0)
-            } else {
-                (d - 15, d, 1)
-            };
-            let half = first_half + k;
-            on_day(half / 2, if half % 2 == 0 { low } else { high })
-        }
-    }
+    super::calendar::due_date(start, frequency, i64::from(k), "start_date").map_err(|_| {
+        EngineError::out_of_range("start_date", "the plan's dates run past 9999-12-31")
+    })
 }
 
 impl SavingsTerms {

@@ -88,38 +88,10 @@ impl LoanTerms {
     /// # Errors
     /// Principal out of range, a payment with too many decimals, a term out of range.
     pub fn check(&self) -> Result<()> {
-        if self.principal <= Decimal::ZERO {
-            return Err(EngineError::out_of_range(
-                "principal",
-                "the principal must be more than zero",
-            ));
-        }
-        if self.principal > MAX_PRINCIPAL {
-            return Err(EngineError::out_of_range(
-                "principal",
-                "the principal cannot exceed 1,000,000,000,000",
-            ));
-        }
-        if !self.currency.fits(self.principal) {
-            return Err(EngineError::out_of_range(
-                "principal",
-                too_many_decimals(self.currency),
-            ));
-        }
+        check_principal(self.principal, self.currency)?;
         match self.term {
-            LoanTerm::Payments(n) if n == 0 || n > MAX_PAYMENTS => Err(EngineError::out_of_range(
-                "term_payments",
-                format!("the number of payments must be 1 to {MAX_PAYMENTS}"),
-            )),
-            LoanTerm::Payment(p) if p <= Decimal::ZERO => Err(EngineError::out_of_range(
-                "payment",
-                "the payment must be more than zero",
-            )),
-            LoanTerm::Payment(p) if !self.currency.fits(p) => Err(EngineError::out_of_range(
-                "payment",
-                too_many_decimals(self.currency),
-            )),
-            _ => Ok(()),
+            LoanTerm::Payments(n) => check_payment_count(n, "term_payments"),
+            LoanTerm::Payment(p) => check_payment(p, self.currency),
         }
     }
 
@@ -144,6 +116,67 @@ impl LoanTerms {
             self.compounding.unwrap_or(self.payment_frequency),
         )
     }
+}
+
+/// The principal alone: more than zero, at most 1,000,000,000,000, and in the
+/// currency's minor units.
+///
+/// # Errors
+/// Each out of range, naming `principal`.
+pub fn check_principal(principal: Decimal, currency: Currency) -> Result<()> {
+    if principal <= Decimal::ZERO {
+        return Err(EngineError::out_of_range(
+            "principal",
+            "the principal must be more than zero",
+        ));
+    }
+    if principal > MAX_PRINCIPAL {
+        return Err(EngineError::out_of_range(
+            "principal",
+            "the principal cannot exceed 1,000,000,000,000",
+        ));
+    }
+    if !currency.fits(principal) {
+        return Err(EngineError::out_of_range(
+            "principal",
+            too_many_decimals(currency),
+        ));
+    }
+    Ok(())
+}
+
+/// A number of payments alone: 1 to [`MAX_PAYMENTS`].
+///
+/// # Errors
+/// Out of range, naming `field`.
+pub fn check_payment_count(n: u32, field: &'static str) -> Result<()> {
+    if n == 0 || n > MAX_PAYMENTS {
+        return Err(EngineError::out_of_range(
+            field,
+            format!("the number of payments must be 1 to {MAX_PAYMENTS}"),
+        ));
+    }
+    Ok(())
+}
+
+/// A payment alone: more than zero, in the currency's minor units.
+///
+/// # Errors
+/// Out of range, naming `payment`.
+pub fn check_payment(payment: Decimal, currency: Currency) -> Result<()> {
+    if payment <= Decimal::ZERO {
+        return Err(EngineError::out_of_range(
+            "payment",
+            "the payment must be more than zero",
+        ));
+    }
+    if !currency.fits(payment) {
+        return Err(EngineError::out_of_range(
+            "payment",
+            too_many_decimals(currency),
+        ));
+    }
+    Ok(())
 }
 
 fn too_many_decimals(currency: Currency) -> String {
@@ -232,7 +265,7 @@ fn schedule_inner(
         post_totals(terms, options)?
     };
     let payment = plan.payment;
-    check_payment(payment, currency)?;
+    check_posted_payment(payment, currency)?;
     let derivation = match terms.term {
         LoanTerm::Payments(_) if !reconcile_ledger => None,
         LoanTerm::Payments(n) => {
@@ -368,7 +401,7 @@ fn opening_notes(terms: &LoanTerms) -> Vec<String> {
 }
 
 /// Refuses a payment that rounds to zero.
-fn check_payment(payment: Decimal, currency: Currency) -> Result<()> {
+fn check_posted_payment(payment: Decimal, currency: Currency) -> Result<()> {
     if payment <= Decimal::ZERO {
         return Err(EngineError::no_solution(
             Some("principal"),
@@ -386,6 +419,15 @@ fn odd_days_note(plan: &Plan, options: &PlanOptions, currency: Currency) -> Opti
     if plan.odd_days == 0 {
         return None;
     }
+    // "from funding on F to S, the due date one period before the first payment, by
+    // the day count's rule", so the count can be checked on a calendar.
+    let counted = match (options.funding_date, plan.regular_period_start) {
+        (Some(funding), Some(start)) => format!(
+            "counted from funding on {funding} to {start}, the due date one period before the first payment, {}",
+            options.day_count.describe()
+        ),
+        _ => options.day_count.describe().to_string(),
+    };
     if plan.odd_days < 0 {
         // Funded after the start of the first regular period: that period's
         // interest is charged in full on the balance, and the days before
@@ -395,9 +437,8 @@ fn odd_days_note(plan: &Plan, options: &PlanOptions, currency: Currency) -> Opti
             OddDaysInterest::Prepaid => "credited at closing",
         };
         return Some(format!(
-            "The first period is {} days shorter than a regular one ({}): the first payment's interest is for a full period, and {} of interest for the days before funding is {place}.",
+            "The first period is {} days shorter than a regular one ({counted}): the first payment's interest is for a full period, and {} of interest for the days before funding is {place}.",
             -plan.odd_days,
-            options.day_count.name(),
             currency.format(-plan.odd_days_interest)
         ));
     }
@@ -406,9 +447,8 @@ fn odd_days_note(plan: &Plan, options: &PlanOptions, currency: Currency) -> Opti
         OddDaysInterest::Prepaid => "collected at closing as prepaid interest",
     };
     Some(format!(
-        "The first period is {} days longer than a regular one ({}): {} of interest, {place}.",
+        "The first period is {} days longer than a regular one ({counted}): {} of interest, {place}.",
         plan.odd_days,
-        options.day_count.name(),
         currency.format(plan.odd_days_interest)
     ))
 }
@@ -478,7 +518,7 @@ pub fn scheduled_payments(terms: &LoanTerms, options: &PlanOptions) -> Result<Sc
     terms.check()?;
     let mut notes = opening_notes(terms);
     let plan = post_summary(terms, options)?;
-    check_payment(plan.payment, terms.currency)?;
+    check_posted_payment(plan.payment, terms.currency)?;
     notes.extend(plan.notes.iter().cloned());
     notes.extend(odd_days_note(&plan, options, terms.currency));
     notes.extend(closing_notes(terms, options, &plan));

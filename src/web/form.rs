@@ -52,7 +52,9 @@ const DAY_COUNTS: &[(&str, &str)] = &[
     ("", "Actual days / 365 (default)"),
     ("actual_365", "Actual days / 365"),
     ("actual_360", "Actual days / 360"),
-    ("thirty_360", "30-day months / 360"),
+    ("thirty_360_us", "30-day months / 360, US rule"),
+    ("thirty_360_bond_basis", "30-day months / 360, bond basis"),
+    ("thirty_e_360", "30-day months / 360, European rule"),
 ];
 const ODD_DAYS: &[(&str, &str)] = &[
     ("", "Added to the first payment (default)"),

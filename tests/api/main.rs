@@ -6,6 +6,7 @@
 
 mod batch;
 mod catalogue;
+mod conventions;
 mod disclosure;
 mod errors;
 mod health;

@@ -1,12 +1,12 @@
 #!/usr/bin/env bash
-# Cross-checks a Residue server binary against sympy/scipy references.
+# Cross-checks a Residue server binary against sympy/scipy/QuantLib/numpy-financial references.
 #
 #   bash tests/crosscheck/run.sh target/debug/residue
 #
 # Creates .venv at the repo root if it is missing (pinned requirements), starts
 # the server on 127.0.0.1:18531, waits for GET /healthz to answer 200 (up to
-# 30 s), runs crosscheck.py, csv_roundtrip.py and schemathesis.sh, stops the
-# server and exits 1 if any of them failed.
+# 30 s), runs crosscheck.py, csv_roundtrip.py, conventions.py and
+# schemathesis.sh, stops the server and exits 1 if any of them failed.
 set -euo pipefail
 
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
@@ -79,6 +79,8 @@ status=0
 .venv/bin/python tests/crosscheck/crosscheck.py --base-url "$base" "$@" || status=$?
 # The CSV answers read back with Python's csv module, figure by figure against the JSON.
 .venv/bin/python tests/crosscheck/csv_roundtrip.py --base-url "$base" || status=1
+# Due dates and odd days against QuantLib, payments and balances against numpy-financial.
+.venv/bin/python tests/crosscheck/conventions.py --base-url "$base" || status=1
 # Property-based test generated from /api/openapi.json: no 5xx, every 4xx is problem details.
 bash tests/crosscheck/schemathesis.sh "$base" || status=1
 exit "$status"
