@@ -31,7 +31,9 @@ use super::fields::{Fields, Source};
 use super::handlers::{json_answer, query_pairs, JsonBody};
 use super::json::Json;
 use super::problem::{ApiError, FieldError};
-use crate::engine::apy::{apy_earned, apy_general, apy_of_rate, ApyResult, MAX_DAYS};
+use crate::engine::apy::{
+    apy_earned, apy_general, apy_of_rate, check_balance, check_days, check_interest, ApyResult,
+};
 use crate::engine::money::Currency;
 use crate::engine::rate::Frequency;
 use crate::engine::schedule::CAUTION;
@@ -143,10 +145,13 @@ pub fn read_apy(mut f: Fields<'_>) -> Result<ApyRequest, ApiError> {
             let currency = currency.unwrap_or(Currency::USD);
             request = match *form {
                 0 => {
-                    let principal = money(&mut f, "principal", currency);
-                    let interest = money(&mut f, "interest", currency);
-                    let days = f.count("days", MAX_DAYS);
-                    let days = required(&mut f, "days", days);
+                    let principal = money(&mut f, "principal", currency)
+                        .filter(|v| f.in_range(check_balance(*v, "principal")));
+                    let interest = money(&mut f, "interest", currency)
+                        .filter(|v| f.in_range(check_interest(*v, "interest")));
+                    let days = f.whole("days", "90");
+                    let days = required(&mut f, "days", days)
+                        .filter(|v| f.in_range(check_days(*v, "days")));
                     match (principal, interest, days) {
                         (Some(principal), Some(interest), Some(days)) => {
                             Some(ApyRequest::General {
@@ -174,11 +179,14 @@ pub fn read_apy(mut f: Fields<'_>) -> Result<ApyRequest, ApiError> {
                     }
                 }
                 _ => {
-                    let interest_earned = money(&mut f, "interest_earned", currency);
+                    let interest_earned = money(&mut f, "interest_earned", currency)
+                        .filter(|v| f.in_range(check_interest(*v, "interest_earned")));
                     let balance = f.decimal("average_daily_balance");
-                    let balance = required(&mut f, "average_daily_balance", balance);
-                    let days = f.count("days_in_period", MAX_DAYS);
-                    let days = required(&mut f, "days_in_period", days);
+                    let balance = required(&mut f, "average_daily_balance", balance)
+                        .filter(|v| f.in_range(check_balance(*v, "average_daily_balance")));
+                    let days = f.whole("days_in_period", "30");
+                    let days = required(&mut f, "days_in_period", days)
+                        .filter(|v| f.in_range(check_days(*v, "days_in_period")));
                     match (interest_earned, balance, days) {
                         (Some(interest_earned), Some(average_daily_balance), Some(days_in_period)) => {
                             Some(ApyRequest::Earned {

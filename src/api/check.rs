@@ -252,6 +252,9 @@ pub fn read_check(mut f: Fields<'_>) -> Result<CheckRequest, ApiError> {
         apr_percent: f.decimal("quoted_apr_percent"),
         finance_charge: f.decimal("quoted_finance_charge"),
     };
+    for e in crate::engine::disclosure::quote_problems(&quotes, currency) {
+        f.error(e.field.unwrap_or("quoted_payment"), e.message);
+    }
     let mortgage = if f.has("mortgage") {
         read_bool(&mut f, "mortgage")
     } else {

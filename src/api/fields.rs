@@ -198,6 +198,19 @@ impl<'a> Fields<'a> {
         Some(rust_decimal::prelude::ToPrimitive::to_u32(&d).unwrap_or(u32::MAX))
     }
 
+    /// Records an engine range error on the field it names; true when there is none.
+    /// Readers pass each field's own engine check through it, so that every bad
+    /// field is named at once.
+    pub fn in_range(&mut self, r: crate::engine::Result<()>) -> bool {
+        match r {
+            Ok(()) => true,
+            Err(e) => {
+                self.error(e.field.unwrap_or(""), e.message);
+                false
+            }
+        }
+    }
+
     /// One of a fixed set of names.
     pub fn choice<T>(
         &mut self,

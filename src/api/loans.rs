@@ -137,20 +137,13 @@ pub fn read_loan_terms(f: &mut Fields<'_>) -> Option<LoanTerms> {
     // Each field's own range, so that every bad field is named at once; the
     // rules across fields come after.
     let amounts_in = currency.unwrap_or(Currency::USD);
-    let in_range = |f: &mut Fields<'_>, r: crate::engine::Result<()>| match r {
-        Ok(()) => true,
-        Err(e) => {
-            f.error(e.field.unwrap_or("principal"), e.message);
-            false
-        }
-    };
-    let principal = principal.filter(|p| in_range(f, check_principal(*p, amounts_in)));
+    let principal = principal.filter(|p| f.in_range(check_principal(*p, amounts_in)));
     let months = months.filter(|m| match payment_frequency {
-        Some(frequency) => in_range(f, payments_in_months(*m, frequency).map(|_| ())),
+        Some(frequency) => f.in_range(payments_in_months(*m, frequency).map(|_| ())),
         None => true,
     });
-    let payments = payments.filter(|n| in_range(f, check_payment_count(*n, "term_payments")));
-    let payment = payment.filter(|p| in_range(f, check_payment(*p, amounts_in)));
+    let payments = payments.filter(|n| f.in_range(check_payment_count(*n, "term_payments")));
+    let payment = payment.filter(|p| f.in_range(check_payment(*p, amounts_in)));
     // The rule across fields, once each field alone is valid.
     if f.errors.is_empty() {
         if count == 0 {

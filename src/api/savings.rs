@@ -34,8 +34,8 @@ use super::text::IsoDate;
 use crate::engine::money::{AmountText, Currency};
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::savings::{
-    periods_in_months, plan, Flow, Growth, GrowthEvery, PeriodSearch, Question, SavingsPlan,
-    SavingsTerms, Timing,
+    check_amount, check_periods, periods_in_months, plan, Flow, Growth, GrowthEvery, PeriodSearch,
+    Question, SavingsPlan, SavingsTerms, Timing,
 };
 
 const DEPOSIT_FREQUENCIES: [&str; 7] = [
@@ -141,8 +141,8 @@ pub fn read_savings_terms(f: &mut Fields<'_>) -> Option<SavingsTerms> {
     let step = f.decimal("deposit_step");
     let rate = f.decimal("annual_rate_percent");
     let compounding = f.choice("compounding", Frequency::parse, &COMPOUNDINGS);
-    let months = f.count("term_months", 100_000);
-    let periods = f.count("term_periods", 100_000);
+    let months = f.whole("term_months", "120");
+    let periods = f.whole("term_periods", "120");
     let goal = f.decimal("goal");
     let start_date = match f.text("start_date") {
         None => None,
@@ -155,72 +155,19 @@ pub fn read_savings_terms(f: &mut Fields<'_>) -> Option<SavingsTerms> {
         },
     };
 
-    let has_deposit = f.has("deposit");
-    let has_withdrawal = f.has("withdrawal");
-    let has_months = f.has("term_months");
-    let has_periods = f.has("term_periods");
-    let has_goal = f.has("goal");
-    let has_term = has_months || has_periods;
-    if has_deposit && has_withdrawal {
-        f.error(
-            "withdrawal",
-            "give either deposit or withdrawal, not both: a plan either saves or draws down",
-        );
-    }
-    if has_months && has_periods {
-        f.error(
-            "term_periods",
-            "give only one of term_months and term_periods",
-        );
-    }
-    if f.has("deposit_growth_every") && !f.has("deposit_growth_percent") {
-        f.error(
-            "deposit_growth_every",
-            "has no effect without deposit_growth_percent",
-        );
-    }
-    let combination_ok = match (has_deposit, has_withdrawal, has_term, has_goal) {
-        (true, true, _, _) => false,
-        (true, false, true, true) => {
-            f.error(
-                "goal",
-                "with a deposit give a term (to find the final balance) or a goal (to find when it is reached), not both",
-            );
-            false
-        }
-        (true, false, false, false) => {
-            f.error(
-                "term_months",
-                "give term_months or term_periods (to find the final balance) or goal (to find when it is reached)",
-            );
-            false
-        }
-        (false, true, _, true) => {
-            f.error(
-                "goal",
-                "a goal is for deposits: with a withdrawal give a term (to find the final balance) or nothing more (to find how many withdrawals the balance supports)",
-            );
-            false
-        }
-        (false, false, false, true) => {
-            f.error(
-                "deposit",
-                "with a goal give a deposit (to find when the goal is reached) or a term (to find the deposit that reaches it)",
-            );
-            false
-        }
-        (false, false, false, false) => {
-            f.error(
-                "deposit",
-                "give a deposit or a withdrawal with a term or a goal; or a term and a goal (to find the deposit); or a term alone (to find the withdrawal that exhausts the opening balance)",
-            );
-            false
-        }
-        _ => true,
-    };
-    if rate.is_none() && present_without_error(f, "annual_rate_percent") {
-        f.error("annual_rate_percent", "is required");
-    }
+    // Each field's own range first, so that every bad field is named at once; the
+    // rules across fields only once each field alone is valid.
+    let amounts_in = currency.unwrap_or(Currency::USD);
+    let opening = opening.filter(|v| f.in_range(check_amount("opening_balance", *v, amounts_in)));
+    let deposit = deposit.filter(|v| f.in_range(check_amount("deposit", *v, amounts_in)));
+    let withdrawal = withdrawal.filter(|v| f.in_range(check_amount("withdrawal", *v, amounts_in)));
+    let goal = goal.filter(|v| f.in_range(check_amount("goal", *v, amounts_in)));
+    let step = step.filter(|v| f.in_range(check_amount("deposit_step", *v, amounts_in)));
+    let months = months.filter(|m| match frequency {
+        Some(frequency) => f.in_range(periods_in_months(*m, frequency).map(|_| ())),
+        None => true,
+    });
+    let periods = periods.filter(|n| f.in_range(check_periods(*n, "term_periods")));
     let rate = rate.and_then(|r| match AnnualRate::from_percent(r) {
         Ok(r) => Some(r),
         Err(e) => {
@@ -228,6 +175,25 @@ pub fn read_savings_terms(f: &mut Fields<'_>) -> Option<SavingsTerms> {
             None
         }
     });
+    let fields_ok = f.errors.is_empty();
+
+    let has_deposit = f.has("deposit");
+    let has_withdrawal = f.has("withdrawal");
+    let has_months = f.has("term_months");
+    let has_periods = f.has("term_periods");
+    let has_goal = f.has("goal");
+    let combination_ok = !fields_ok
+        || cross_field_rules(
+            f,
+            has_deposit,
+            has_withdrawal,
+            has_months,
+            has_periods,
+            has_goal,
+        );
+    if rate.is_none() && present_without_error(f, "annual_rate_percent") {
+        f.error("annual_rate_percent", "is required");
+    }
     let (Some(currency), Some(rate), Some(frequency)) = (currency, rate, frequency) else {
         return None;
     };
@@ -282,6 +248,76 @@ pub fn read_savings_terms(f: &mut Fields<'_>) -> Option<SavingsTerms> {
         f.error(e.field.unwrap_or(""), e.message.clone());
     }
     problems.is_empty().then_some(terms)
+}
+
+/// The rules across the savings fields (which combination asks which question),
+/// recorded in `f`; true when the combination is one Residue answers.
+fn cross_field_rules(
+    f: &mut Fields<'_>,
+    has_deposit: bool,
+    has_withdrawal: bool,
+    has_months: bool,
+    has_periods: bool,
+    has_goal: bool,
+) -> bool {
+    let has_term = has_months || has_periods;
+    if has_deposit && has_withdrawal {
+        f.error(
+            "withdrawal",
+            "give either deposit or withdrawal, not both: a plan either saves or draws down",
+        );
+    }
+    if has_months && has_periods {
+        f.error(
+            "term_periods",
+            "give only one of term_months and term_periods",
+        );
+    }
+    if f.has("deposit_growth_every") && !f.has("deposit_growth_percent") {
+        f.error(
+            "deposit_growth_every",
+            "has no effect without deposit_growth_percent",
+        );
+    }
+    match (has_deposit, has_withdrawal, has_term, has_goal) {
+        (true, true, _, _) => false,
+        (true, false, true, true) => {
+            f.error(
+                "goal",
+                "with a deposit give a term (to find the final balance) or a goal (to find when it is reached), not both",
+            );
+            false
+        }
+        (true, false, false, false) => {
+            f.error(
+                "term_months",
+                "give term_months or term_periods (to find the final balance) or goal (to find when it is reached)",
+            );
+            false
+        }
+        (false, true, _, true) => {
+            f.error(
+                "goal",
+                "a goal is for deposits: with a withdrawal give a term (to find the final balance) or nothing more (to find how many withdrawals the balance supports)",
+            );
+            false
+        }
+        (false, false, false, true) => {
+            f.error(
+                "deposit",
+                "with a goal give a deposit (to find when the goal is reached) or a term (to find the deposit that reaches it)",
+            );
+            false
+        }
+        (false, false, false, false) => {
+            f.error(
+                "deposit",
+                "give a deposit or a withdrawal with a term or a goal; or a term and a goal (to find the deposit); or a term alone (to find the withdrawal that exhausts the opening balance)",
+            );
+            false
+        }
+        _ => true,
+    }
 }
 
 /// Turns fields into terms, or into one problem naming every bad field.

@@ -109,6 +109,48 @@ pub fn apy_of_rate(annual_rate_percent: Decimal, compounding_per_year: u32) -> R
     Ok(ApyResult::new(apy))
 }
 
+/// A balance (principal or average daily balance) alone: more than zero.
+///
+/// # Errors
+/// Zero or less, naming `field`.
+pub fn check_balance(base: Decimal, field: &'static str) -> Result<()> {
+    if base <= Decimal::ZERO {
+        return Err(EngineError::out_of_range(
+            field,
+            "the balance must be more than zero",
+        ));
+    }
+    Ok(())
+}
+
+/// Interest alone: not negative.
+///
+/// # Errors
+/// Negative, naming `field`.
+pub fn check_interest(interest: Decimal, field: &'static str) -> Result<()> {
+    if interest.is_sign_negative() && !interest.is_zero() {
+        return Err(EngineError::out_of_range(
+            field,
+            "the interest cannot be negative",
+        ));
+    }
+    Ok(())
+}
+
+/// A number of days alone: 1 to [`MAX_DAYS`].
+///
+/// # Errors
+/// Out of range, naming `field`.
+pub fn check_days(days: u32, field: &'static str) -> Result<()> {
+    if days == 0 || days > MAX_DAYS {
+        return Err(EngineError::out_of_range(
+            field,
+            format!("the number of days must be 1 to {MAX_DAYS}"),
+        ));
+    }
+    Ok(())
+}
+
 /// interest / base, after checking both.
 fn interest_ratio(
     interest: Decimal,
@@ -116,18 +158,8 @@ fn interest_ratio(
     interest_field: &'static str,
     base_field: &'static str,
 ) -> Result<Decimal> {
-    if base <= Decimal::ZERO {
-        return Err(EngineError::out_of_range(
-            base_field,
-            "the balance must be more than zero",
-        ));
-    }
-    if interest.is_sign_negative() && !interest.is_zero() {
-        return Err(EngineError::out_of_range(
-            interest_field,
-            "the interest cannot be negative",
-        ));
-    }
+    check_balance(base, base_field)?;
+    check_interest(interest, interest_field)?;
     interest
         .checked_div(base)
         .or_overflow("the interest per unit of balance")
@@ -135,12 +167,7 @@ fn interest_ratio(
 
 /// 100 [(1 + ratio)^(365/days) − 1], exactly 100·ratio when days = 365.
 fn annualize(ratio: Decimal, days: u32, days_field: &'static str) -> Result<ApyResult> {
-    if days == 0 || days > MAX_DAYS {
-        return Err(EngineError::out_of_range(
-            days_field,
-            format!("the number of days must be 1 to {MAX_DAYS}"),
-        ));
-    }
+    check_days(days, days_field)?;
     let what = "the annualized yield";
     if days == 365 {
         // Appendix A, Part I.A: for a 365-day term, APY = 100 (Interest/Principal).

@@ -571,6 +571,51 @@ pub fn check_loan(
     check_loan_with(terms, &PlanOptions::default(), prepaid, quotes, mortgage)
 }
 
+/// Each quoted figure alone: a payment more than zero, a finance charge not
+/// negative (both in the currency's minor units), an APR not negative.
+pub fn quote_problems(quotes: &Quotes, currency: Currency) -> Vec<EngineError> {
+    let mut out = Vec::new();
+    let money_field =
+        |field: &'static str, value: Decimal, positive: bool| -> Option<EngineError> {
+            if value.is_sign_negative() && !value.is_zero() || positive && value.is_zero() {
+                return Some(EngineError::out_of_range(
+                    field,
+                    if positive {
+                        "must be more than zero"
+                    } else {
+                        "cannot be negative"
+                    },
+                ));
+            }
+            if !currency.fits(value) {
+                return Some(EngineError::out_of_range(
+                    field,
+                    format!(
+                        "{} amounts have at most {} decimals",
+                        currency.code(),
+                        currency.minor_units()
+                    ),
+                ));
+            }
+            None
+        };
+    if let Some(p) = quotes.payment {
+        out.extend(money_field("quoted_payment", p, true));
+    }
+    if let Some(fc) = quotes.finance_charge {
+        out.extend(money_field("quoted_finance_charge", fc, false));
+    }
+    if let Some(a) = quotes.apr_percent {
+        if a.is_sign_negative() && !a.is_zero() {
+            out.push(EngineError::out_of_range(
+                "quoted_apr_percent",
+                "cannot be negative",
+            ));
+        }
+    }
+    out
+}
+
 /// As [`check_loan`], for a loan with plan options: a funding date and a first
 /// payment date (an odd first period, its interest added to the first payment or
 /// prepaid at closing), an interest-only start, a balloon, rate steps. Extra
@@ -592,42 +637,8 @@ pub fn check_loan_with(
         ));
     }
     let currency = terms.currency;
-    let money_field = |field: &'static str, value: Decimal, positive: bool| -> Result<()> {
-        if value.is_sign_negative() && !value.is_zero() || positive && value.is_zero() {
-            return Err(EngineError::out_of_range(
-                field,
-                if positive {
-                    "must be more than zero"
-                } else {
-                    "cannot be negative"
-                },
-            ));
-        }
-        if !currency.fits(value) {
-            return Err(EngineError::out_of_range(
-                field,
-                format!(
-                    "{} amounts have at most {} decimals",
-                    currency.code(),
-                    currency.minor_units()
-                ),
-            ));
-        }
-        Ok(())
-    };
-    if let Some(p) = quotes.payment {
-        money_field("quoted_payment", p, true)?;
-    }
-    if let Some(fc) = quotes.finance_charge {
-        money_field("quoted_finance_charge", fc, false)?;
-    }
-    if let Some(a) = quotes.apr_percent {
-        if a.is_sign_negative() && !a.is_zero() {
-            return Err(EngineError::out_of_range(
-                "quoted_apr_percent",
-                "cannot be negative",
-            ));
-        }
+    if let Some(e) = quote_problems(quotes, currency).into_iter().next() {
+        return Err(e);
     }
     for charge in prepaid {
         if !currency.fits(charge.amount) {

@@ -882,24 +882,10 @@ impl SavingsTerms {
         let mut out = Vec::new();
         let c = self.currency;
         let amount = |field: &'static str, v: Decimal, out: &mut Vec<EngineError>| {
-            if v.is_sign_negative() && !v.is_zero() {
-                out.push(EngineError::out_of_range(field, "cannot be negative"));
-            } else if v > MAX_AMOUNT {
-                out.push(EngineError::out_of_range(
-                    field,
-                    "cannot exceed 1,000,000,000,000",
-                ));
-            } else if !c.fits(v) {
-                out.push(EngineError::out_of_range(field, too_many_decimals(c)));
-            }
+            out.extend(check_amount(field, v, c).err());
         };
         let term = |periods: u32, out: &mut Vec<EngineError>| {
-            if periods == 0 || periods > MAX_PERIODS {
-                out.push(EngineError::out_of_range(
-                    "term_periods",
-                    format!("the term must be 1 to {MAX_PERIODS} periods"),
-                ));
-            }
+            out.extend(check_periods(periods, "term_periods").err());
         };
         amount("opening_balance", self.opening_balance, &mut out);
         match self.question {
@@ -987,6 +973,43 @@ impl SavingsTerms {
             None => Ok(()),
         }
     }
+}
+
+/// An amount of a savings plan alone (a balance, deposit, withdrawal, goal or
+/// step): not negative, at most 1,000,000,000,000, in the currency's minor units.
+///
+/// # Errors
+/// Out of range, naming `field`.
+pub fn check_amount(field: &'static str, v: Decimal, currency: Currency) -> Result<()> {
+    if v.is_sign_negative() && !v.is_zero() {
+        Err(EngineError::out_of_range(field, "cannot be negative"))
+    } else if v > MAX_AMOUNT {
+        Err(EngineError::out_of_range(
+            field,
+            "cannot exceed 1,000,000,000,000",
+        ))
+    } else if !currency.fits(v) {
+        Err(EngineError::out_of_range(
+            field,
+            too_many_decimals(currency),
+        ))
+    } else {
+        Ok(())
+    }
+}
+
+/// A savings term in periods alone: 1 to [`MAX_PERIODS`].
+///
+/// # Errors
+/// Out of range, naming `field`.
+pub fn check_periods(periods: u32, field: &'static str) -> Result<()> {
+    if periods == 0 || periods > MAX_PERIODS {
+        return Err(EngineError::out_of_range(
+            field,
+            format!("the term must be 1 to {MAX_PERIODS} periods"),
+        ));
+    }
+    Ok(())
 }
 
 /// Overflow of a balance means a balance far beyond any goal or far below zero:

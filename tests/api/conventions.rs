@@ -326,3 +326,32 @@ fn a_body_declared_far_beyond_the_limit_or_waiting_for_continue_is_refused_at_on
         assert_problem(&r, 413, "too-large");
     }
 }
+
+#[test]
+fn the_savings_check_and_apy_operations_name_every_bad_field_at_once_too() {
+    let app = spawn_app();
+    for (path, query, mut want) in [
+        (
+            "/api/v1/savings/plan",
+            "deposit=-5&annual_rate_percent=x&term_months=0&opening_balance=-3",
+            vec!["annual_rate_percent", "deposit", "opening_balance", "term_months"],
+        ),
+        (
+            "/api/v1/loans/check",
+            "principal=-5&annual_rate_percent=5&term_months=12&quoted_payment=-1&quoted_apr_percent=-2",
+            vec!["principal", "quoted_apr_percent", "quoted_payment"],
+        ),
+        (
+            "/api/v1/apy",
+            "principal=-5&interest=-3&days=0",
+            vec!["days", "interest", "principal"],
+        ),
+    ] {
+        let r = app.get(&format!("{path}?{query}"));
+        let p = assert_problem(&r, 422, "invalid-fields");
+        let mut named = pointers(&p);
+        named.sort();
+        want.sort();
+        assert_eq!(named, want, "{path}?{query}: {p}");
+    }
+}
