@@ -37,17 +37,32 @@ struct Args {
         value_delimiter = ','
     )]
     cors_origins: Vec<String>,
+    /// After SIGTERM, seconds during which /readyz answers 503 while the server
+    /// still accepts and answers; then it stops accepting and drains.
+    #[arg(long, env = "RESIDUE_SHUTDOWN_DELAY_SECS", default_value_t = 0)]
+    shutdown_delay_secs: u64,
+    /// Log lines as `text` (colours only on a terminal) or `json`, one object a
+    /// line, for log collectors.
+    #[arg(long, env = "RESIDUE_LOG_FORMAT", default_value = "text", value_parser = ["text", "json"])]
+    log_format: String,
 }
 
 #[tokio::main]
 async fn main() -> std::io::Result<()> {
-    tracing_subscriber::fmt()
-        .with_env_filter(
-            tracing_subscriber::EnvFilter::try_from_env("RESIDUE_LOG")
-                .unwrap_or_else(|_| "info".into()),
-        )
-        .init();
+    use std::io::IsTerminal;
     let args = Args::parse();
+    let filter = tracing_subscriber::EnvFilter::try_from_env("RESIDUE_LOG")
+        .unwrap_or_else(|_| "info".into());
+    let logs = tracing_subscriber::fmt().with_env_filter(filter);
+    if args.log_format == "json" {
+        logs.json()
+            .flatten_event(true)
+            .with_current_span(false)
+            .with_ansi(false)
+            .init();
+    } else {
+        logs.with_ansi(std::io::stdout().is_terminal()).init();
+    }
     let config = Config {
         addr: args.addr,
         max_body_bytes: args.max_body_bytes,
@@ -61,6 +76,7 @@ async fn main() -> std::io::Result<()> {
             .map(|o| o.trim().trim_end_matches('/').to_string())
             .filter(|o| !o.is_empty())
             .collect(),
+        shutdown_delay: Duration::from_secs(args.shutdown_delay_secs),
     };
     let (listener, local) = bind(config.addr).await?;
     tracing::info!("residue listening on http://{local}");

@@ -1,7 +1,7 @@
 //! The router, its middleware (limits, timeouts, headers, logs) and graceful shutdown.
 
 use std::net::SocketAddr;
-use std::sync::atomic::{AtomicU64, AtomicU8, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicU64, AtomicU8, Ordering};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
 
@@ -36,6 +36,9 @@ pub struct Config {
     pub answer_cache_bytes: usize,
     /// Origins allowed to read answers from a browser (CORS); empty: none, `*`: any.
     pub cors_origins: Vec<String>,
+    /// After SIGTERM, how long `/readyz` answers 503 while the listener still
+    /// accepts and answers, before it closes and the requests in flight drain.
+    pub shutdown_delay: Duration,
 }
 
 impl Default for Config {
@@ -48,6 +51,7 @@ impl Default for Config {
             header_read_timeout: Duration::from_secs(10),
             answer_cache_bytes: 32 * 1024 * 1024,
             cors_origins: Vec::new(),
+            shutdown_delay: Duration::ZERO,
         }
     }
 }
@@ -62,6 +66,8 @@ pub struct AppState {
     pub metrics: Arc<crate::metrics::Metrics>,
     pub cache: Arc<AnswerCache>,
     next_request_id: Arc<AtomicU64>,
+    /// False from the moment a shutdown signal arrives: `/readyz` then answers 503.
+    pub ready: Arc<AtomicBool>,
 }
 
 impl AppState {
@@ -75,6 +81,7 @@ impl AppState {
             batches: Arc::new(Semaphore::new(2)),
             metrics: Arc::new(crate::metrics::Metrics::default()),
             next_request_id: Arc::new(AtomicU64::new(1)),
+            ready: Arc::new(AtomicBool::new(true)),
         }
     }
 }
@@ -128,6 +135,7 @@ pub fn app(state: AppState) -> Router {
         // Outside the in-flight limit: batches have their own, health and metrics none.
         .route("/api/v1/batch", post(crate::api::batch::batch_post))
         .route("/healthz", get(handlers::healthz))
+        .route("/readyz", get(handlers::readyz))
         .route("/metrics", get(metrics))
         // Last, so that it covers every route above.
         .method_not_allowed_fallback(method_not_allowed);
@@ -338,17 +346,36 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
             )
             .into_response()
         }
-        Ok(Err(_)) => ApiError::new(
-            ProblemKind::Timeout,
-            format!(
-                "the request took longer than {} s",
-                state.config.request_timeout.as_secs_f64()
-            ),
-        )
-        .into_response(),
-        Err(_) => ApiError::new(ProblemKind::Internal, "the request could not be computed")
+        Ok(Err(_)) => with_cause(
+            ApiError::new(
+                ProblemKind::Timeout,
+                format!(
+                    "the request took longer than {} s",
+                    state.config.request_timeout.as_secs_f64()
+                ),
+            )
             .into_response(),
+            format!(
+                "the computation was still running after {:?}",
+                state.config.request_timeout
+            ),
+        ),
+        Err(e) => with_cause(
+            ApiError::new(ProblemKind::Internal, "the request could not be computed")
+                .into_response(),
+            format!("the computing thread failed: {e}"),
+        ),
     }
+}
+
+/// The internal cause of a 5xx or a timeout, kept for the request's log line and
+/// never sent to the client.
+#[derive(Debug, Clone)]
+pub struct Cause(pub String);
+
+fn with_cause(mut response: Response, cause: String) -> Response {
+    response.extensions_mut().insert(Cause(cause));
+    response
 }
 
 /// Where a request's body is: not asked for yet, being read, or read to its end.
@@ -436,13 +463,22 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
     }
     let status = response.status().as_u16();
     state.metrics.record(&route, status, started.elapsed());
-    if let Some(kind) = response.extensions().get::<ProblemKind>() {
+    let problem = response.extensions().get::<ProblemKind>().copied();
+    if let Some(kind) = problem {
         state.metrics.record_problem(kind.slug());
     }
-    if status >= 500 {
-        tracing::warn!(request_id = id, %method, path, status, micros = started.elapsed().as_micros() as u64, "request");
-    } else {
-        tracing::info!(request_id = id, %method, path, status, micros = started.elapsed().as_micros() as u64, "request");
+    let problem = problem.map_or("", ProblemKind::slug);
+    let micros = started.elapsed().as_micros() as u64;
+    match response.extensions().get::<Cause>() {
+        Some(Cause(cause)) => {
+            tracing::warn!(request_id = id, %method, path, route, status, micros, problem, cause, "request");
+        }
+        None if status >= 500 => {
+            tracing::warn!(request_id = id, %method, path, route, status, micros, problem, "request");
+        }
+        None => {
+            tracing::info!(request_id = id, %method, path, route, status, micros, problem, "request");
+        }
     }
     response
 }
@@ -515,9 +551,26 @@ pub async fn serve(listener: TcpListener, config: Config) -> std::io::Result<()>
 
     let header_timeout = config.header_read_timeout;
     let drain_limit = config.request_timeout + config.header_read_timeout;
-    let app = app(AppState::new(config));
+    let delay = config.shutdown_delay;
+    let state = AppState::new(config);
+    let ready = state.ready.clone();
+    let app = app(state);
     let graceful = hyper_util::server::graceful::GracefulShutdown::new();
-    let mut shutdown = std::pin::pin!(shutdown_signal());
+    // On the signal, unready at once; keep accepting and answering for the delay
+    // (a load balancer's checks or an endpoint update move traffic away); then
+    // stop accepting and drain.
+    let mut shutdown = std::pin::pin!(async move {
+        shutdown_signal().await;
+        ready.store(false, Ordering::Release);
+        if !delay.is_zero() {
+            tracing::info!(
+                delay_secs = delay.as_secs_f64(),
+                "shutdown: unready, still answering for the delay"
+            );
+            tokio::time::sleep(delay).await;
+        }
+        tracing::info!("shutting down: finishing requests in flight");
+    });
     loop {
         let (stream, _peer) = tokio::select! {
             accepted = listener.accept() => match accepted {
@@ -577,7 +630,6 @@ async fn shutdown_signal() {
         () = ctrl_c => {},
         () = term => {},
     }
-    tracing::info!("shutting down: finishing requests in flight");
 }
 
 #[cfg(test)]

@@ -434,9 +434,22 @@ pub async fn recurrence_post(JsonBody(body): JsonBody) -> Result<Response, ApiEr
     Ok(json_answer(&recurrence::answer(&r, &ks)?))
 }
 
-/// `GET /healthz`
+/// `GET /healthz`: the process is alive (200 until it exits).
 pub async fn healthz(State(_): State<AppState>) -> Response {
     json_answer(&serde_json::json!({"status": "ok"}))
+}
+
+/// `GET /readyz`: 200 while the server takes new work; 503 from the moment a
+/// shutdown signal arrives, so that load balancers move traffic away while the
+/// requests in flight finish.
+pub async fn readyz(State(state): State<AppState>) -> Response {
+    if state.ready.load(std::sync::atomic::Ordering::Acquire) {
+        json_answer(&serde_json::json!({"status": "ready"}))
+    } else {
+        let mut r = json_answer(&serde_json::json!({"status": "shutting down"}));
+        *r.status_mut() = axum::http::StatusCode::SERVICE_UNAVAILABLE;
+        r
+    }
 }
 
 #[cfg(test)]

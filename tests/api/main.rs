@@ -14,6 +14,7 @@ mod helpers;
 mod openapi;
 mod operations;
 mod plans;
+mod readiness;
 mod recurrence;
 mod savings;
 mod schedule;
