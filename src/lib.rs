@@ -5,6 +5,7 @@
 //! - [`api`]: the JSON and CSV interface over the engine.
 //! - [`web`]: the HTML pages over the same engine results.
 //! - [`server`]: router, middleware and shutdown.
+//! - [`weight`]: the in-flight limit weighed by a request's expected work.
 
 pub mod api;
 pub mod cache;
@@ -12,3 +13,4 @@ pub mod engine;
 pub mod metrics;
 pub mod server;
 pub mod web;
+pub mod weight;

@@ -41,14 +41,64 @@ struct Args {
     /// still accepts and answers; then it stops accepting and drains.
     #[arg(long, env = "RESIDUE_SHUTDOWN_DELAY_SECS", default_value_t = 0)]
     shutdown_delay_secs: u64,
+    /// The address clients reach the service at (e.g. `https://residue.example.org`),
+    /// used in the API guide's examples; by default `http://` and the listen address.
+    #[arg(long, env = "RESIDUE_PUBLIC_URL", value_parser = public_url)]
+    public_url: Option<String>,
     /// Log lines as `text` (colours only on a terminal) or `json`, one object a
     /// line, for log collectors.
     #[arg(long, env = "RESIDUE_LOG_FORMAT", default_value = "text", value_parser = ["text", "json"])]
     log_format: String,
 }
 
-#[tokio::main]
-async fn main() -> std::io::Result<()> {
+/// An `http://` or `https://` address of printable characters without spaces.
+fn public_url(text: &str) -> Result<String, String> {
+    let t = text.trim();
+    let scheme_ok = t.starts_with("http://") || t.starts_with("https://");
+    if scheme_ok && t.len() <= 200 && t.chars().all(|c| c.is_ascii_graphic()) {
+        Ok(t.trim_end_matches('/').to_string())
+    } else {
+        Err("give an http:// or https:// address, e.g. https://residue.example.org".into())
+    }
+}
+
+/// glibc's allocator serves a large answer's buffer from its heaps once it has
+/// freed a mapped one (its mmap threshold grows), and keeps those pages after:
+/// after a batch of maximal schedules the server stayed 60 MB above its start.
+/// With the threshold fixed at 256 KiB, buffers that large are mapped and given
+/// back at once (docs/performance.md has the figures). glibc reads the setting
+/// only at start, so the process sets it and executes itself again, once; an
+/// operator's own `MALLOC_MMAP_THRESHOLD_` or `GLIBC_TUNABLES` is left alone.
+#[cfg(all(target_os = "linux", target_env = "gnu"))]
+fn with_allocator_settings() {
+    use std::os::unix::process::CommandExt;
+    const SETTING: &str = "MALLOC_MMAP_THRESHOLD_";
+    if std::env::var_os(SETTING).is_some() || std::env::var_os("GLIBC_TUNABLES").is_some() {
+        return;
+    }
+    let Ok(me) = std::env::current_exe() else {
+        return;
+    };
+    let error = std::process::Command::new(me)
+        .args(std::env::args_os().skip(1))
+        .env(SETTING, "262144")
+        .exec();
+    // Only reached when the exec failed: go on with the defaults.
+    eprintln!("residue: could not apply the allocator settings ({error}); going on without them");
+}
+
+#[cfg(not(all(target_os = "linux", target_env = "gnu")))]
+fn with_allocator_settings() {}
+
+fn main() -> std::io::Result<()> {
+    with_allocator_settings();
+    tokio::runtime::Builder::new_multi_thread()
+        .enable_all()
+        .build()?
+        .block_on(run())
+}
+
+async fn run() -> std::io::Result<()> {
     use std::io::IsTerminal;
     let args = Args::parse();
     let filter = tracing_subscriber::EnvFilter::try_from_env("RESIDUE_LOG")
@@ -63,7 +113,7 @@ async fn main() -> std::io::Result<()> {
     } else {
         logs.with_ansi(std::io::stdout().is_terminal()).init();
     }
-    let config = Config {
+    let mut config = Config {
         addr: args.addr,
         max_body_bytes: args.max_body_bytes,
         max_in_flight: args.max_in_flight,
@@ -77,8 +127,13 @@ async fn main() -> std::io::Result<()> {
             .filter(|o| !o.is_empty())
             .collect(),
         shutdown_delay: Duration::from_secs(args.shutdown_delay_secs),
+        public_url: args
+            .public_url
+            .map(|u| u.trim().trim_end_matches('/').to_string())
+            .filter(|u| !u.is_empty()),
     };
     let (listener, local) = bind(config.addr).await?;
+    config.addr = local;
     tracing::info!("residue listening on http://{local}");
     serve(listener, config).await
 }

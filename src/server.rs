@@ -39,6 +39,19 @@ pub struct Config {
     /// After SIGTERM, how long `/readyz` answers 503 while the listener still
     /// accepts and answers, before it closes and the requests in flight drain.
     pub shutdown_delay: Duration,
+    /// The address clients reach the service at (`http://host:port`, no trailing
+    /// slash), for the examples of the API guide; `None`: the listen address.
+    /// Never taken from a request's Host header, which any client can set.
+    pub public_url: Option<String>,
+}
+
+impl Config {
+    /// [`Config::public_url`], or `http://` and the listen address.
+    pub fn public_url(&self) -> String {
+        self.public_url
+            .clone()
+            .unwrap_or_else(|| format!("http://{}", self.addr))
+    }
 }
 
 impl Default for Config {
@@ -52,6 +65,7 @@ impl Default for Config {
             answer_cache_bytes: 32 * 1024 * 1024,
             cors_origins: Vec::new(),
             shutdown_delay: Duration::ZERO,
+            public_url: None,
         }
     }
 }
@@ -240,9 +254,16 @@ async fn limit_and_time(State(state): State<AppState>, req: Request, next: Next)
     }
 }
 
-/// The key of a GET answer that may be stored: the address with its query and
-/// the Accept header (CSV can be asked for by Accept). Static files are served
-/// with their own validators and are not stored.
+/// Addresses whose answer reads nothing of the request: their stored answer is
+/// keyed by the path alone, so a query made up by a client cannot add entries.
+const DOCUMENTS: [&str; 4] = ["/", "/about", "/api", "/api/openapi.json"];
+
+/// The key of a GET answer that may be stored: the address with its query (the
+/// path alone for [`DOCUMENTS`]) and the representation the Accept header
+/// chooses (CSV or JSON: an operation's table can be asked for as CSV by
+/// Accept), never the header's own text, so varied headers cannot flush the
+/// store. Nothing else of the request, Host included, shapes an answer. Static
+/// files are served with their own validators and are not stored.
 fn cache_key(state: &AppState, req: &Request) -> Option<String> {
     if !state.cache.enabled()
         || req.method() != Method::GET
@@ -250,16 +271,20 @@ fn cache_key(state: &AppState, req: &Request) -> Option<String> {
     {
         return None;
     }
-    let accept = req
-        .headers()
-        .get(header::ACCEPT)
-        .and_then(|v| v.to_str().ok())
-        .unwrap_or("");
+    let path = req.uri().path();
+    if DOCUMENTS.contains(&path) {
+        return Some(path.to_string());
+    }
+    let representation = if handlers::wants_csv(req.headers()) {
+        "csv"
+    } else {
+        "json"
+    };
     let target = req
         .uri()
         .path_and_query()
         .map_or("/", axum::http::uri::PathAndQuery::as_str);
-    Some(format!("{target}\n{accept}"))
+    Some(format!("{target}\n{representation}"))
 }
 
 /// A stored answer, or 304 when the client already holds it.
@@ -304,6 +329,10 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         .into_response();
     };
     let limit = state.config.request_timeout;
+    let weights = crate::weight::Limit::new(
+        state.in_flight.clone(),
+        u32::try_from(state.config.max_in_flight.max(1)).unwrap_or(u32::MAX),
+    );
     let (req, body) = watch_body(req);
     let inline = req
         .extensions()
@@ -318,11 +347,12 @@ async fn compute(state: &AppState, req: Request, next: Next) -> Response {
         let mut req = req;
         let permit = Arc::new(permit);
         req.extensions_mut().insert(InFlight(permit.clone()));
-        let answer = tokio::time::timeout(limit, next.run(req)).await;
+        let answer =
+            tokio::time::timeout(limit, crate::weight::scoped(weights, next.run(req))).await;
         drop(permit);
         Ok(answer)
     } else {
-        let work = next.run(req);
+        let work = crate::weight::scoped(weights, next.run(req));
         let handle = tokio::runtime::Handle::current();
         tokio::task::spawn_blocking(move || {
             let _permit = permit;

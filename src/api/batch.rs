@@ -163,21 +163,86 @@ fn write_string(out: &mut Vec<u8>, s: &str) {
     }
 }
 
-/// Part of a group of lines, answered on a blocking thread.
+/// Part of a group of lines, answered on a blocking thread that hands its answers
+/// on in chunks through a channel of [`PART_CHUNKS`]: a part whose answers are not
+/// yet wanted (an earlier part is still being sent, or the client reads slowly)
+/// waits with at most that many chunks, so a batch holds its work, not its memory.
 struct InFlight {
-    answers: tokio::task::JoinHandle<Vec<u8>>,
+    /// Chunks of answers with the number of lines each completes.
+    chunks: tokio::sync::mpsc::Receiver<(Vec<u8>, usize)>,
+    done: tokio::task::JoinHandle<()>,
     /// The part's line numbers, for a problem line each should the part fail.
     numbers: Vec<usize>,
+    /// Lines whose answers were sent on.
+    sent: usize,
 }
 
 /// Parts of answers being computed at most, beyond those already finished: with
 /// two parts a group, two groups' worth. Bounds the memory a batch holds.
 const IN_FLIGHT: usize = 4;
 
+/// A part's answers are handed on in chunks of about this many bytes (a chunk
+/// holds whole lines: one line's answer may be longer, up to an answer's size).
+const CHUNK_BYTES: usize = 64 * 1024;
+
+/// Chunks a part may have waiting before its thread waits for them to go out.
+const PART_CHUNKS: usize = 2;
+
+/// The most bytes of answers one batch gives: later lines get a problem line.
+pub const MAX_ANSWER_BYTES: usize = 512 * 1024 * 1024;
+
+/// The longest a batch may compute: later lines get a problem line.
+pub const MAX_BATCH_SECS: u64 = 300;
+
+/// What every part of one batch shares: the bytes answered so far and the
+/// deadline, against the batch's budget.
+#[derive(Clone)]
+struct Budget {
+    answered: std::sync::Arc<std::sync::atomic::AtomicUsize>,
+    deadline: std::time::Instant,
+}
+
+impl Budget {
+    fn new() -> Self {
+        Self {
+            answered: std::sync::Arc::new(std::sync::atomic::AtomicUsize::new(0)),
+            deadline: std::time::Instant::now() + std::time::Duration::from_secs(MAX_BATCH_SECS),
+        }
+    }
+
+    /// The problem of a line past the budget, if it is.
+    fn spent(&self, number: usize) -> Option<ApiError> {
+        use std::sync::atomic::Ordering;
+        if self.answered.load(Ordering::Relaxed) > MAX_ANSWER_BYTES {
+            return Some(ApiError::new(
+                ProblemKind::TooLarge,
+                format!(
+                    "line {number} is not computed: the batch's answers passed {} MiB, the most one batch gives; send the rest as another batch",
+                    MAX_ANSWER_BYTES / (1024 * 1024)
+                ),
+            ));
+        }
+        if std::time::Instant::now() > self.deadline {
+            return Some(ApiError::new(
+                ProblemKind::Timeout,
+                format!(
+                    "line {number} is not computed: the batch has computed for {MAX_BATCH_SECS} s, the most one batch may; send the rest as another batch"
+                ),
+            ));
+        }
+        None
+    }
+}
+
 /// Starts answering the lines `jobs` (start, end, line number) of `text`: in two
 /// parts on blocking threads (one for a handful of lines), so a batch keeps both
 /// cores busy while its next lines are read and its earlier answers written.
-fn dispatch(text: &[u8], jobs: &[(usize, usize, usize)], parts: &mut VecDeque<InFlight>) {
+fn dispatch(
+    text: &[u8],
+    jobs: &[(usize, usize, usize)],
+    parts: &mut VecDeque<InFlight>,
+    budget: &Budget,
+) {
     if jobs.is_empty() {
         return;
     }
@@ -190,42 +255,116 @@ fn dispatch(text: &[u8], jobs: &[(usize, usize, usize)], parts: &mut VecDeque<In
             .map(|(f, t, n)| (f - from, t - from, *n))
             .collect();
         let numbers = chunk.iter().map(|j| j.2).collect();
-        let answers = tokio::task::spawn_blocking(move || {
-            let mut out = Vec::with_capacity(part_jobs.len() * 2304);
+        let (out, chunks) = tokio::sync::mpsc::channel(PART_CHUNKS);
+        let budget = budget.clone();
+        let done = tokio::task::spawn_blocking(move || {
+            let mut buffer = Vec::with_capacity(CHUNK_BYTES + 4096);
+            let mut lines = 0usize;
             for (f, t, n) in &part_jobs {
-                answer_line_into(&mut out, &part_text[*f..*t], *n);
+                let before = buffer.len();
+                match budget.spent(*n) {
+                    Some(problem) => problem_line(&mut buffer, &part_text[*f..*t], &problem),
+                    None => answer_line_into(&mut buffer, &part_text[*f..*t], *n),
+                }
+                budget
+                    .answered
+                    .fetch_add(buffer.len() - before, std::sync::atomic::Ordering::Relaxed);
+                lines += 1;
+                if buffer.len() >= CHUNK_BYTES {
+                    let full =
+                        std::mem::replace(&mut buffer, Vec::with_capacity(CHUNK_BYTES + 4096));
+                    if out.blocking_send((full, lines)).is_err() {
+                        return; // the batch has ended (the client went away)
+                    }
+                    lines = 0;
+                }
             }
-            out
+            if lines > 0 {
+                let _ = out.blocking_send((buffer, lines));
+            }
         });
-        parts.push_back(InFlight { answers, numbers });
+        parts.push_back(InFlight {
+            chunks,
+            done,
+            numbers,
+            sent: 0,
+        });
     }
 }
 
-/// Waits for a part and sends its answers; false once the client has gone away.
-async fn send_part(tx: &tokio::sync::mpsc::Sender<Bytes>, mut part: InFlight) -> bool {
-    let done = (&mut part.answers).await;
-    tx.send(Bytes::from(finished_part(&part, done)))
-        .await
-        .is_ok()
+/// The answer of a line not computed: its id when it can be read, and `problem`.
+fn problem_line(out: &mut Vec<u8>, line: &[u8], problem: &ApiError) {
+    out.extend_from_slice(b"{\"id\":");
+    match json::parse(line).ok().as_ref().and_then(|v| v.get("id")) {
+        Some(id) => write_json(out, id),
+        None => out.extend_from_slice(b"null"),
+    }
+    out.extend_from_slice(b",\"ok\":false,\"problem\":");
+    if super::emit::to_writer(out, &problem.problem()).is_err() {
+        out.extend_from_slice(b"{}");
+    }
+    out.extend_from_slice(b"}\n");
 }
 
-/// A part's answers, or a problem line for each of its lines if it failed.
-fn finished_part(part: &InFlight, outcome: Result<Vec<u8>, tokio::task::JoinError>) -> Vec<u8> {
-    outcome.unwrap_or_else(|_| {
-        let mut out = Vec::new();
-        for n in &part.numbers {
-            let p = ApiError::new(
-                ProblemKind::Internal,
-                format!("line {n} could not be answered"),
-            );
-            out.extend_from_slice(b"{\"id\":null,\"ok\":false,\"problem\":");
-            if super::emit::to_writer(&mut out, &p.problem()).is_err() {
-                out.extend_from_slice(b"{}");
+/// Sends the front part's chunks that are ready; with more than [`IN_FLIGHT`]
+/// parts, or `all`, waits for parts to finish. False once the client has gone.
+async fn forward(
+    tx: &tokio::sync::mpsc::Sender<Bytes>,
+    parts: &mut VecDeque<InFlight>,
+    all: bool,
+) -> bool {
+    use tokio::sync::mpsc::error::TryRecvError;
+    loop {
+        let wait = all || parts.len() > IN_FLIGHT;
+        let Some(front) = parts.front_mut() else {
+            return true;
+        };
+        let next = if wait {
+            front.chunks.recv().await.ok_or(TryRecvError::Disconnected)
+        } else {
+            front.chunks.try_recv()
+        };
+        match next {
+            Ok((chunk, lines)) => {
+                front.sent += lines;
+                if tx.send(Bytes::from(chunk)).await.is_err() {
+                    return false;
+                }
             }
-            out.extend_from_slice(b"}\n");
+            Err(TryRecvError::Empty) => return true,
+            Err(TryRecvError::Disconnected) => {
+                let Some(part) = parts.pop_front() else {
+                    return true;
+                };
+                if let Some(failed) = failed_lines(part).await {
+                    if tx.send(Bytes::from(failed)).await.is_err() {
+                        return false;
+                    }
+                }
+            }
         }
-        out
-    })
+    }
+}
+
+/// A problem line for each line of a part whose thread failed before answering
+/// it; `None` when the part answered every line.
+async fn failed_lines(part: InFlight) -> Option<Vec<u8>> {
+    if part.done.await.is_ok() && part.sent == part.numbers.len() {
+        return None;
+    }
+    let mut out = Vec::new();
+    for n in &part.numbers[part.sent.min(part.numbers.len())..] {
+        let p = ApiError::new(
+            ProblemKind::Internal,
+            format!("line {n} could not be answered"),
+        );
+        out.extend_from_slice(b"{\"id\":null,\"ok\":false,\"problem\":");
+        if super::emit::to_writer(&mut out, &p.problem()).is_err() {
+            out.extend_from_slice(b"{}");
+        }
+        out.extend_from_slice(b"}\n");
+    }
+    Some(out)
 }
 
 /// Answers one line (never fails: a failure is the line's problem).
@@ -367,7 +506,10 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         )
         .into_response();
     };
-    let (tx, rx) = tokio::sync::mpsc::channel::<Bytes>(64);
+    // Chunks of about CHUNK_BYTES on their way to the client: with the parts'
+    // own chunks, what a batch holds in memory is bounded whatever it asks.
+    let (tx, rx) = tokio::sync::mpsc::channel::<Bytes>(8);
+    let budget = Budget::new();
     let metrics = state.metrics.clone();
     let idle_timeout = state.config.request_timeout;
     let mut body = req.into_body().into_data_stream();
@@ -388,6 +530,8 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         let mut skipping = false;
         let mut over = false;
         let mut stalled = first.is_none();
+        // The body broke off: a malformed chunk, or a connection closed early.
+        let mut broken = false;
         let mut early = first;
         let mut parts: VecDeque<InFlight> = VecDeque::new();
         'reading: while !stalled {
@@ -412,13 +556,22 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                         };
                         tokio::select! {
                             biased;
-                            done = &mut front.answers => {
-                                let Some(part) = parts.pop_front() else { continue };
-                                let out = finished_part(&part, done);
-                                if tx.send(Bytes::from(out)).await.is_err() {
-                                    return; // the client went away
+                            chunk = front.chunks.recv() => match chunk {
+                                Some((chunk, lines)) => {
+                                    front.sent += lines;
+                                    if tx.send(Bytes::from(chunk)).await.is_err() {
+                                        return; // the client went away
+                                    }
                                 }
-                            }
+                                None => {
+                                    let Some(part) = parts.pop_front() else { continue };
+                                    if let Some(failed) = failed_lines(part).await {
+                                        if tx.send(Bytes::from(failed)).await.is_err() {
+                                            return;
+                                        }
+                                    }
+                                }
+                            },
                             item = next => match item {
                                 Ok(item) => break item,
                                 Err(_) => {
@@ -432,7 +585,10 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
             };
             match item {
                 Some(Ok(chunk)) => pending.extend_from_slice(&chunk),
-                Some(Err(_)) => break,
+                Some(Err(_)) => {
+                    broken = true;
+                    break;
+                }
                 None => finished = true,
             }
             if skipping {
@@ -496,38 +652,35 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
                     continue;
                 }
             }
-            dispatch(&pending[..start], &jobs, &mut parts);
+            dispatch(&pending[..start], &jobs, &mut parts, &budget);
             tracing::debug!(lines = jobs.len(), "batch group started");
             metrics.add_batch_lines(jobs.len() as u64);
             jobs.clear();
             pending.drain(..start);
             scanned -= start;
             start = 0;
-            // The finished parts go out in order; with too many running, the
-            // oldest is waited for.
-            while let Some(front) = parts.front() {
-                if parts.len() <= IN_FLIGHT && !front.answers.is_finished() {
-                    break;
-                }
-                let Some(part) = parts.pop_front() else {
-                    break;
-                };
-                if !send_part(&tx, part).await {
-                    return;
-                }
+            // The answers go out in order as they are ready; with too many parts
+            // running, the oldest is waited for.
+            if !forward(&tx, &mut parts, false).await {
+                return;
             }
             if finished || over {
                 break;
             }
         }
-        dispatch(&pending[..start], &jobs, &mut parts);
+        dispatch(&pending[..start], &jobs, &mut parts, &budget);
         metrics.add_batch_lines(jobs.len() as u64);
-        while let Some(part) = parts.pop_front() {
-            if !send_part(&tx, part).await {
-                return;
-            }
+        if !forward(&tx, &mut parts, true).await {
+            return;
         }
-        let closing = if stalled {
+        let closing = if broken {
+            Some((
+                ProblemKind::MalformedJson,
+                format!(
+                    "the body broke off after line {lines} (a malformed chunk, or the connection closed early): the batch stops here, and the lines after it were not read"
+                ),
+            ))
+        } else if stalled {
             Some((
                 ProblemKind::BodyTimeout,
                 format!(
@@ -564,4 +717,38 @@ pub async fn batch_post(State(state): State<AppState>, req: Request) -> Response
         HeaderValue::from_static("application/x-ndjson"),
     );
     response
+}
+
+#[cfg(test)]
+mod budget_tests {
+    use super::*;
+
+    #[test]
+    fn lines_past_the_byte_budget_or_the_time_budget_are_refused_by_name() {
+        let budget = Budget::new();
+        assert!(budget.spent(1).is_none());
+        budget
+            .answered
+            .store(MAX_ANSWER_BYTES + 1, std::sync::atomic::Ordering::Relaxed);
+        let p = budget.spent(7).expect("past the byte budget");
+        assert_eq!(p.kind, ProblemKind::TooLarge);
+        assert!(
+            p.detail.contains("line 7") && p.detail.contains("512 MiB"),
+            "{}",
+            p.detail
+        );
+        let late = Budget {
+            answered: Default::default(),
+            deadline: std::time::Instant::now() - std::time::Duration::from_secs(1),
+        };
+        let p = late.spent(9).expect("past the time budget");
+        assert_eq!(p.kind, ProblemKind::Timeout);
+        assert!(p.detail.contains("300 s"), "{}", p.detail);
+        // The line keeps its id in the answer.
+        let mut out = Vec::new();
+        problem_line(&mut out, br#"{"id":"q-9","job":"apy"}"#, &p);
+        let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+        assert_eq!(v["id"], "q-9");
+        assert_eq!(v["ok"], false);
+    }
 }

@@ -63,6 +63,11 @@ fn compute(requests: Vec<(ScheduleRequest, String)>) -> Result<Comparison, ApiEr
     if !errors.is_empty() {
         return Err(ApiError::fields(errors));
     }
+    let work = requests
+        .iter()
+        .map(|(r, _)| crate::engine::plan::expected_work(&r.terms, &r.options))
+        .sum();
+    let _weight = crate::weight::weigh(work)?;
     let mut plans = Vec::with_capacity(requests.len());
     for (index, (r, pointer)) in requests.into_iter().enumerate() {
         let s =
@@ -316,11 +321,19 @@ pub fn compare_csv(c: &CompareDto) -> String {
 
 /// A text field (a label) quoted per RFC 4180 when it holds a comma, quote or
 /// line break. Text that a spreadsheet would take for a formula (a first
-/// character `=`, `+`, `-`, `@`, tab or carriage return) gets a leading `'`, so
+/// character `=`, `+`, `-`, `@`, after any leading spaces, zero-width or control
+/// characters, or a first tab or carriage return) gets a leading `'`, so
 /// an imported label is shown, never evaluated (the OWASP advice on CSV
 /// injection). Only labels are text here; the figures are plain numbers.
 pub fn csv_field(s: &str) -> String {
-    let s = if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+    // A spreadsheet may skip leading spaces (no-break, ideographic and zero-width
+    // ones too) before it looks for a formula: the guard looks past them.
+    let start = s.trim_start_matches(|c: char| {
+        c.is_whitespace()
+            || c.is_control()
+            || matches!(c, '\u{200b}'..='\u{200d}' | '\u{2060}' | '\u{feff}')
+    });
+    let s = if start.starts_with(['=', '+', '-', '@']) || s.starts_with(['\t', '\r']) {
         std::borrow::Cow::Owned(format!("'{s}"))
     } else {
         std::borrow::Cow::Borrowed(s)
@@ -329,5 +342,30 @@ pub fn csv_field(s: &str) -> String {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
         s.into_owned()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::csv_field;
+
+    #[test]
+    fn a_formula_behind_spaces_or_invisible_characters_is_guarded() {
+        // The OWASP advice on CSV injection (from memory): a cell a spreadsheet
+        // would evaluate gets a leading quote, whatever blank comes first.
+        for label in [
+            "=1+1",
+            " =1+1",
+            "\u{a0}=1+1",
+            "\u{3000}+1",
+            "\u{200b}@SUM(A1)",
+            "\u{feff}-2",
+            "\t=1",
+        ] {
+            assert!(csv_field(label).starts_with('\''), "{label:?}");
+        }
+        for label in ["15 years", " 15 years", "extra 200"] {
+            assert_eq!(csv_field(label), label);
+        }
     }
 }

@@ -335,7 +335,12 @@ async fn loan_answer(
     let prefix = fields.pointer("");
     let request = schedule_request_from(fields)?;
     let short = short_schedule(&request.terms, &request.options);
+    let weight = crate::weight::weigh(crate::engine::plan::expected_work(
+        &request.terms,
+        &request.options,
+    ))?;
     offload(short, held, move || {
+        let _weight = weight;
         let s = schedule_with(&request.terms, &request.options)
             .map_err(|e| request.problem(e, &prefix))?;
         Ok(if csv {

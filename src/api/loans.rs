@@ -15,7 +15,7 @@ use crate::engine::plan::{Extra, OddDaysInterest, PlanOptions, RateChange, RateC
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::schedule::{
     check_payment, check_payment_count, check_principal, payments_in_months, LoanSchedule,
-    LoanTerm, LoanTerms,
+    LoanTerm, LoanTerms, SEGMENTS_IN_FULL, SEGMENTS_LISTED,
 };
 
 const PAYMENT_FREQUENCIES: [&str; 7] = [
@@ -273,8 +273,12 @@ pub struct LoanDerivationDto {
     pub closed_form: DerivationDto,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub payment: Option<PaymentSolutionDto>,
-    /// One closed form per run of payments with the same rate, payment and extra.
+    /// One closed form per run of payments with the same rate, payment and extra:
+    /// the first 24 with their derivation, then by their figures alone, at most 600.
     pub segments: Vec<SegmentDto>,
+    /// How many segments the plan has, when not all are listed.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub segments_total: Option<usize>,
 }
 
 #[derive(Debug, Serialize, utoipa::ToSchema)]
@@ -288,7 +292,9 @@ pub struct SegmentDto {
     pub impulse: String,
     pub start_balance: String,
     pub end_balance: String,
-    pub derivation: DerivationDto,
+    /// Absent past the first 24 segments (the answer's size stays bounded).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub derivation: Option<DerivationDto>,
 }
 
 #[derive(Debug, Serialize, utoipa::ToSchema)]
@@ -406,7 +412,9 @@ impl LoanScheduleDto {
             s.plan
                 .segments
                 .iter()
-                .map(|g| SegmentDto {
+                .take(SEGMENTS_LISTED)
+                .enumerate()
+                .map(|(k, g)| SegmentDto {
                     first_payment: g.first_payment,
                     last_payment: g.last_payment,
                     periodic_rate: full(g.periodic_rate),
@@ -418,12 +426,15 @@ impl LoanScheduleDto {
                     }),
                     start_balance: full(g.solution.recurrence.x0.round_dp(12)),
                     end_balance: full(g.end_balance.round_dp(12)),
-                    derivation: DerivationDto::from_solution(&g.solution),
+                    derivation: (k < SEGMENTS_IN_FULL)
+                        .then(|| DerivationDto::from_solution(&g.solution)),
                 })
                 .collect()
         } else {
             vec![]
         };
+        let segments_total =
+            (s.plan.segments.len() > SEGMENTS_IN_FULL).then_some(s.plan.segments.len());
         let mut closed_form = DerivationDto::from_solution(&s.solution);
         let payment = s.payment_derivation.as_ref().map(|p| {
             let rule = match s.terms.payment_rounding {
@@ -500,6 +511,7 @@ impl LoanScheduleDto {
                 closed_form,
                 payment,
                 segments,
+                segments_total,
             },
             reconciliation,
             schedule: s
@@ -1014,7 +1026,16 @@ pub fn schedule_request_from(mut f: Fields<'_>) -> Result<ScheduleRequest, ApiEr
             (t.currency, t.payment_frequency)
         });
     let options = read_plan_options(&mut f, currency, frequency);
-    let label = f.text("label").map(|s| s.chars().take(80).collect());
+    let label = f.text("label").and_then(|s| {
+        if s.chars().any(char::is_control) {
+            f.error(
+                "label",
+                "must be plain text: control characters (such as tab, escape or NUL) are refused",
+            );
+            return None;
+        }
+        Some(s.chars().take(80).collect())
+    });
     let errors: Vec<FieldError> = match f.finish() {
         Ok(()) => vec![],
         Err(e) => e,

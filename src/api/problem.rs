@@ -230,6 +230,18 @@ impl ApiError {
     }
 }
 
+impl From<crate::weight::Busy> for ApiError {
+    fn from(b: crate::weight::Busy) -> Self {
+        ApiError::new(
+            ProblemKind::Overloaded,
+            format!(
+                "this plan's size takes {} of the {} computations the server runs at once, and too many are running; try again in a moment",
+                b.weight, b.total
+            ),
+        )
+    }
+}
+
 impl IntoResponse for ApiError {
     fn into_response(self) -> Response {
         let status = self.kind.status();

@@ -284,6 +284,18 @@ pub struct Plan {
     pub notes: Vec<String>,
 }
 
+/// The expected work of posting a plan, in payment-segments: its payments (the
+/// longest schedule when the term is solved from a payment) times one plus the
+/// rules that can start a segment (extra payments and rate changes). The server
+/// weighs its in-flight limit by it.
+pub fn expected_work(terms: &LoanTerms, o: &PlanOptions) -> u64 {
+    let payments = match terms.term {
+        LoanTerm::Payments(n) => n,
+        LoanTerm::Payment(_) => MAX_PAYMENTS,
+    };
+    u64::from(payments) * (1 + o.extras.len() as u64 + o.rate_changes.len() as u64)
+}
+
 fn err(field: &'static str, message: impl Into<String>) -> EngineError {
     EngineError::out_of_range(field, message)
 }

@@ -22,6 +22,15 @@ The lender's system of record, local regulation and licensed professionals decid
 /// The largest principal accepted.
 pub const MAX_PRINCIPAL: Decimal = Decimal::from_parts(3_567_587_328, 232, 0, false, 0); // 1,000,000,000,000
 
+/// The segments an answer shows with their whole derivation (recurrence, poles,
+/// partial fractions, closed form); later ones are listed by their figures alone.
+/// A plan whose extras change the outflow at nearly every payment has thousands
+/// of segments: listing each derivation made one answer 13 MB.
+pub const SEGMENTS_IN_FULL: usize = 24;
+
+/// The segments an answer lists at all; the rows carry every figure of the rest.
+pub const SEGMENTS_LISTED: usize = 600;
+
 /// How long the loan runs, or what is paid: the other one is solved.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum LoanTerm {
@@ -338,6 +347,17 @@ fn schedule_inner(
     notes.extend(plan.notes.iter().cloned());
     notes.extend(milestone_notes);
     notes.extend(odd_days_note(&plan, options, currency));
+    if plan.segments.len() > SEGMENTS_IN_FULL {
+        notes.push(format!(
+            "The plan runs in {} segments. To keep the answer a readable size, the first {SEGMENTS_IN_FULL} are shown with their whole derivation, {} by their figures alone; every payment is in the schedule's rows.",
+            plan.segments.len(),
+            if plan.segments.len() > SEGMENTS_LISTED {
+                format!("the next {} (to segment {SEGMENTS_LISTED})", SEGMENTS_LISTED - SEGMENTS_IN_FULL)
+            } else {
+                "the rest".to_string()
+            }
+        ));
+    }
     let rows: Vec<Row> = std::mem::take(&mut plan.rows);
     let payoff_date = rows.last().and_then(|r| r.date);
     let ledger = Ledger {

@@ -3,11 +3,12 @@
 //! per problem type, whose anchors are the problem type URIs (`/api#problem-<slug>`).
 
 use askama::Template;
-use axum::http::{header, HeaderMap};
+use axum::extract::State;
 use axum::response::Response;
 
 use super::{render, Layout};
 use crate::api::problem::ProblemKind;
+use crate::server::AppState;
 
 /// One operation of the API.
 pub struct Operation {
@@ -165,24 +166,10 @@ fn operations(base: &str) -> Vec<Operation> {
     ]
 }
 
-/// The server's address as the client named it (only safe characters; else the default).
-fn base_url(headers: &HeaderMap) -> String {
-    let host = headers
-        .get(header::HOST)
-        .and_then(|v| v.to_str().ok())
-        .filter(|h| {
-            !h.is_empty()
-                && h.len() <= 100
-                && h.chars()
-                    .all(|c| c.is_ascii_alphanumeric() || ".-:[]".contains(c))
-        })
-        .unwrap_or("127.0.0.1:8080");
-    format!("http://{host}")
-}
-
-/// Builds the guide for a request's headers.
-pub fn build(headers: &HeaderMap) -> ApiGuidePage {
-    let base = base_url(headers);
+/// Builds the guide, its examples addressed to `base` (the configured public
+/// address: never a request's Host header, which any client can set).
+pub fn build(base: &str) -> ApiGuidePage {
+    let base = base.trim_end_matches('/').to_string();
     ApiGuidePage {
         layout: Layout::new("The API guide", "/api"),
         operations: operations(&base),
@@ -201,6 +188,6 @@ pub fn build(headers: &HeaderMap) -> ApiGuidePage {
 }
 
 /// `GET /api`
-pub async fn page(headers: HeaderMap) -> Response {
-    render(&build(&headers))
+pub async fn page(State(state): State<AppState>) -> Response {
+    render(&build(&state.config.public_url()))
 }

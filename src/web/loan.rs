@@ -265,6 +265,7 @@ fn derivation(s: &LoanSchedule) -> LoanDerivation {
         s.plan
             .segments
             .iter()
+            .take(crate::engine::schedule::SEGMENTS_IN_FULL)
             .map(|g| SegmentView {
                 title: format!(
                     "Payments {}–{}",
@@ -550,6 +551,10 @@ pub fn compute(pairs: &[(String, String)]) -> Result<LoanResult, ApiError> {
     let mut f = Fields::new(Source::Query(&normalized));
     f.lenient = true;
     let request = schedule_request_from(f)?;
+    let _weight = crate::weight::weigh(crate::engine::plan::expected_work(
+        &request.terms,
+        &request.options,
+    ))?;
     let s = schedule_with(&request.terms, &request.options).map_err(|e| request.problem(e, ""))?;
     Ok(result(
         &s,

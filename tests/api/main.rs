@@ -5,6 +5,7 @@
 //! client sees: status line, headers and body.
 
 mod batch;
+mod bounds;
 mod catalogue;
 mod conventions;
 mod disclosure;
