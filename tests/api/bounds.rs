@@ -212,3 +212,47 @@ fn sixteen_maximal_plans_at_once_are_weighed_not_all_computed() {
     assert!(statuses.contains(&200), "{statuses:?}");
     assert!(statuses.contains(&503), "{statuses:?}");
 }
+
+#[test]
+fn the_recurrence_states_the_precision_and_range_it_really_keeps_near_close_poles() {
+    let app = spawn_app();
+    let ask = |ratio: &str, k: u32| {
+        app.post_json(
+            "/api/v1/recurrence",
+            &json!({"a": "1.5", "x0": "0", "inputs": [{"kind": "geometric", "amount": "1", "ratio": ratio}], "evaluate_at": [k]}),
+        )
+    };
+    // Poles 1e-13 apart: the value at k = 10 keeps about 15 digits, and says so.
+    // (Exact stepping with Python's fractions, by hand: x[10] = 384.4335937501153…)
+    let r = ask("1.5000000000001", 10);
+    assert_eq!(r.status, 200, "{}", r.text());
+    let v = r.json();
+    assert!(v["values"][0]["value"]
+        .as_str()
+        .unwrap()
+        .starts_with("384.433593750115"));
+    assert!(
+        v["notes"]
+            .to_string()
+            .contains("keep about 15 significant digits"),
+        "{}",
+        v["notes"]
+    );
+    // At k = 100 the value (about 2.71e19, exact stepping) fits but the modes do
+    // not: the overflow problem explains why.
+    let r = ask("1.5000000000001", 100);
+    let p = assert_problem(&r, 422, "overflow");
+    assert!(
+        p["detail"]
+            .as_str()
+            .unwrap()
+            .contains("reported as an overflow even when it would fit"),
+        "{p}"
+    );
+    // Poles closer than 1e-14 are merged, and the note says what that costs.
+    let r = ask("1.5000000000000001", 10);
+    assert_eq!(r.status, 200);
+    assert!(r.json()["notes"]
+        .to_string()
+        .contains("were merged into one repeated pole"));
+}
