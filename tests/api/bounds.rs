@@ -256,3 +256,31 @@ fn the_recurrence_states_the_precision_and_range_it_really_keeps_near_close_pole
         .to_string()
         .contains("were merged into one repeated pole"));
 }
+
+#[test]
+fn the_page_of_a_plan_of_thousands_of_segments_folds_its_years_and_stays_small() {
+    let app = spawn_app();
+    let loan = maximal_loan();
+    let mut query = vec![
+        "principal=900000".to_string(),
+        "annual_rate_percent=6.25".into(),
+        "term_payments=6000".into(),
+        "payment_frequency=weekly".into(),
+        "compounding=daily".into(),
+    ];
+    let extras: Vec<String> = loan["extra_payments"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|e| format!("1@{}-6000/{}", e["from"], e["every"]))
+        .collect();
+    query.push(format!("extra_payments={}", extras.join(",")));
+    let r = app.get(&format!("/loan?{}", query.join("&")));
+    assert_eq!(r.status, 200);
+    // Was 7.2 MB with every segment's derivation.
+    assert!(r.body.len() < 1_500_000, "{} bytes", r.body.len());
+    let html = r.text();
+    assert!(html.matches("<details class=\"year\"").count() > 20);
+    assert_eq!(html.matches("<details class=\"year\" open").count(), 1);
+    assert!(html.contains("the first 24 are shown with their whole derivation"));
+}
