@@ -9,7 +9,7 @@ cd "$(dirname "$0")/../fuzz"
 SECONDS_EACH=${1:-600}
 shift || true
 TARGETS=("$@")
-[ ${#TARGETS[@]} -eq 0 ] && TARGETS=(json_parse fields query_extra engine_schedule)
+[ ${#TARGETS[@]} -eq 0 ] && TARGETS=(json_parse fields query_extra engine_schedule batch_stream http_request)
 command -v cargo-fuzz >/dev/null || { echo "cargo-fuzz is missing: cargo install cargo-fuzz" >&2; exit 1; }
 export RUSTC_BOOTSTRAP=1
 mkdir -p logs

@@ -7,7 +7,7 @@ use serde_json::{Map, Value};
 use crate::helpers::{spawn_app, TestApp};
 
 /// The routes of `src/server.rs` the document must describe, with their methods.
-const ROUTES: [(&str, &[&str]); 14] = [
+const ROUTES: [(&str, &[&str]); 15] = [
     ("/api/v1/loans/schedule", &["get", "post"]),
     ("/api/v1/loans/schedule.csv", &["get"]),
     ("/api/v1/loans/compare", &["get", "post"]),
@@ -21,6 +21,7 @@ const ROUTES: [(&str, &[&str]); 14] = [
     ("/api/openapi.json", &["get"]),
     ("/api/v1/batch", &["post"]),
     ("/healthz", &["get"]),
+    ("/readyz", &["get"]),
     ("/metrics", &["get"]),
 ];
 
@@ -71,7 +72,7 @@ fn routes_in_source(source: &str) -> Vec<(String, Vec<String>)> {
 }
 
 fn served_under_the_api(path: &str) -> bool {
-    path.starts_with("/api/") || path == "/healthz" || path == "/metrics"
+    path.starts_with("/api/") || ["/healthz", "/readyz", "/metrics"].contains(&path)
 }
 
 #[test]
