@@ -466,7 +466,13 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         .get::<axum::extract::MatchedPath>()
         .map_or_else(|| "unmatched".to_string(), |m| m.as_str().to_string());
     let started = Instant::now();
+    let html_problem = !path.starts_with("/api/")
+        && !["/healthz", "/readyz", "/metrics"].contains(&path.as_str())
+        && web::error::prefers_html(req.headers());
     let mut response = next.run(req).await;
+    if html_problem {
+        response = as_html_problem(response);
+    }
     let h = response.headers_mut();
     set_static(
         h,
@@ -511,6 +517,26 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         }
     }
     response
+}
+
+/// A problem answer turned into an HTML error page with the same status (the
+/// problem type and headers such as Retry-After kept).
+fn as_html_problem(response: Response) -> Response {
+    let Some(kind) = response.extensions().get::<ProblemKind>().copied() else {
+        return response;
+    };
+    let detail = response
+        .extensions()
+        .get::<crate::api::problem::ProblemDetail>()
+        .map_or_else(String::new, |d| d.0.clone());
+    let mut page = web::error::page(response.status(), kind.title(), &detail);
+    for name in [header::RETRY_AFTER, header::CONNECTION, header::ALLOW] {
+        if let Some(v) = response.headers().get(&name) {
+            page.headers_mut().insert(name, v.clone());
+        }
+    }
+    page.extensions_mut().insert(kind);
+    page
 }
 
 /// The request's Origin when the configuration lets it read answers.

@@ -421,6 +421,10 @@ async fn every_template_is_reachable_from_a_route() {
         .map(|n| std::fs::read_to_string(format!("{dir}/{n}")).unwrap())
         .collect();
     for name in &on_disk {
+        if name == "error.html" {
+            // Rendered for a problem on a page route; see the test of error pages.
+            continue;
+        }
         if name == "base.html" || name.starts_with('_') {
             // A layout or a partial: some page template must use it.
             assert!(
@@ -443,10 +447,65 @@ async fn every_template_is_reachable_from_a_route() {
     assert_eq!(
         on_disk
             .iter()
-            .filter(|n| *n != "base.html" && !n.starts_with('_'))
+            .filter(|n| *n != "base.html" && *n != "error.html" && !n.starts_with('_'))
             .count(),
         TEMPLATE_ROUTES.len()
     );
+}
+
+/// A request as a browser sends it (Accept ranks HTML first).
+async fn browser_get(method: &str, path: &str) -> (StatusCode, String, String) {
+    let response = app(AppState::new(Config::default()))
+        .oneshot(
+            Request::builder()
+                .method(method)
+                .uri(path)
+                .header(header::HOST, "127.0.0.1:8080")
+                .header(
+                    header::ACCEPT,
+                    "text/html,application/xhtml+xml,application/xml;q=0.9,*/*;q=0.8",
+                )
+                .body(Body::empty())
+                .unwrap(),
+        )
+        .await
+        .unwrap();
+    let status = response.status();
+    let content_type = response
+        .headers()
+        .get(header::CONTENT_TYPE)
+        .map(|v| v.to_str().unwrap().to_string())
+        .unwrap_or_default();
+    let body = to_bytes(response.into_body(), 1 << 20).await.unwrap();
+    (
+        status,
+        content_type,
+        String::from_utf8(body.to_vec()).unwrap(),
+    )
+}
+
+#[tokio::test]
+async fn a_browser_gets_page_routes_problems_as_pages_and_programs_keep_problem_details() {
+    for (method, path, status) in [
+        ("GET", "/no-such-page", StatusCode::NOT_FOUND),
+        ("GET", "/loans", StatusCode::NOT_FOUND),
+        ("POST", "/loan", StatusCode::METHOD_NOT_ALLOWED),
+    ] {
+        let (got, content_type, html) = browser_get(method, path).await;
+        assert_eq!(got, status, "{method} {path}");
+        assert!(content_type.starts_with("text/html"), "{content_type}");
+        assert!(html.contains("href=\"/\""), "a way home");
+        assert!(html.contains("class=\"caution\""));
+        assert!(html.contains(&format!("Answer {}", status.as_u16())));
+    }
+    // The API keeps problem details, whatever the Accept header.
+    let (got, content_type, _) = browser_get("GET", "/api/v1/no-such-operation").await;
+    assert_eq!(got, StatusCode::NOT_FOUND);
+    assert_eq!(content_type, "application/problem+json");
+    // A program asking for a page address without HTML in Accept keeps them too.
+    let (got, content_type, _) = get("/no-such-page").await;
+    assert_eq!(got, StatusCode::NOT_FOUND);
+    assert_eq!(content_type, "application/problem+json");
 }
 
 #[tokio::test]

@@ -257,6 +257,11 @@ fn weight(accept: &str, media: &str) -> Option<(f32, usize)> {
     best.map(|(_, q, i)| (q, i))
 }
 
+/// The weight (q) the Accept header `accept` gives `media`: 0 when no range takes it.
+pub fn weight_of(accept: &str, media: &str) -> f32 {
+    weight(accept, media).map_or(0.0, |(q, _)| q)
+}
+
 /// True when the client asks for CSV over JSON: CSV weighs more, or as much
 /// and is named first (`*/*` alone, or no Accept, is JSON).
 pub fn wants_csv(headers: &HeaderMap) -> bool {

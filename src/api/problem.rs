@@ -230,6 +230,10 @@ impl ApiError {
     }
 }
 
+/// A problem's detail, kept beside its JSON for an HTML error page.
+#[derive(Debug, Clone)]
+pub struct ProblemDetail(pub String);
+
 impl From<crate::weight::Busy> for ApiError {
     fn from(b: crate::weight::Busy) -> Self {
         ApiError::new(
@@ -260,8 +264,12 @@ impl IntoResponse for ApiError {
             // another request.
             headers.insert(header::CONNECTION, HeaderValue::from_static("close"));
         }
-        // For the metrics middleware: which problem this was.
+        // For the metrics middleware: which problem this was; for a page route,
+        // what to say on its error page.
         response.extensions_mut().insert(self.kind);
+        response
+            .extensions_mut()
+            .insert(ProblemDetail(self.detail.clone()));
         response
     }
 }

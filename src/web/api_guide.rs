@@ -157,10 +157,10 @@ fn operations(base: &str) -> Vec<Operation> {
         },
         Operation {
             id: "operations",
-            title: "Health and metrics",
-            method_path: "GET /healthz and GET /metrics",
-            words: "/healthz answers {\"status\": \"ok\"} while the service runs. /metrics gives the Prometheus text format: requests and latencies per route, problems by type, batch lines and answers served from the answer store. Neither counts against the in-flight limit.",
-            examples: ex(&["curl {base}/healthz", "curl {base}/metrics"]),
+            title: "Health, readiness and metrics",
+            method_path: "GET /healthz, GET /readyz and GET /metrics",
+            words: "/healthz answers {\"status\": \"ok\"} while the process runs, until it exits. /readyz answers {\"status\": \"ready\"} while the service takes new work, and 503 from the moment a shutdown signal arrives (the requests in flight still finish; with --shutdown-delay-secs the service goes on answering that long first), so a load balancer moves traffic away. /metrics gives the Prometheus text format: requests and latencies per route, problems by type, batch lines and answers served from the answer store. None of them counts against the in-flight limit.",
+            examples: ex(&["curl {base}/healthz", "curl {base}/readyz", "curl {base}/metrics"]),
             page: "",
         },
     ]

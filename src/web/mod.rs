@@ -15,6 +15,7 @@ pub mod api_guide;
 pub mod charts;
 pub mod check;
 pub mod compare;
+pub mod error;
 pub mod form;
 pub mod home;
 pub mod loan;

@@ -28,11 +28,16 @@ references that share none of Residue's code:
     count the odd days from funding to that due date (`dayCount(funding,
     previous)`). When funding falls after that due date the odd days are
     negative: the reference is then −dayCount(previous, funding), the count
-    of the same span from its earlier end. (QuantLib's dayCount with its
-    arguments reversed is not antisymmetric under the US rule, whose
-    February adjustment applies to its first argument only: dayCount(1 March,
-    28 February 2027) is −3, while the span from 28 February to 1 March is
-    1 day.)
+    of the same span from its earlier end. (QuantLib's 30/360 dayCount is
+    not antisymmetric: its month-end adjustments look at which argument
+    comes first. Under the US rule dayCount(1 March, 28 February 2027) is −3
+    while the span from 28 February to 1 March counts 1 day; under the bond
+    basis dayCount(31 March, 27 March) is −3 while the span from 27 to 31
+    March counts 4.) Every frequency is checked with every day count, and
+    the three 30/360 variants (and the `thirty_360` alias) on a grid of
+    month ends, 28/29 February, 30ths and 31sts, with a monthly loan whose
+    previous due date is the second date (a weekly one where no monthly
+    first payment falls a month after it, as after 31 March);
   The odd-days interest is principal × annual rate / 100 × odd days / basis
   (365 for actual/365, else 360), rounded half up to the cent, computed here in
   Python's decimal module from QuantLib's day count. Dates and day counts
@@ -49,15 +54,24 @@ references that share none of Residue's code:
     period's interest half up to the cent (an error of at most ½ cent that
     then earns interest), so after row k they differ by at most
     ½ cent · Σ_{j<k} (1 + r)^j + 1 cent (½ cent · k + 1 cent at rate 0, where
-    nothing is rounded). The final payment minus the level payment is
-    compared with fv at n, to the same bound at k = n;
+    nothing is rounded). (½ cent · k + 1 cent is no bound once interest
+    compounds: a 30-year loan at 24.99 % is 11 dollars off fv at row 359,
+    within ½ cent · Σ (1 + r)^j = 400 dollars.) The final payment minus the
+    level payment is compared with fv at the last row, to the same bound;
+  - the count of payments is n, unless fv of the rounded payment after n − 1
+    payments is already below zero by more than the bound: the rounded
+    payment then repays the loan sooner, and the count is as for a loan
+    given by its payment, below;
   - `npf.ipmt(r, 1, n, −principal)` and `npf.ppmt(r, 1, n, −principal)` equal
     the first row's interest and principal within 1 cent (½ cent from the
     payment's rounding, ½ from the interest's);
   - for a loan given by its payment, the count of payments is
     ⌈`npf.nper(r, −payment, principal)`⌉ (nper in float64: numpy-financial's
-    nper calls log, which Decimal lacks; each case's exact fractional part is
-    kept well away from an integer). At rate 0 numpy-financial 1.0.0's nper
+    nper calls log, which Decimal lacks). A case is clear-cut only when fv
+    after ⌈nper⌉ − 1 payments exceeds the rounding bound and fv after ⌈nper⌉
+    falls below minus it; a case that is not fails as a badly chosen case
+    (100000 at 6 % paying 650 a month, nper 293.99997, leaves 0.04 after 294
+    rounded rows: a 295th payment of 0.04 is right there). At rate 0 numpy-financial 1.0.0's nper
     answers −principal/payment, with the wrong sign, so the reference there is
     ⌈principal / payment⌉.
 
@@ -103,8 +117,7 @@ DAY_COUNTS = {
     "thirty_e_360": (ql.Thirty360(ql.Thirty360.European), 360,
                      "QuantLib Thirty360(Thirty360.European).dayCount"),
     # `thirty_360` is the service's alias of the bond basis.
-    "thirty_360": (ql.Thirty360(ql.Thirty360.BondBasis), 360,
-                   "QuantLib Thirty360(Thirty360.BondBasis).dayCount (alias thirty_360)"),
+    "thirty_360": (ql.Thirty360(ql.Thirty360.BondBasis), 360, "QuantLib Thirty360(Thirty360.BondBasis).dayCount"),
 }
 FIVE_DAY_COUNTS = ["actual_365", "actual_360", "thirty_360_bond_basis", "thirty_360_us", "thirty_e_360"]
 STATED_PREVIOUS = re.compile(r"to (\d{4}-\d{2}-\d{2}), the due date one period before")
@@ -234,12 +247,13 @@ def reference_previous(first: ql.Date, frequency: str) -> ql.Date:
     return dates[-2]
 
 
-def reference_days(day_count: str, funding: ql.Date, previous: ql.Date) -> int:
-    counter = DAY_COUNTS[day_count][0]
+def reference_days(day_count: str, funding: ql.Date, previous: ql.Date) -> tuple[int, str]:
+    """The odd days, and the QuantLib call that counted them."""
+    counter, _, source = DAY_COUNTS[day_count]
     if funding <= previous:
-        return counter.dayCount(funding, previous)
+        return counter.dayCount(funding, previous), f"{source}({funding.ISO()}, {previous.ISO()})"
     # Funded after the regular due date: the same span counted from its earlier end.
-    return -counter.dayCount(previous, funding)
+    return -counter.dayCount(previous, funding), f"−{source}({previous.ISO()}, {funding.ISO()})"
 
 
 def odd_interest(principal: str, rate: str, days: int, basis: int) -> Decimal:
@@ -272,6 +286,8 @@ for _frequency, _n, _firsts in [
 def check_dates(rep: Report, name: str, frequency: str, n: int, first: str):
     url, j = schedule(BASE, {"principal": "100000", "annual_rate_percent": "6", "term_payments": str(n),
                              "payment_frequency": frequency, "first_payment_date": first})
+    # reference: QuantLib Schedule Forward (NullCalendar, Unadjusted, endOfMonth=False); semimonthly:
+    # two QuantLib monthly Schedules (days d and d ± 15) merged
     want = [d.ISO() for d in reference_dates(qd(first), n, frequency)]
     got = [row["date"] for row in j["schedule"]]
     source = ("QuantLib Schedule Forward" if frequency != "semimonthly"
@@ -349,13 +365,12 @@ def check_odd_days(rep: Report, name: str, query: dict, expected_days=None):
     frequency, day_count = query["payment_frequency"], query["day_count"]
     funding, first = qd(query["funding_date"]), qd(query["first_payment_date"])
     previous = reference_previous(first, frequency)
-    want = reference_days(day_count, funding, previous)
-    source = DAY_COUNTS[day_count][2]
+    want, source = reference_days(day_count, funding, previous)
     url, j = schedule(BASE, query)
     s = j["summary"]
     got = s["odd_days"]
     stated = next((m.group(1) for note in j["notes"] for m in [STATED_PREVIOUS.search(note)] if m), None)
-    detail = (f"odd_days {got}, {source}({funding.ISO()}, {previous.ISO()}) = {want}"
+    detail = (f"odd_days {got}, {source} = {want}"
               + (f"; the reproduction expects {expected_days}" if expected_days is not None else ""))
     if got != want and stated is not None and stated != previous.ISO():
         detail += f"; the server's note counts to {stated}, the reference previous due date is {previous.ISO()}"
@@ -436,9 +451,6 @@ def first_payment_after(previous: ql.Date) -> tuple[str, ql.Date]:
 def thirty_cases():
     for d1, d2 in THIRTY_PAIRS:
         frequency, first = first_payment_after(qd(d2))
-        funding = qd(d1)
-        if not (funding < first and first - funding <= 366):
-            raise ValueError(f"bad case {d1}→{d2}: the first payment {first.ISO()} is not within a year after funding")
         for day_count in THIRTY_VARIANTS:
             q = {"principal": "360000", "annual_rate_percent": "6", "term_payments": "6",
                  "payment_frequency": frequency, "funding_date": d1, "first_payment_date": first.ISO(),
@@ -450,10 +462,12 @@ def check_thirty(rep: Report, name: str, query: dict, pair: tuple):
     d1, d2 = pair
     day_count = query["day_count"]
     previous = reference_previous(qd(query["first_payment_date"]), query["payment_frequency"])
-    if previous.ISO() != d2:
-        rep.check(name, False, f"the case is wrong: QuantLib's previous due date is {previous.ISO()}, not {d2}")
+    first = qd(query["first_payment_date"])
+    if previous.ISO() != d2 or not (qd(d1) < first and first - qd(d1) <= 366):
+        rep.check(name, False, f"the case is wrong: QuantLib's previous due date is {previous.ISO()} (want {d2}),"
+                  f" and the first payment must fall after funding, within 366 days")
         return
-    want = reference_days(day_count, qd(d1), previous)
+    want, source = reference_days(day_count, qd(d1), previous)
     hand = BY_HAND.get(pair, {}).get(day_count)
     if hand is not None and hand != want:
         rep.check(name, False, f"QuantLib says {want}, worked by hand {hand}: the reference itself is off")
@@ -463,7 +477,7 @@ def check_thirty(rep: Report, name: str, query: dict, pair: tuple):
     first_row = j["schedule"][0]["date"]
     ok = got == want and first_row == query["first_payment_date"]
     # reference: QuantLib Thirty360(BondBasis / USA / European).dayCount(d1, d2)
-    rep.check(name, ok, f"odd_days {got}, {DAY_COUNTS[day_count][2]} {want}"
+    rep.check(name, ok, f"odd_days {got}, {source} = {want}"
               + (f" (by hand {hand})" if hand is not None else "")
               + ("" if first_row == query["first_payment_date"] else f"; first row dated {first_row}"),
               "" if ok else url)
@@ -478,13 +492,18 @@ RATES = ["0", "3.5", "6.875", "12", "24.99"]
 TERMS = [("monthly", 360), ("monthly", 60), ("monthly", 13), ("quarterly", 40), ("semiannual", 20),
          ("annual", 10), ("semimonthly", 48), ("semimonthly", 720), ("biweekly", 78), ("biweekly", 26),
          ("weekly", 104), ("weekly", 520)]
+# Long terms take the larger principals: with a payment of a few dollars, the
+# rounding of the payment (½ cent, grown over 500 periods at 1 % or more) can move
+# the count of a small loan by one either way, and the case says nothing clear.
+LARGE = ["100000", "250000", "640000", "123456.78", "187500"]
 TERM_CASES = []
 for _i, ((_frequency, _n), _rate) in enumerate((t, r) for t in TERMS for r in RATES):
-    TERM_CASES.append((PRINCIPALS[_i % len(PRINCIPALS)], _rate, _frequency, _n))
+    _principals = LARGE if _n >= 360 else PRINCIPALS
+    TERM_CASES.append((_principals[_i % len(_principals)], _rate, _frequency, _n))
 
 # (principal, annual rate %, frequency, payment)
 PAYMENT_CASES = [
-    ("100000", "6", "monthly", "1000"), ("100000", "6", "monthly", "650"), ("250000", "6.875", "monthly", "2000"),
+    ("100000", "6", "monthly", "1000"), ("100000", "6", "monthly", "655"), ("250000", "6.875", "monthly", "2000"),
     ("18500", "8.49", "monthly", "333.33"), ("100000", "0", "monthly", "1000"), ("100000", "0", "monthly", "999"),
     ("1500", "0", "weekly", "40"), ("640000", "4.25", "quarterly", "12000"), ("50000", "12", "biweekly", "400"),
     ("50000", "3.5", "weekly", "125"), ("123456.78", "24.99", "semimonthly", "1500"),
@@ -499,6 +518,30 @@ def compounded_bound(r: Decimal, k: int) -> Decimal:
     return HALF_CENT * growth + CENT
 
 
+def reference_count(r: Decimal, payment: Decimal, p: Decimal) -> tuple[int, str]:
+    """How many payments of `payment` repay `p` at r a period, and what said so.
+
+    Raises ValueError when the count is not clear-cut: when the exact balance
+    after ⌈nper⌉ − 1 payments is not clearly above zero, or after ⌈nper⌉
+    payments not clearly below it, the ledger's rounding of interest (within
+    compounded_bound) may decide either way. At rate 0 nothing is rounded.
+    """
+    if r == 0:
+        exact = p / payment
+        # reference: principal / payment (numpy-financial 1.0.0's nper answers it with the wrong sign at rate 0)
+        return math.ceil(exact), f"⌈principal / payment⌉ = ⌈{exact:.6f}⌉"
+    # reference: numpy-financial nper(r, -payment, principal), float64 (Decimal has no log)
+    exact = float(npf.nper(float(r), -float(payment), float(p)))
+    count = math.ceil(exact)
+    before = dec(npf.fv, r, count - 1, payment, -p)
+    after = dec(npf.fv, r, count, payment, -p)
+    if not (before > compounded_bound(r, count - 1) and -after > compounded_bound(r, count)):
+        raise ValueError(f"not clear-cut: npf.nper {exact:.6f}, npf.fv {before:.4f} after {count - 1} payments"
+                         f" and {after:.4f} after {count}, beside a rounding bound of"
+                         f" {compounded_bound(r, count):.4f}")
+    return count, f"⌈npf.nper⌉ = ⌈{exact:.6f}⌉"
+
+
 def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str, n: int):
     url, j = schedule(BASE, {"principal": principal, "annual_rate_percent": rate, "term_payments": str(n),
                              "payment_frequency": frequency})
@@ -510,35 +553,46 @@ def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str
     # reference: numpy-financial pmt(r, n, -principal), Decimal, rounded half up to the cent
     rep.check(name + " payment", payment == want, f"{s['payment']}, npf.pmt {want}", "" if payment == want else url)
 
-    if len(rows) != n or s["number_of_payments"] != n:
-        rep.check(name + " balances", False, f"{len(rows)} rows, number_of_payments {s['number_of_payments']},"
-                  f" asked for {n}", url)
+    # The count: n, unless the rounded payment (rounded up, at a long term and a high
+    # rate) repays the loan sooner; then npf.nper of the rounded payment says when.
+    ahead = dec(npf.fv, r, n - 1, payment, -p)
+    if ahead > compounded_bound(r, n - 1):
+        # reference: numpy-financial fv(r, n - 1, payment, -principal) > 0: a balance is left for payment n
+        m, source = n, f"the term (npf.fv after {n - 1} payments is {ahead:.2f})"
+    else:
+        m, source = reference_count(r, payment, p)
+        source += f" for the rounded payment (npf.fv after {n - 1} payments is {ahead:.2f})"
+    ok = len(rows) == m and s["number_of_payments"] == m
+    rep.check(name + " count", ok, f"number_of_payments {s['number_of_payments']}, {len(rows)} rows, {m} by {source}",
+              "" if ok else url)
+    if not ok:
         return
-    worst, worst_k, worst_excess = Decimal(0), 0, None
-    fvs = [dec(npf.fv, r, k, payment, -p) for k in range(1, n + 1)]
-    for k in range(1, n):
+
+    worst, worst_k, excess = Decimal(0), 0, None
+    fvs = [dec(npf.fv, r, k, payment, -p) for k in range(1, m + 1)]
+    for k in range(1, m):
         diff = abs(Decimal(rows[k - 1]["balance"]) - fvs[k - 1])
         bound = compounded_bound(r, k)
         if diff > worst:
             worst, worst_k = diff, k
-        if diff > bound and worst_excess is None:
-            worst_excess = (k, rows[k - 1]["balance"], fvs[k - 1], bound)
-    if worst_excess is None:
-        # reference: numpy-financial fv(r, k, payment, -principal) after each row k < n
-        rep.check(name + " balances", True, f"rows 1–{n - 1} within the rounding bound of npf.fv;"
+        if diff > bound and excess is None:
+            excess = (k, rows[k - 1]["balance"], fvs[k - 1], bound)
+    if excess is None:
+        # reference: numpy-financial fv(r, k, payment, -principal) after each row k < m
+        rep.check(name + " balances", True, f"rows 1–{m - 1} within the rounding bound of npf.fv;"
                   f" largest difference {worst:.4f} at row {worst_k}")
     else:
-        k, got, exact, bound = worst_excess
+        k, got, exact, bound = excess
         rep.check(name + " balances", False, f"row {k} balance {got}, npf.fv {exact:.6f},"
                   f" difference {abs(Decimal(got) - exact):.6f} > bound {bound:.6f}", url)
 
-    # The final payment clears the rounded balance: final − payment ≈ npf.fv at n.
+    # The final payment clears the rounded balance: final − payment ≈ npf.fv at m.
     final_gap = Decimal(s["final_payment"]) - payment
-    bound = compounded_bound(r, n)
-    ok = abs(final_gap - fvs[n - 1]) <= bound
-    # reference: numpy-financial fv(r, n, payment, -principal), what the last payment must add or leave out
+    bound = compounded_bound(r, m)
+    ok = abs(final_gap - fvs[m - 1]) <= bound
+    # reference: numpy-financial fv(r, m, payment, -principal), what the last payment must add or leave out
     rep.check(name + " final payment", ok, f"{s['final_payment']} − {s['payment']} = {final_gap},"
-              f" npf.fv at n {fvs[n - 1]:.6f} (bound {bound:.4f})", "" if ok else url)
+              f" npf.fv at {m} {fvs[m - 1]:.6f} (bound {bound:.4f})", "" if ok else url)
 
     first = rows[0]
     want_i = dec(npf.ipmt, r, 1, n, -p)
@@ -553,20 +607,7 @@ def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str
 
 def check_by_payment(rep: Report, name: str, principal: str, rate: str, frequency: str, payment: str):
     p, r, pay = Decimal(principal), Decimal(rate) / 100 / PER_YEAR[frequency], Decimal(payment)
-    if r == 0:
-        exact = p / pay
-        # reference: principal / payment (numpy-financial 1.0.0's nper has the wrong sign at rate 0)
-        want, source = math.ceil(exact), f"⌈principal / payment⌉ = ⌈{exact:.6f}⌉"
-    else:
-        exact = npf.nper(float(r), -float(pay), float(p))
-        # reference: numpy-financial nper(r, -payment, principal), float64
-        want, source = math.ceil(exact), f"⌈npf.nper⌉ = ⌈{float(exact):.6f}⌉"
-        # After ⌊nper⌋ payments the exact balance must stand clear of the ledger's rounding.
-        whole = math.floor(exact)
-        left = dec(npf.fv(r, whole, pay, -p))
-        if not left > compounded_bound(r, whole):
-            rep.check(name, False, f"the case is too close to a whole count: {left} left after {whole} payments")
-            return
+    want, source = reference_count(r, pay, p)
     url, j = schedule(BASE, {"principal": principal, "annual_rate_percent": rate, "payment": payment,
                              "payment_frequency": frequency})
     got = j["summary"]["number_of_payments"]
