@@ -87,7 +87,7 @@ fn example(s: &LoanSchedule) -> Example {
 /// `GET /about`
 pub async fn page() -> Response {
     render(&AboutPage {
-        layout: Layout::new("How Residue works out a schedule", "/about"),
+        layout: Layout::new("The method", "/about"),
         example: schedule(&example_terms())
             .map(|s| example(&s))
             .map_err(|e| e.to_string()),
