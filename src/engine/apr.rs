@@ -1272,6 +1272,25 @@ fn nearest_standard_interval(term_days: u64, periods: u64) -> UnitPeriod {
 ///
 /// # Errors
 /// As [`find_unit_period`] and [`solve_apr`].
+///
+/// # Example
+/// ```
+/// // Regulation Z Appendix J (c)(1)(i): 5,000 advanced on 10 January 1978, 24
+/// // monthly payments of 230 from 10 February 1978: an APR of 9.69 %.
+/// use residue::engine::apr::{apr_from_dates, DatedFlow, PaymentSeries};
+/// use residue::engine::rate::Frequency;
+/// let advance = DatedFlow { amount: "5000".parse().unwrap(), date: "1978-01-10".parse().unwrap() };
+/// let payments = PaymentSeries {
+///     amount: "230".parse().unwrap(),
+///     count: 24,
+///     first_date: "1978-02-10".parse().unwrap(),
+///     frequency: Frequency::Monthly,
+/// }
+/// .flows()
+/// .unwrap();
+/// let r = apr_from_dates(&[advance], &payments).unwrap();
+/// assert_eq!(r.apr.apr_percent_rounded.to_string(), "9.69");
+/// ```
 pub fn apr_from_dates(advances: &[DatedFlow], payments: &[DatedFlow]) -> Result<DatedAprResult> {
     let advance_dates: Vec<Date> = advances.iter().map(|f| f.date).collect();
     let payment_dates: Vec<Date> = payments.iter().map(|f| f.date).collect();

@@ -87,6 +87,16 @@ pub fn apy_earned(
 /// # Errors
 /// A rate outside 0 % to 1000 %, compounding outside 1 to
 /// [`MAX_COMPOUNDING_PER_YEAR`] times a year, or an overflow.
+///
+/// # Example
+/// ```
+/// // 5 % compounded daily in a 365-day year: 100 [(1 + 0.05/365)^365 − 1] = 5.1267…,
+/// // disclosed as 5.13 % (Regulation DD Appendix A's formula; the value by hand).
+/// use residue::engine::apy::apy_of_rate;
+/// let r = apy_of_rate("5".parse().unwrap(), 365).unwrap();
+/// assert_eq!(r.apy_percent_rounded.to_string(), "5.13");
+/// assert!(r.apy_percent.to_string().starts_with("5.1267496"));
+/// ```
 pub fn apy_of_rate(annual_rate_percent: Decimal, compounding_per_year: u32) -> Result<ApyResult> {
     let rate = AnnualRate::from_percent(annual_rate_percent)?;
     if compounding_per_year == 0 || compounding_per_year > MAX_COMPOUNDING_PER_YEAR {

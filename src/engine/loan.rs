@@ -82,6 +82,15 @@ pub fn solve_balance(
 ///
 /// # Errors
 /// `n` of zero or above [`MAX_PAYMENTS`], or an overflow.
+///
+/// # Example
+/// ```
+/// // 100,000 at 6 % a year, 0.5 % a month, over 360 months: 599.55 a month
+/// // (the handbook figure for a 30-year loan at 6 %; common practice, no source).
+/// use residue::engine::loan::payment_for_term;
+/// let p = payment_for_term("100000".parse().unwrap(), "0.005".parse().unwrap(), 360).unwrap();
+/// assert_eq!(p.round_dp(2).to_string(), "599.55");
+/// ```
 pub fn payment_for_term(principal: Decimal, periodic_rate: Decimal, n: u32) -> Result<Decimal> {
     check_term(n)?;
     let r = UnitResponses::for_rate(periodic_rate)?;

@@ -137,6 +137,23 @@ impl Recurrence {
     ///
     /// # Errors
     /// An overflow of the 28-digit arithmetic.
+    ///
+    /// # Example
+    /// ```
+    /// // A 0 % plan: 2,400 repaid by 200 a period. a = 1 and the step's pole
+    /// // z = 1 coincide: a double pole, whose closed form is 2400 − 200·k.
+    /// use residue::engine::recurrence::{Input, Recurrence};
+    /// let r = Recurrence {
+    ///     a: "1".parse().unwrap(),
+    ///     x0: "2400".parse().unwrap(),
+    ///     inputs: vec![Input::Step { amount: "-200".parse().unwrap() }],
+    /// };
+    /// let s = r.solve().unwrap();
+    /// assert_eq!(s.fractions.len(), 1);
+    /// assert_eq!(s.fractions[0].multiplicity, 2);
+    /// assert!(s.closed_form.eval(12).unwrap().is_zero());
+    /// assert_eq!(s.closed_form.eval(5).unwrap().to_string(), "1400");
+    /// ```
     pub fn solve(&self) -> Result<Solution> {
         // Without inputs X(z)/z = x0/(z − a) is already one partial fraction
         // (residue x0 at the simple pole a): nothing to expand. The unit tests

@@ -225,6 +225,27 @@ pub fn payments_in_months(months: u32, frequency: Frequency) -> Result<u32> {
 ///
 /// # Errors
 /// Out-of-range terms, a payment that never repays, or an overflow; each names its field.
+///
+/// # Example
+/// ```
+/// use residue::engine::money::Currency;
+/// use residue::engine::rate::{AnnualRate, Frequency};
+/// use residue::engine::schedule::{schedule, LoanTerm, LoanTerms};
+/// let terms = LoanTerms {
+///     principal: "100000".parse().unwrap(),
+///     currency: Currency::USD,
+///     rate: AnnualRate::from_percent("6".parse().unwrap()).unwrap(),
+///     payment_frequency: Frequency::Monthly,
+///     compounding: None,
+///     term: LoanTerm::Payments(360),
+///     payment_rounding: Default::default(),
+///     interest_rounding: Default::default(),
+/// };
+/// let s = schedule(&terms).unwrap();
+/// assert_eq!(s.payment.to_string(), "599.55");
+/// // The posted ledger ends at exactly zero; its last payment absorbs the rounding.
+/// assert!(s.ledger.rows.last().unwrap().balance.is_zero());
+/// ```
 pub fn schedule(terms: &LoanTerms) -> Result<LoanSchedule> {
     schedule_with(terms, &PlanOptions::default())
 }
