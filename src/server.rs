@@ -509,7 +509,9 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         Some(Cause(cause)) => {
             tracing::warn!(request_id = id, %method, path, route, status, micros, problem, cause, "request");
         }
-        None if status >= 500 => {
+        // A 5xx with a problem (overloaded, timed out, failed) is worth a warning;
+        // /readyz's 503 while shutting down is not.
+        None if status >= 500 && !problem.is_empty() => {
             tracing::warn!(request_id = id, %method, path, route, status, micros, problem, "request");
         }
         None => {
