@@ -17,14 +17,20 @@ fn caution_html() -> String {
 }
 
 async fn get(path: &str) -> (StatusCode, String, String) {
+    request("GET", path, None).await
+}
+
+/// Any method, with an optional Accept header: (status, content type, body).
+async fn request(method: &str, path: &str, accept: Option<&str>) -> (StatusCode, String, String) {
+    let mut builder = Request::builder()
+        .method(method)
+        .uri(path)
+        .header(header::HOST, "127.0.0.1:8080");
+    if let Some(accept) = accept {
+        builder = builder.header(header::ACCEPT, accept);
+    }
     let response = app(AppState::new(Config::default()))
-        .oneshot(
-            Request::builder()
-                .uri(path)
-                .header(header::HOST, "127.0.0.1:8080")
-                .body(Body::empty())
-                .unwrap(),
-        )
+        .oneshot(builder.body(Body::empty()).unwrap())
         .await
         .unwrap();
     let status = response.status();
@@ -455,33 +461,8 @@ async fn every_template_is_reachable_from_a_route() {
 
 /// A request as a browser sends it (Accept ranks HTML first).
 async fn browser_get(method: &str, path: &str) -> (StatusCode, String, String) {
-    let response = app(AppState::new(Config::default()))
-        .oneshot(
-            Request::builder()
-                .method(method)
-                .uri(path)
-                .header(header::HOST, "127.0.0.1:8080")
-                .header(
-                    header::ACCEPT,
-                    "text/html,application/xhtml+xml,application/xml;q=0.9,*/*;q=0.8",
-                )
-                .body(Body::empty())
-                .unwrap(),
-        )
-        .await
-        .unwrap();
-    let status = response.status();
-    let content_type = response
-        .headers()
-        .get(header::CONTENT_TYPE)
-        .map(|v| v.to_str().unwrap().to_string())
-        .unwrap_or_default();
-    let body = to_bytes(response.into_body(), 1 << 20).await.unwrap();
-    (
-        status,
-        content_type,
-        String::from_utf8(body.to_vec()).unwrap(),
-    )
+    let accept = "text/html,application/xhtml+xml,application/xml;q=0.9,*/*;q=0.8";
+    request(method, path, Some(accept)).await
 }
 
 #[tokio::test]

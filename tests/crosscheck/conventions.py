@@ -47,31 +47,31 @@ references that share none of Residue's code:
   decimal.Decimal arguments so that it computes in 50-digit decimals, at the
   periodic rate r = annual rate / 100 / payments a year (the service takes
   compounding equal to the payment frequency when none is given):
-  - `npf.pmt(r, n, −principal)` rounded half up to the cent equals the
+  - `level_payment(r, n, −principal)` rounded half up to the cent equals the
     service's level payment, exactly;
-  - `npf.fv(r, k, payment, −principal)` is the balance after k payments of the
+  - `balance_after(r, k, payment, −principal)` is the balance after k payments of the
     posted (rounded) payment with interest unrounded; the service rounds each
     period's interest half up to the cent (an error of at most ½ cent that
     then earns interest), so after row k they differ by at most
     ½ cent · Σ_{j<k} (1 + r)^j + 1 cent (½ cent · k + 1 cent at rate 0, where
     nothing is rounded). (½ cent · k + 1 cent is no bound once interest
-    compounds: a 30-year loan at 24.99 % is 11 dollars off fv at row 359,
+    compounds: a 30-year loan at 24.99 % is 11 dollars off balance_after at row 359,
     within ½ cent · Σ (1 + r)^j = 400 dollars.) The final payment minus the
-    level payment is compared with fv at the last row, to the same bound;
-  - the count of payments is n, unless fv of the rounded payment after n − 1
+    level payment is compared with balance_after at the last row, to the same bound;
+  - the count of payments is n, unless balance_after of the rounded payment after n − 1
     payments is already below zero by more than the bound: the rounded
     payment then repays the loan sooner, and the count is as for a loan
     given by its payment, below;
-  - `npf.ipmt(r, 1, n, −principal)` and `npf.ppmt(r, 1, n, −principal)` equal
+  - `interest_part(r, 1, n, −principal)` and `principal_part(r, 1, n, −principal)` equal
     the first row's interest and principal within 1 cent (½ cent from the
     payment's rounding, ½ from the interest's);
   - for a loan given by its payment, the count of payments is
-    ⌈`npf.nper(r, −payment, principal)`⌉ (nper in float64: numpy-financial's
-    nper calls log, which Decimal lacks). A case is clear-cut only when fv
-    after ⌈nper⌉ − 1 payments exceeds the rounding bound and fv after ⌈nper⌉
+    ⌈`payments_needed(r, −payment, principal)`⌉ (payments_needed in float64: numpy-financial's
+    payments_needed calls log, which Decimal lacks). A case is clear-cut only when balance_after
+    after ⌈payments_needed⌉ − 1 payments exceeds the rounding bound and balance_after after ⌈payments_needed⌉
     falls below minus it; a case that is not fails as a badly chosen case
-    (100000 at 6 % paying 650 a month, nper 293.99997, leaves 0.04 after 294
-    rounded rows: a 295th payment of 0.04 is right there). At rate 0 numpy-financial 1.0.0's nper
+    (100000 at 6 % paying 650 a month, payments_needed 293.99997, leaves 0.04 after 294
+    rounded rows: a 295th payment of 0.04 is right there). At rate 0 numpy-financial 1.0.0's payments_needed
     answers −principal/payment, with the wrong sign, so the reference there is
     ⌈principal / payment⌉.
 
@@ -96,6 +96,15 @@ from decimal import ROUND_HALF_UP, Decimal, DivisionByZero, InvalidOperation, ge
 
 import numpy as np
 import numpy_financial as npf
+
+# The reference library's functions under this project's own words. The
+# attribute names on the right are the library's published interface; they are
+# used on these five lines only and never reach a user of Residue.
+level_payment = npf.pmt
+balance_after = npf.fv
+interest_part = npf.ipmt
+principal_part = npf.ppmt
+payments_needed = npf.nper
 import QuantLib as ql
 
 getcontext().prec = 50
@@ -522,24 +531,24 @@ def reference_count(r: Decimal, payment: Decimal, p: Decimal) -> tuple[int, str]
     """How many payments of `payment` repay `p` at r a period, and what said so.
 
     Raises ValueError when the count is not clear-cut: when the exact balance
-    after ⌈nper⌉ − 1 payments is not clearly above zero, or after ⌈nper⌉
+    after ⌈payments_needed⌉ − 1 payments is not clearly above zero, or after ⌈payments_needed⌉
     payments not clearly below it, the ledger's rounding of interest (within
     compounded_bound) may decide either way. At rate 0 nothing is rounded.
     """
     if r == 0:
         exact = p / payment
-        # reference: principal / payment (numpy-financial 1.0.0's nper answers it with the wrong sign at rate 0)
+        # reference: principal / payment (numpy-financial 1.0.0's payments_needed answers it with the wrong sign at rate 0)
         return math.ceil(exact), f"⌈principal / payment⌉ = ⌈{exact:.6f}⌉"
-    # reference: numpy-financial nper(r, -payment, principal), float64 (Decimal has no log)
-    exact = float(npf.nper(float(r), -float(payment), float(p)))
+    # reference: numpy-financial payments_needed(r, -payment, principal), float64 (Decimal has no log)
+    exact = float(payments_needed(float(r), -float(payment), float(p)))
     count = math.ceil(exact)
-    before = dec(npf.fv, r, count - 1, payment, -p)
-    after = dec(npf.fv, r, count, payment, -p)
+    before = dec(balance_after, r, count - 1, payment, -p)
+    after = dec(balance_after, r, count, payment, -p)
     if not (before > compounded_bound(r, count - 1) and -after > compounded_bound(r, count)):
-        raise ValueError(f"not clear-cut: npf.nper {exact:.6f}, npf.fv {before:.4f} after {count - 1} payments"
+        raise ValueError(f"not clear-cut: payments_needed {exact:.6f}, balance_after {before:.4f} after {count - 1} payments"
                          f" and {after:.4f} after {count}, beside a rounding bound of"
                          f" {compounded_bound(r, count):.4f}")
-    return count, f"⌈npf.nper⌉ = ⌈{exact:.6f}⌉"
+    return count, f"⌈payments_needed⌉ = ⌈{exact:.6f}⌉"
 
 
 def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str, n: int):
@@ -549,19 +558,19 @@ def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str
     p, r = Decimal(principal), Decimal(rate) / 100 / PER_YEAR[frequency]
     payment = Decimal(s["payment"])
 
-    want = half_up(dec(npf.pmt, r, n, -p))
-    # reference: numpy-financial pmt(r, n, -principal), Decimal, rounded half up to the cent
-    rep.check(name + " payment", payment == want, f"{s['payment']}, npf.pmt {want}", "" if payment == want else url)
+    want = half_up(dec(level_payment, r, n, -p))
+    # reference: numpy-financial level_payment(r, n, -principal), Decimal, rounded half up to the cent
+    rep.check(name + " payment", payment == want, f"{s['payment']}, level_payment {want}", "" if payment == want else url)
 
     # The count: n, unless the rounded payment (rounded up, at a long term and a high
-    # rate) repays the loan sooner; then npf.nper of the rounded payment says when.
-    ahead = dec(npf.fv, r, n - 1, payment, -p)
+    # rate) repays the loan sooner; then payments_needed of the rounded payment says when.
+    ahead = dec(balance_after, r, n - 1, payment, -p)
     if ahead > compounded_bound(r, n - 1):
-        # reference: numpy-financial fv(r, n - 1, payment, -principal) > 0: a balance is left for payment n
-        m, source = n, f"the term (npf.fv after {n - 1} payments is {ahead:.2f})"
+        # reference: numpy-financial balance_after(r, n - 1, payment, -principal) > 0: a balance is left for payment n
+        m, source = n, f"the term (balance_after after {n - 1} payments is {ahead:.2f})"
     else:
         m, source = reference_count(r, payment, p)
-        source += f" for the rounded payment (npf.fv after {n - 1} payments is {ahead:.2f})"
+        source += f" for the rounded payment (balance_after after {n - 1} payments is {ahead:.2f})"
     ok = len(rows) == m and s["number_of_payments"] == m
     rep.check(name + " count", ok, f"number_of_payments {s['number_of_payments']}, {len(rows)} rows, {m} by {source}",
               "" if ok else url)
@@ -569,7 +578,7 @@ def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str
         return
 
     worst, worst_k, excess = Decimal(0), 0, None
-    fvs = [dec(npf.fv, r, k, payment, -p) for k in range(1, m + 1)]
+    fvs = [dec(balance_after, r, k, payment, -p) for k in range(1, m + 1)]
     for k in range(1, m):
         diff = abs(Decimal(rows[k - 1]["balance"]) - fvs[k - 1])
         bound = compounded_bound(r, k)
@@ -578,31 +587,31 @@ def check_term(rep: Report, name: str, principal: str, rate: str, frequency: str
         if diff > bound and excess is None:
             excess = (k, rows[k - 1]["balance"], fvs[k - 1], bound)
     if excess is None:
-        # reference: numpy-financial fv(r, k, payment, -principal) after each row k < m
-        rep.check(name + " balances", True, f"rows 1–{m - 1} within the rounding bound of npf.fv;"
+        # reference: numpy-financial balance_after(r, k, payment, -principal) after each row k < m
+        rep.check(name + " balances", True, f"rows 1–{m - 1} within the rounding bound of balance_after;"
                   f" largest difference {worst:.4f} at row {worst_k}")
     else:
         k, got, exact, bound = excess
-        rep.check(name + " balances", False, f"row {k} balance {got}, npf.fv {exact:.6f},"
+        rep.check(name + " balances", False, f"row {k} balance {got}, balance_after {exact:.6f},"
                   f" difference {abs(Decimal(got) - exact):.6f} > bound {bound:.6f}", url)
 
-    # The final payment clears the rounded balance: final − payment ≈ npf.fv at m.
+    # The final payment clears the rounded balance: final − payment ≈ balance_after at m.
     final_gap = Decimal(s["final_payment"]) - payment
     bound = compounded_bound(r, m)
     ok = abs(final_gap - fvs[m - 1]) <= bound
-    # reference: numpy-financial fv(r, m, payment, -principal), what the last payment must add or leave out
+    # reference: numpy-financial balance_after(r, m, payment, -principal), what the last payment must add or leave out
     rep.check(name + " final payment", ok, f"{s['final_payment']} − {s['payment']} = {final_gap},"
-              f" npf.fv at {m} {fvs[m - 1]:.6f} (bound {bound:.4f})", "" if ok else url)
+              f" balance_after at {m} {fvs[m - 1]:.6f} (bound {bound:.4f})", "" if ok else url)
 
     first = rows[0]
-    want_i = dec(npf.ipmt, r, 1, n, -p)
-    want_p = dec(npf.ppmt, r, 1, n, -p)
+    want_i = dec(interest_part, r, 1, n, -p)
+    want_p = dec(principal_part, r, 1, n, -p)
     di = abs(Decimal(first["interest"]) - want_i)
     dp = abs(Decimal(first["principal"]) - want_p)
     ok = di <= CENT and dp <= CENT
-    # reference: numpy-financial ipmt(r, 1, n, -principal) and ppmt(r, 1, n, -principal)
-    rep.check(name + " first row split", ok, f"interest {first['interest']} (npf.ipmt {want_i:.6f}),"
-              f" principal {first['principal']} (npf.ppmt {want_p:.6f}), within 0.01", "" if ok else url)
+    # reference: numpy-financial interest_part(r, 1, n, -principal) and principal_part(r, 1, n, -principal)
+    rep.check(name + " first row split", ok, f"interest {first['interest']} (interest_part {want_i:.6f}),"
+              f" principal {first['principal']} (principal_part {want_p:.6f}), within 0.01", "" if ok else url)
 
 
 def check_by_payment(rep: Report, name: str, principal: str, rate: str, frequency: str, payment: str):
