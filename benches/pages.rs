@@ -42,9 +42,9 @@ fn api_answers(c: &mut Criterion) {
         .collect();
     c.bench_function("360-payment JSON schedule: read, compute, write", |b| {
         b.iter(|| {
-            let fields = residue::api::fields::Fields::new(residue::api::fields::Source::Query(
-                std::hint::black_box(&pairs),
-            ));
+            let fields = residue::input::fields::Fields::new(
+                residue::input::fields::Source::Query(std::hint::black_box(&pairs)),
+            );
             let r = residue::api::loans::schedule_request_from(fields).expect("valid");
             let s = residue::engine::schedule::schedule_with(&r.terms, &r.options).expect("solved");
             residue::api::loans::LoanScheduleDto::answer_json(&s)

@@ -1,7 +1,7 @@
 //! The router, its middleware (limits, timeouts, headers, logs) and graceful shutdown.
 
 use std::net::SocketAddr;
-use std::sync::atomic::{AtomicBool, AtomicU64, AtomicU8, Ordering};
+use std::sync::atomic::{AtomicU8, Ordering};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
 
@@ -12,92 +12,17 @@ use axum::response::{IntoResponse, Response};
 use axum::routing::{get, post};
 use axum::Router;
 use tokio::net::TcpListener;
-use tokio::sync::Semaphore;
 
 use crate::api::handlers;
-use crate::api::problem::{ApiError, ProblemKind};
-use crate::cache::{AnswerCache, Stored};
+use crate::cache::Stored;
+use crate::input::problem::{ApiError, ProblemKind};
+pub use crate::state::{AppState, Config, InFlight};
 use crate::web;
 
-/// Limits and addresses, from flags or environment variables (see `main.rs`).
-#[derive(Debug, Clone)]
-pub struct Config {
-    pub addr: SocketAddr,
-    /// The largest request body accepted.
-    pub max_body_bytes: usize,
-    /// Requests computed at once; more are answered 503 with Retry-After.
-    pub max_in_flight: usize,
-    /// The longest a request may take before it is answered 503.
-    pub request_timeout: Duration,
-    /// The longest a client may take to send a request's headers (and the longest
-    /// an open connection may sit idle before its next request).
-    pub header_read_timeout: Duration,
-    /// Bytes of computed GET answers kept for repeated requests (0: none).
-    pub answer_cache_bytes: usize,
-    /// Origins allowed to read answers from a browser (CORS); empty: none, `*`: any.
-    pub cors_origins: Vec<String>,
-    /// After SIGTERM, how long `/readyz` answers 503 while the listener still
-    /// accepts and answers, before it closes and the requests in flight drain.
-    pub shutdown_delay: Duration,
-    /// The address clients reach the service at (`http://host:port`, no trailing
-    /// slash), for the examples of the API guide; `None`: the listen address.
-    /// Never taken from a request's Host header, which any client can set.
-    pub public_url: Option<String>,
-}
-
-impl Config {
-    /// [`Config::public_url`], or `http://` and the listen address.
-    pub fn public_url(&self) -> String {
-        self.public_url
-            .clone()
-            .unwrap_or_else(|| format!("http://{}", self.addr))
-    }
-}
-
-impl Default for Config {
-    fn default() -> Self {
-        Self {
-            addr: SocketAddr::from(([127, 0, 0, 1], 8080)),
-            max_body_bytes: 1024 * 1024,
-            max_in_flight: 16,
-            request_timeout: Duration::from_secs(10),
-            header_read_timeout: Duration::from_secs(10),
-            answer_cache_bytes: 32 * 1024 * 1024,
-            cors_origins: Vec::new(),
-            shutdown_delay: Duration::ZERO,
-            public_url: None,
-        }
-    }
-}
-
-/// What every handler shares.
-#[derive(Debug, Clone)]
-pub struct AppState {
-    pub config: Arc<Config>,
-    in_flight: Arc<Semaphore>,
-    /// Batches running at once (each streams many jobs).
-    pub batches: Arc<Semaphore>,
-    pub metrics: Arc<crate::metrics::Metrics>,
-    pub cache: Arc<AnswerCache>,
-    next_request_id: Arc<AtomicU64>,
-    /// False from the moment a shutdown signal arrives: `/readyz` then answers 503.
-    pub ready: Arc<AtomicBool>,
-}
-
-impl AppState {
-    pub fn new(config: Config) -> Self {
-        let permits = config.max_in_flight.max(1);
-        let cache = Arc::new(AnswerCache::new(config.answer_cache_bytes));
-        Self {
-            cache,
-            config: Arc::new(config),
-            in_flight: Arc::new(Semaphore::new(permits)),
-            batches: Arc::new(Semaphore::new(2)),
-            metrics: Arc::new(crate::metrics::Metrics::default()),
-            next_request_id: Arc::new(AtomicU64::new(1)),
-            ready: Arc::new(AtomicBool::new(true)),
-        }
-    }
+/// A fresh application with the default configuration, which the OpenAPI
+/// document sends its examples to, so that they are real answers.
+fn example_app() -> Router {
+    app(AppState::new(Config::default()))
 }
 
 /// The whole application as one router (tests drive it without a socket).
@@ -139,7 +64,10 @@ pub fn app(state: AppState) -> Router {
         )
         // The operations above answer only the media types they offer.
         .layer(middleware::from_fn(negotiate))
-        .route("/api/openapi.json", get(crate::api::openapi::openapi_json))
+        .route(
+            "/api/openapi.json",
+            get(|| crate::api::openapi::openapi_json(example_app)),
+        )
         .merge(web::routes())
         .fallback(not_found)
         .layer(middleware::from_fn_with_state(
@@ -178,7 +106,7 @@ async fn negotiate(req: Request, next: Next) -> Response {
     } else {
         &["application/json"]
     };
-    if !handlers::acceptable(req.headers(), offered) {
+    if !crate::input::http::acceptable(req.headers(), offered) {
         return ApiError::new(
             ProblemKind::NotAcceptable,
             format!(
@@ -275,7 +203,7 @@ fn cache_key(state: &AppState, req: &Request) -> Option<String> {
     if DOCUMENTS.contains(&path) {
         return Some(path.to_string());
     }
-    let representation = if handlers::wants_csv(req.headers()) {
+    let representation = if crate::input::http::wants_csv(req.headers()) {
         "csv"
     } else {
         "json"
@@ -309,11 +237,6 @@ fn stored_answer(stored: &Stored, if_none_match: Option<&HeaderValue>) -> Respon
         .insert(header::ETAG, stored.etag.clone());
     response
 }
-
-/// A share of a request's in-flight permit, for a job the handler hands to a
-/// blocking thread (see [`crate::api::handlers::offload`]).
-#[derive(Clone)]
-pub struct InFlight(#[allow(dead_code)] Arc<tokio::sync::OwnedSemaphorePermit>);
 
 /// Routes whose handlers weigh their own work: they compute a short job on the
 /// runtime's thread and hand a long one to a blocking thread themselves
@@ -529,7 +452,7 @@ fn as_html_problem(response: Response) -> Response {
     };
     let detail = response
         .extensions()
-        .get::<crate::api::problem::ProblemDetail>()
+        .get::<crate::input::problem::ProblemDetail>()
         .map_or_else(String::new, |d| d.0.clone());
     let mut page = web::error::page(response.status(), kind.title(), &detail);
     for name in [header::RETRY_AFTER, header::CONNECTION, header::ALLOW] {

@@ -4,8 +4,8 @@
 
 use axum::body::{to_bytes, Body};
 use axum::http::{header, Request, StatusCode};
-use residue::api::problem::ProblemKind;
 use residue::engine::schedule::CAUTION;
+use residue::input::problem::ProblemKind;
 use residue::server::{app, AppState, Config};
 use residue::web::scenarios;
 use serde_json::Value;

@@ -3,12 +3,12 @@
 
 use residue::api::check::check_answer;
 use residue::api::compare;
-use residue::api::fields::{Fields, Source};
-use residue::api::handlers::query_pairs;
 use residue::api::loans::schedule_request_from;
 use residue::api::savings::savings_terms_from;
 use residue::engine::savings::plan;
 use residue::engine::schedule::{schedule_with, LoanSchedule};
+use residue::input::fields::{Fields, Source};
+use residue::input::http::query_pairs;
 use residue::web::scenarios::{all, Scenario, FILES};
 
 const JOBS: [&str; 4] = [
@@ -23,7 +23,7 @@ fn pairs(s: &Scenario) -> Vec<(String, String)> {
     query_pairs(Some(&s.query())).unwrap_or_else(|e| panic!("{}: {e:?}", s.id))
 }
 
-fn field<'a>(s: &'a Scenario, name: &str) -> Option<&'a residue::api::json::Json> {
+fn field<'a>(s: &'a Scenario, name: &str) -> Option<&'a residue::input::json::Json> {
     s.request.iter().find(|(k, _)| k == name).map(|(_, v)| v)
 }
 

@@ -3,7 +3,7 @@
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
-use residue::api::fields::{parse_date, parse_decimal};
+use residue::input::fields::{parse_date, parse_decimal};
 
 fuzz_target!(|text: &str| {
     if let Ok(v) = parse_decimal(text, false) {

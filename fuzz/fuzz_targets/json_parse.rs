@@ -3,7 +3,7 @@
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
-use residue::api::json::{parse, Json, MAX_DEPTH};
+use residue::input::json::{parse, Json, MAX_DEPTH};
 
 fn depth(v: &Json) -> usize {
     match v {

@@ -4,8 +4,8 @@
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
-use residue::api::fields::{Fields, Source};
-use residue::api::handlers::query_pairs;
+use residue::input::fields::{Fields, Source};
+use residue::input::http::query_pairs;
 use residue::api::loans::schedule_request_from;
 use residue::engine::schedule::schedule_with;
 

@@ -62,10 +62,7 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::full;
-use super::fields::{parse_decimal, Fields, Raw, Source};
-use super::handlers::{json_answer, query_pairs, JsonBody};
-use super::json::Json;
-use super::problem::{ApiError, FieldError};
+use super::handlers::{json_answer, JsonBody};
 use crate::engine::apr::{
     apr_from_dates, apr_from_dates_with_unit, solve_apr, solve_aprc_with, AprcTimeBasis,
     AprcTimeChoice, DatedFlow, PaymentSeries, UnitFlow, UnitPeriod, UnitPeriodRule,
@@ -77,6 +74,10 @@ use crate::engine::money::Currency;
 use crate::engine::rate::Frequency;
 use crate::engine::schedule::CAUTION;
 use crate::engine::EngineError;
+use crate::input::fields::{parse_decimal, Fields, Raw, Source};
+use crate::input::http::query_pairs;
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 use axum::extract::RawQuery;
 use axum::response::Response;
@@ -1449,7 +1450,7 @@ mod tests {
             ),
         ];
         let q = read_query(&pairs).unwrap();
-        let body = crate::api::json::parse(
+        let body = crate::input::json::parse(
             br#"{"advances":[{"amount":"5000","date":"1978-01-10"}],
                  "payments":[{"amount":250,"date":"1978-02-10"},
                              {"amount":"230","count":23,"first_date":"1978-03-10","frequency":"monthly"}]}"#,

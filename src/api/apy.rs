@@ -27,16 +27,17 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::full;
-use super::fields::{Fields, Source};
-use super::handlers::{json_answer, query_pairs, JsonBody};
-use super::json::Json;
-use super::problem::{ApiError, FieldError};
+use super::handlers::{json_answer, JsonBody};
 use crate::engine::apy::{
     apy_earned, apy_general, apy_of_rate, check_balance, check_days, check_interest, ApyResult,
 };
 use crate::engine::money::Currency;
 use crate::engine::rate::Frequency;
 use crate::engine::schedule::CAUTION;
+use crate::input::fields::{Fields, Source};
+use crate::input::http::query_pairs;
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 const COMPOUNDINGS: [&str; 8] = [
     "annual",

@@ -22,10 +22,10 @@ use std::collections::VecDeque;
 use futures_util::{FutureExt, StreamExt};
 use serde::Serialize;
 
-use super::fields::{Fields, Source};
-use super::json::{self, Json};
-use super::problem::{ApiError, FieldError, ProblemKind};
-use crate::server::AppState;
+use crate::input::fields::{Fields, Source};
+use crate::input::json::{self, Json};
+use crate::input::problem::{ApiError, FieldError, ProblemKind};
+use crate::state::AppState;
 
 /// The most lines one batch may hold.
 pub const MAX_LINES: usize = 100_000;
@@ -436,7 +436,7 @@ fn answer_parsed(v: &Json, out: &mut Vec<u8>) -> Result<(), ApiError> {
     for (k, _) in m {
         if !["id", "job", "request", "detail"].contains(&k.as_str()) {
             errors.push(FieldError {
-                pointer: format!("/{}", super::fields::escape_pointer(k)),
+                pointer: format!("/{}", crate::input::json::escape_pointer(k)),
                 message: "is not a known field".into(),
             });
         }

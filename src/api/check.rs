@@ -44,11 +44,8 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::full;
-use super::fields::{parse_decimal, Fields, Raw, Source};
-use super::handlers::{json_answer, query_pairs, JsonBody};
-use super::json::Json;
+use super::handlers::{json_answer, JsonBody};
 use super::loans::{read_loan_terms, read_plan_options};
-use super::problem::{ApiError, FieldError};
 use crate::engine::disclosure::{
     check_loan_with, form_dollars, form_percent, LoanCheck, PrepaidFinanceCharge, Quotes,
 };
@@ -56,6 +53,10 @@ use crate::engine::money::Currency;
 use crate::engine::plan::PlanOptions;
 use crate::engine::rate::Frequency;
 use crate::engine::schedule::LoanTerms;
+use crate::input::fields::{parse_decimal, Fields, Raw, Source};
+use crate::input::http::query_pairs;
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 /// The most prepaid finance charges a request may list.
 pub const MAX_CHARGES: usize = 50;

@@ -9,11 +9,11 @@
 use rust_decimal::Decimal;
 use serde::Serialize;
 
-use super::fields::{Fields, Source};
-use super::json::Json;
 use super::loans::{schedule_request_from, ScheduleRequest};
-use super::problem::{ApiError, FieldError};
 use crate::engine::schedule::{schedule_for_comparison, LoanSchedule, CAUTION};
+use crate::input::fields::{Fields, Source};
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 /// The most plans a comparison may hold.
 pub const MAX_PLANS: usize = 4;
@@ -96,7 +96,7 @@ pub fn from_json(body: &Json) -> Result<Comparison, ApiError> {
     for (k, _) in members {
         if k != "base" && k != "variants" {
             errors.push(FieldError {
-                pointer: format!("/{}", super::fields::escape_pointer(k)),
+                pointer: format!("/{}", crate::input::json::escape_pointer(k)),
                 message: "is not a known field".into(),
             });
         }

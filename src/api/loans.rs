@@ -4,9 +4,6 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::{full, DerivationDto};
-use super::fields::{Fields, Raw, Source};
-use super::json::Json;
-use super::problem::{ApiError, FieldError};
 use super::text::{IsoDate, Line, Repeated};
 use crate::engine::calendar::DayCount;
 use crate::engine::loan::MAX_PAYMENTS;
@@ -17,6 +14,9 @@ use crate::engine::schedule::{
     check_payment, check_payment_count, check_principal, payments_in_months, LoanSchedule,
     LoanTerm, LoanTerms, SEGMENTS_IN_FULL, SEGMENTS_LISTED,
 };
+use crate::input::fields::{Fields, Raw, Source};
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 const PAYMENT_FREQUENCIES: [&str; 7] = [
     "annual",
@@ -608,10 +608,13 @@ fn parse_extra_item(item: &str) -> Result<(Decimal, ExtraWhen), String> {
     let (amount, when) = item
         .split_once('@')
         .ok_or("write each extra payment as AMOUNT@FROM-TO, AMOUNT@AT or AMOUNT@YYYY-MM-DD")?;
-    let amount =
-        super::fields::parse_decimal(amount, false).map_err(|m| format!("the amount {m}"))?;
+    let amount = crate::input::fields::parse_decimal(amount, false)
+        .map_err(|m| format!("the amount {m}"))?;
     if when.len() == 10 && when.as_bytes()[4] == b'-' && when.as_bytes()[7] == b'-' {
-        return Ok((amount, ExtraWhen::Date(super::fields::parse_date(when)?)));
+        return Ok((
+            amount,
+            ExtraWhen::Date(crate::input::fields::parse_date(when)?),
+        ));
     }
     let (range, every) = match when.split_once('/') {
         Some((r, e)) => (
@@ -796,13 +799,15 @@ pub fn read_plan_options(
                         g.error("amount", "is required");
                     }
                     let at_number = match g.raw("at") {
-                        Some(Raw::Json(Json::String(s))) => match super::fields::parse_date(s) {
-                            Ok(d) => Some(Err(d)),
-                            Err(m) => {
-                                g.error("at", m);
-                                None
+                        Some(Raw::Json(Json::String(s))) => {
+                            match crate::input::fields::parse_date(s) {
+                                Ok(d) => Some(Err(d)),
+                                Err(m) => {
+                                    g.error("at", m);
+                                    None
+                                }
                             }
-                        },
+                        }
                         Some(_) => g.count("at", MAX_PAYMENTS).map(Ok),
                         None => None,
                     };
@@ -902,7 +907,7 @@ pub fn read_plan_options(
                         .parse::<u32>()
                         .ok()
                         .filter(|at| *at <= MAX_PAYMENTS)?;
-                    let rate = super::fields::parse_decimal(rate.trim(), false).ok()?;
+                    let rate = crate::input::fields::parse_decimal(rate.trim(), false).ok()?;
                     Some((at, rate))
                 });
                 match parsed.map(|(at, r)| (at, AnnualRate::from_percent(r))) {

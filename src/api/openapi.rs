@@ -4,8 +4,8 @@
 //!
 //! - every answer's schema is derived (`utoipa::ToSchema`) from the DTO the
 //!   handler serializes (`LoanScheduleDto`, `CheckAnswer`, `Problem`, …);
-//! - requests are read by hand (the strict [`super::json`] reader and
-//!   [`super::fields::Fields`]), so their schemas are the structs of
+//! - requests are read by hand (the strict [`crate::input::json`] reader and
+//!   [`crate::input::fields::Fields`]), so their schemas are the structs of
 //!   [`request`] below, kept next to the readers' field lists by unit tests
 //!   (property names equal `LOAN_FIELDS`, `PLAN_FIELDS` and `SAVINGS_FIELDS`;
 //!   every property of the other requests is a field the reader knows);
@@ -23,6 +23,7 @@ use std::borrow::Cow;
 use axum::body::Body;
 use axum::http::{header, Request};
 use axum::response::{IntoResponse, Response};
+use axum::Router;
 use serde_json::{json, Map, Value};
 use utoipa::openapi::schema::{ObjectBuilder, Schema, SchemaType, Type};
 use utoipa::openapi::RefOr;
@@ -499,7 +500,7 @@ pub struct BatchAnswerLine {
     #[schema(value_type = Option<Object>)]
     pub result: Option<serde_json::Value>,
     /// With `ok: false`: what went wrong, pointers relative to the line's `request`.
-    pub problem: Option<super::problem::Problem>,
+    pub problem: Option<crate::input::problem::Problem>,
 }
 
 /// The answer of `GET /healthz`.
@@ -609,7 +610,7 @@ impl ToSchema for CurrencyCode {
         super::apy::ApyAnswer,
         super::recurrence::RecurrenceAnswer,
         super::savings::SavingsPlanDto,
-        super::problem::Problem,
+        crate::input::problem::Problem,
     ))
 )]
 struct ApiDoc;
@@ -1170,13 +1171,10 @@ fn example_request(op: &Operation, csv: bool) -> Option<Request<Body>> {
     }
 }
 
-async fn answer_text(op: &Operation, csv: bool) -> Option<String> {
+async fn answer_text(op: &Operation, csv: bool, app: &Router) -> Option<String> {
     use tower::ServiceExt;
     let request = example_request(op, csv)?;
-    let app = crate::server::app(crate::server::AppState::new(
-        crate::server::Config::default(),
-    ));
-    let response = app.oneshot(request).await.ok()?;
+    let response = app.clone().oneshot(request).await.ok()?;
     if !response.status().is_success() {
         tracing::warn!(
             operation = op.id,
@@ -1191,31 +1189,32 @@ async fn answer_text(op: &Operation, csv: bool) -> Option<String> {
     String::from_utf8(bytes.to_vec()).ok()
 }
 
-/// The document with every operation's answer example, computed by the application itself.
-pub async fn document_with_examples() -> Value {
+/// The document with every operation's answer example, computed by the
+/// application itself (`app`, handed in by the router that serves it).
+pub async fn document_with_examples(app: Router) -> Value {
     let mut doc = document();
     for op in OPERATIONS {
         let content = &mut doc["paths"][op.path][op.method]["responses"]["200"]["content"];
         match op.answer {
             Answer::Json(_) | Answer::JsonOrCsv(_) => {
-                if let Some(text) = answer_text(op, false).await {
+                if let Some(text) = answer_text(op, false, &app).await {
                     if let Ok(v) = serde_json::from_str::<Value>(&text) {
                         content["application/json"]["example"] = v;
                     }
                 }
                 if matches!(op.answer, Answer::JsonOrCsv(_)) {
-                    if let Some(text) = answer_text(op, true).await {
+                    if let Some(text) = answer_text(op, true, &app).await {
                         content["text/csv"]["example"] = json!(text);
                     }
                 }
             }
             Answer::Csv => {
-                if let Some(text) = answer_text(op, false).await {
+                if let Some(text) = answer_text(op, false, &app).await {
                     content["text/csv"]["example"] = json!(text);
                 }
             }
             Answer::Ndjson => {
-                if let Some(text) = answer_text(op, false).await {
+                if let Some(text) = answer_text(op, false, &app).await {
                     content["application/x-ndjson"]["example"] = json!(text);
                 }
             }
@@ -1234,11 +1233,12 @@ pub async fn document_with_examples() -> Value {
 
 static DOCUMENT: tokio::sync::OnceCell<Vec<u8>> = tokio::sync::OnceCell::const_new();
 
-/// `GET /api/openapi.json`
-pub async fn openapi_json() -> Response {
+/// `GET /api/openapi.json`; `app` builds the application that computes the
+/// answer examples, once.
+pub async fn openapi_json(app: fn() -> Router) -> Response {
     let bytes = DOCUMENT
         .get_or_init(|| async {
-            serde_json::to_vec_pretty(&document_with_examples().await).unwrap_or_default()
+            serde_json::to_vec_pretty(&document_with_examples(app()).await).unwrap_or_default()
         })
         .await;
     ([(header::CONTENT_TYPE, "application/json")], bytes.clone()).into_response()
@@ -1247,8 +1247,8 @@ pub async fn openapi_json() -> Response {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::api::fields::{Fields, Source};
-    use crate::api::json::Json;
+    use crate::input::fields::{Fields, Source};
+    use crate::input::json::Json;
 
     fn properties(doc: &Value, schema: &str) -> Vec<String> {
         doc["components"]["schemas"][schema]["properties"]
@@ -1329,7 +1329,7 @@ mod tests {
                 );
             }
         };
-        let of = |e: crate::api::problem::ApiError| -> Vec<String> {
+        let of = |e: crate::input::problem::ApiError| -> Vec<String> {
             e.errors
                 .into_iter()
                 .filter(|e| e.message == "is not a known field")

@@ -7,11 +7,11 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::{full, DerivationDto};
-use super::fields::{Fields, Source};
-use super::json::Json;
-use super::problem::{ApiError, FieldError};
 use crate::engine::recurrence::{Input, Recurrence};
 use crate::engine::schedule::CAUTION;
+use crate::input::fields::{Fields, Source};
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 /// The most inputs, and the most evaluation points, a request may have.
 pub const MAX_ITEMS: usize = 16;
@@ -69,7 +69,7 @@ pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> 
     let mut inputs = Vec::new();
     if let Some(raw) = f.raw("inputs") {
         match raw {
-            super::fields::Raw::Json(Json::Array(items)) if items.len() <= MAX_ITEMS => {
+            crate::input::fields::Raw::Json(Json::Array(items)) if items.len() <= MAX_ITEMS => {
                 for (index, item) in items.iter().enumerate() {
                     let pointer = format!("/inputs/{index}");
                     let Json::Object(m) = item else {
@@ -127,19 +127,19 @@ pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> 
                     finish_into(g, &mut errors);
                 }
             }
-            super::fields::Raw::Json(Json::Array(_)) => {
+            crate::input::fields::Raw::Json(Json::Array(_)) => {
                 f.error("inputs", format!("may hold at most {MAX_ITEMS} inputs"))
             }
-            super::fields::Raw::Json(other) => {
+            crate::input::fields::Raw::Json(other) => {
                 f.error("inputs", format!("must be an array, not {}", other.kind()))
             }
-            super::fields::Raw::Text(_) => f.error("inputs", "must be an array"),
+            crate::input::fields::Raw::Text(_) => f.error("inputs", "must be an array"),
         }
     }
     let mut ks = Vec::new();
     if let Some(raw) = f.raw("evaluate_at") {
         match raw {
-            super::fields::Raw::Json(Json::Array(items)) if items.len() <= MAX_ITEMS => {
+            crate::input::fields::Raw::Json(Json::Array(items)) if items.len() <= MAX_ITEMS => {
                 for (index, item) in items.iter().enumerate() {
                     let ok = match item {
                         Json::Number(t) => t.parse::<u32>().ok().filter(|k| *k <= MAX_K),

@@ -26,10 +26,7 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::derivation::{full, short, DerivationDto};
-use super::fields::{Fields, Source};
-use super::handlers::{csv_answer, json_answer, query_pairs, wants_csv, JsonBody};
-use super::json::Json;
-use super::problem::{ApiError, FieldError};
+use super::handlers::{csv_answer, json_answer, JsonBody};
 use super::text::IsoDate;
 use crate::engine::money::{AmountText, Currency};
 use crate::engine::rate::{AnnualRate, Frequency};
@@ -37,6 +34,10 @@ use crate::engine::savings::{
     check_amount, check_periods, periods_in_months, plan, Flow, Growth, GrowthEvery, PeriodSearch,
     Question, SavingsPlan, SavingsTerms, Timing,
 };
+use crate::input::fields::{Fields, Source};
+use crate::input::http::{query_pairs, wants_csv};
+use crate::input::json::Json;
+use crate::input::problem::{ApiError, FieldError};
 
 const DEPOSIT_FREQUENCIES: [&str; 7] = [
     "annual",

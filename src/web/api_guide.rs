@@ -7,8 +7,8 @@ use axum::extract::State;
 use axum::response::Response;
 
 use super::{render, Layout};
-use crate::api::problem::ProblemKind;
-use crate::server::AppState;
+use crate::input::problem::ProblemKind;
+use crate::state::AppState;
 
 /// One operation of the API.
 pub struct Operation {

@@ -9,9 +9,9 @@ use super::form::{normalize, query_string, Form};
 use super::view::{group_thousands as g, Figure};
 use super::{render_form, Layout};
 use crate::api::check::{check_answer, CheckAnswer};
-use crate::api::fields::{Fields, Source};
-use crate::api::handlers::query_pairs;
-use crate::api::problem::ApiError;
+use crate::input::fields::{Fields, Source};
+use crate::input::http::query_pairs;
+use crate::input::problem::ApiError;
 
 /// The check form's groups.
 pub const CHECK_FORM: [(&str, bool, &[&str]); 4] = [

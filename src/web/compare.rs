@@ -9,8 +9,8 @@ use super::form::{normalize, query_string, Form};
 use super::loan::{balance_series, LOAN_FORM};
 use super::{render_form, Layout};
 use crate::api::compare::{from_query_with, CompareDto};
-use crate::api::handlers::query_pairs;
-use crate::api::problem::ApiError;
+use crate::input::http::query_pairs;
+use crate::input::problem::ApiError;
 
 /// The values of an empty form: a first home at three terms.
 pub const COMPARE_DEFAULTS: [(&str, &str); 3] = [

@@ -65,7 +65,7 @@ pub fn prefers_html(headers: &HeaderMap) -> bool {
     else {
         return false;
     };
-    let q = |media: &str| crate::api::handlers::weight_of(accept, media);
+    let q = |media: &str| crate::input::http::weight_of(accept, media);
     let html = q("text/html");
     html > 0.0 && html > q("application/json").max(q("application/problem+json"))
 }

@@ -1,7 +1,7 @@
 //! The forms of the pages: field labels, the values a person typed, and the
 //! errors of the API's problem put next to the field they name, in words.
 
-use crate::api::problem::ApiError;
+use crate::input::problem::ApiError;
 
 /// How a field is entered.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -408,7 +408,7 @@ fn grouped_by_thousands(v: &str) -> bool {
 }
 
 fn tidy_number(v: &str) -> String {
-    match crate::api::fields::parse_decimal(v, true) {
+    match crate::input::fields::parse_decimal(v, true) {
         Ok(d) => d.to_string(),
         Err(_) => v.trim().to_string(),
     }

@@ -10,11 +10,11 @@ use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
 use super::view::{money, percent, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS};
 use super::{render_form, Layout};
-use crate::api::fields::{Fields, Source};
-use crate::api::handlers::query_pairs;
 use crate::api::loans::schedule_request_from;
-use crate::api::problem::ApiError;
 use crate::engine::schedule::{schedule_with, LoanSchedule};
+use crate::input::fields::{Fields, Source};
+use crate::input::http::query_pairs;
+use crate::input::problem::ApiError;
 
 /// The loan form's groups: (legend, folded, fields).
 pub const LOAN_FORM: [(&str, bool, &[&str]); 3] = [

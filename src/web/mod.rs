@@ -31,7 +31,7 @@ use axum::routing::get;
 use axum::Router;
 
 use crate::engine::schedule::CAUTION;
-use crate::server::AppState;
+use crate::state::AppState;
 
 /// The pages in the navigation, in order: (path, name).
 pub const NAV: [(&str, &str); 7] = [
@@ -87,8 +87,8 @@ fn today() -> String {
 pub fn render<T: Template>(page: &T) -> Response {
     match page.render() {
         Ok(html) => Html(html).into_response(),
-        Err(_) => crate::api::problem::ApiError::new(
-            crate::api::problem::ProblemKind::Internal,
+        Err(_) => crate::input::problem::ApiError::new(
+            crate::input::problem::ProblemKind::Internal,
             "the page could not be rendered",
         )
         .into_response(),

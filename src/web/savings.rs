@@ -12,11 +12,11 @@ use super::view::{
     group_thousands as g, money, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS,
 };
 use super::{render_form, Layout};
-use crate::api::fields::{Fields, Source};
-use crate::api::handlers::query_pairs;
-use crate::api::problem::ApiError;
 use crate::api::savings::{savings_terms_from, SavingsPlanDto};
 use crate::engine::savings::{plan, SavingsPlan};
+use crate::input::fields::{Fields, Source};
+use crate::input::http::query_pairs;
+use crate::input::problem::ApiError;
 
 /// The savings form's groups.
 pub const SAVINGS_FORM: [(&str, bool, &[&str]); 3] = [

@@ -1,6 +1,6 @@
 //! The demo scenarios: invented plans shipped in `demo-scenarios/`, compiled in.
 
-use crate::api::json::{self, Json};
+use crate::input::json::{self, Json};
 
 /// The scenario files, in the order the home page lists them.
 pub const FILES: [(&str, &str); 10] = [

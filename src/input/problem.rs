@@ -249,7 +249,7 @@ impl From<crate::weight::Busy> for ApiError {
 impl IntoResponse for ApiError {
     fn into_response(self) -> Response {
         let status = self.kind.status();
-        let body = super::emit::to_vec(&self.problem()).unwrap_or_default();
+        let body = serde_json::to_vec(&self.problem()).unwrap_or_default();
         let mut response = (status, body).into_response();
         let headers = response.headers_mut();
         headers.insert(

@@ -165,7 +165,7 @@ impl Parser<'_> {
             if members.iter().any(|(k, _)| *k == key) {
                 self.i = at;
                 let mut e = self.error(&format!("the member \"{}\" appears twice", truncate(&key)));
-                e.pointer = Some(format!("/{}", super::fields::escape_pointer(&key)));
+                e.pointer = Some(format!("/{}", escape_pointer(&key)));
                 return Err(e);
             }
             self.ws();
@@ -177,7 +177,7 @@ impl Parser<'_> {
             // A duplicate deeper down: its pointer gains this member's name.
             let v = self.value(depth + 1).map_err(|mut e| {
                 if let Some(p) = &mut e.pointer {
-                    *p = format!("/{}{p}", super::fields::escape_pointer(&key));
+                    *p = format!("/{}{p}", escape_pointer(&key));
                 }
                 e
             })?;
@@ -342,6 +342,11 @@ impl Parser<'_> {
 
 fn truncate(s: &str) -> String {
     s.chars().take(40).collect()
+}
+
+/// Escapes a member name for a JSON Pointer (RFC 6901: ~ as ~0, / as ~1).
+pub fn escape_pointer(name: &str) -> String {
+    name.replace('~', "~0").replace('/', "~1")
 }
 
 #[cfg(test)]

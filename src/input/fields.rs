@@ -7,7 +7,7 @@
 
 use rust_decimal::Decimal;
 
-use super::json::Json;
+use super::json::{escape_pointer, Json};
 use super::problem::FieldError;
 
 /// Where the fields come from.
@@ -300,11 +300,6 @@ pub fn with_example(message: String, name: &str) -> String {
         &format!("e.g. {MONEY_EXAMPLE},"),
         &format!("e.g. {example},"),
     )
-}
-
-/// Escapes a member name for a JSON Pointer (RFC 6901: ~ as ~0, / as ~1).
-pub fn escape_pointer(name: &str) -> String {
-    name.replace('~', "~0").replace('/', "~1")
 }
 
 /// `text` without its thousands separators (commas, spaces, no-break spaces or

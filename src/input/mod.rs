@@ -1,0 +1,13 @@
+//! The request-reading layer, shared by the API and the pages: everything a
+//! request says becomes a typed value here, or a problem naming the field.
+//!
+//! - [`json`]: the strict JSON reader (duplicate members, depth, exact numbers);
+//! - [`fields`]: one field reader for JSON bodies and query strings, with one
+//!   parser per kind of value;
+//! - [`problem`]: problem details (RFC 9457) and field errors with their codes;
+//! - [`http`]: the query string's pairs and the Accept header's weights.
+
+pub mod fields;
+pub mod http;
+pub mod json;
+pub mod problem;
