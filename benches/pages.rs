@@ -45,7 +45,7 @@ fn api_answers(c: &mut Criterion) {
             let fields = residue::input::fields::Fields::new(
                 residue::input::fields::Source::Query(std::hint::black_box(&pairs)),
             );
-            let r = residue::api::loans::schedule_request_from(fields).expect("valid");
+            let r = residue::input::loan::schedule_request_from(fields).expect("valid");
             let s = residue::engine::schedule::schedule_with(&r.terms, &r.options).expect("solved");
             residue::api::loans::LoanScheduleDto::answer_json(&s)
         })

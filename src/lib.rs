@@ -9,6 +9,7 @@
 //! - [`server`]: router, middleware and shutdown.
 //! - [`weight`]: the in-flight limit weighed by a request's expected work.
 
+pub mod answer;
 pub mod api;
 pub mod cache;
 pub mod engine;

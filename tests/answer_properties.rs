@@ -9,8 +9,9 @@
 //! the texts of the serialized rows.
 
 use proptest::prelude::*;
-use residue::api::loans::{schedule_csv, schedule_request_from, LoanScheduleDto};
+use residue::api::loans::{schedule_csv, LoanScheduleDto};
 use residue::input::fields::{Fields, Source};
+use residue::input::loan::schedule_request_from;
 
 /// An amount with `decimals` decimals and `digits` digits in all (at least one).
 fn amount(units: u64, digits: u32, decimals: u32) -> String {

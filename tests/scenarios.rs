@@ -1,14 +1,14 @@
 //! Every demo scenario is listed, parses, covers the four jobs, and computes
 //! through its job's reader and engine call with the query the home page links.
 
-use residue::api::check::check_answer;
-use residue::api::compare;
-use residue::api::loans::schedule_request_from;
-use residue::api::savings::savings_terms_from;
+use residue::answer::check::check_answer;
+use residue::answer::compare;
 use residue::engine::savings::plan;
 use residue::engine::schedule::{schedule_with, LoanSchedule};
 use residue::input::fields::{Fields, Source};
 use residue::input::http::query_pairs;
+use residue::input::loan::schedule_request_from;
+use residue::input::savings::savings_terms_from;
 use residue::web::scenarios::{all, Scenario, FILES};
 
 const JOBS: [&str; 4] = [

@@ -6,7 +6,7 @@
 use libfuzzer_sys::fuzz_target;
 use residue::input::fields::{Fields, Source};
 use residue::input::http::query_pairs;
-use residue::api::loans::schedule_request_from;
+use residue::input::loan::schedule_request_from;
 use residue::engine::schedule::schedule_with;
 
 fuzz_target!(|tail: &str| {

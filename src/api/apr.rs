@@ -61,8 +61,8 @@ use rust_decimal::prelude::ToPrimitive;
 use rust_decimal::Decimal;
 use serde::Serialize;
 
-use super::derivation::full;
 use super::handlers::{json_answer, JsonBody};
+use crate::answer::derivation::full;
 use crate::engine::apr::{
     apr_from_dates, apr_from_dates_with_unit, solve_apr, solve_aprc_with, AprcTimeBasis,
     AprcTimeChoice, DatedFlow, PaymentSeries, UnitFlow, UnitPeriod, UnitPeriodRule,

@@ -26,8 +26,8 @@ use axum::response::Response;
 use rust_decimal::Decimal;
 use serde::Serialize;
 
-use super::derivation::full;
 use super::handlers::{json_answer, JsonBody};
+use crate::answer::derivation::full;
 use crate::engine::apy::{
     apy_earned, apy_general, apy_of_rate, check_balance, check_days, check_interest, ApyResult,
 };

@@ -73,7 +73,7 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
     };
     match job {
         "loan_schedule" => {
-            let r = super::loans::schedule_request_from(fields(members(request)?))?;
+            let r = crate::input::loan::schedule_request_from(fields(members(request)?))?;
             let s = crate::engine::schedule::schedule_with(&r.terms, &r.options)
                 .map_err(|e| r.problem(e, "/"))?;
             if detail == Detail::Summary {
@@ -92,8 +92,10 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
         }
         "loan_check" => {
             // Every figure and note stays in a summary; the form-rounding table is in `full`.
-            let answer =
-                super::check::check_answer_with(fields(members(request)?), detail == Detail::Full)?;
+            let answer = crate::answer::check::check_answer_with(
+                fields(members(request)?),
+                detail == Detail::Full,
+            )?;
             write(out, &answer)
         }
         "apr" => write(out, &super::apr::answer(&super::apr::read_json(request)?)?),
@@ -102,10 +104,11 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
             &super::apy::answer(&super::apy::read_apy(fields(members(request)?))?, "/")?,
         ),
         "savings_plan" => {
-            let terms = super::savings::savings_terms_from(fields(members(request)?))?;
-            let p = crate::engine::savings::plan(&terms)
-                .map_err(|e| super::savings::overflow_named(ApiError::from_engine(e, "/"), "/"))?;
-            let dto = super::savings::SavingsPlanDto::from_plan(&p);
+            let terms = crate::input::savings::savings_terms_from(fields(members(request)?))?;
+            let p = crate::engine::savings::plan(&terms).map_err(|e| {
+                crate::answer::savings::overflow_named(ApiError::from_engine(e, "/"), "/")
+            })?;
+            let dto = crate::answer::savings::SavingsPlanDto::from_plan(&p);
             if detail == Detail::Summary {
                 write(
                     out,

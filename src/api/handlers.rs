@@ -7,13 +7,14 @@ use axum::response::{IntoResponse, Response};
 use axum::{Extension, Json as JsonResponse};
 use serde::Serialize;
 
-use super::loans::{schedule_csv, schedule_request_from, LoanScheduleDto};
+use super::loans::{schedule_csv, LoanScheduleDto};
 use super::recurrence;
 use crate::engine::plan::{PlanOptions, RateChangeKeeps};
 use crate::engine::schedule::{schedule_with, LoanTerm};
 use crate::input::fields::{Fields, Source};
 use crate::input::http::{query_pairs, wants_csv};
 use crate::input::json::{self, Json};
+use crate::input::loan::schedule_request_from;
 use crate::input::problem::{ApiError, FieldError, ProblemKind};
 use crate::state::{AppState, InFlight};
 
@@ -299,8 +300,8 @@ pub async fn schedule_get_csv(
     loan_answer(Fields::new(Source::Query(&pairs)), true, held).await
 }
 
-fn compare_answer(c: &super::compare::Comparison, csv: bool) -> Response {
-    let dto = super::compare::CompareDto::from_comparison(c);
+fn compare_answer(c: &crate::answer::compare::Comparison, csv: bool) -> Response {
+    let dto = crate::answer::compare::CompareDto::from_comparison(c);
     if csv {
         csv_answer(super::compare::compare_csv(&dto), "comparison.csv")
     } else {
@@ -314,7 +315,7 @@ pub async fn compare_post(
     JsonBody(body): JsonBody,
 ) -> Result<Response, ApiError> {
     Ok(compare_answer(
-        &super::compare::from_json(&body)?,
+        &crate::answer::compare::from_json(&body)?,
         wants_csv(&headers),
     ))
 }
@@ -323,7 +324,7 @@ pub async fn compare_post(
 pub async fn compare_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
     Ok(compare_answer(
-        &super::compare::from_query(&pairs)?,
+        &crate::answer::compare::from_query(&pairs)?,
         wants_csv(&headers),
     ))
 }
@@ -331,7 +332,10 @@ pub async fn compare_get(headers: HeaderMap, RawQuery(q): RawQuery) -> Result<Re
 /// `GET /api/v1/loans/compare.csv?…`
 pub async fn compare_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError> {
     let pairs = query_pairs(q.as_deref())?;
-    Ok(compare_answer(&super::compare::from_query(&pairs)?, true))
+    Ok(compare_answer(
+        &crate::answer::compare::from_query(&pairs)?,
+        true,
+    ))
 }
 
 /// `POST /api/v1/recurrence`

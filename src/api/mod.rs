@@ -5,7 +5,7 @@ pub mod apy;
 pub mod batch;
 pub mod check;
 pub mod compare;
-pub mod derivation;
+
 pub mod emit;
 pub mod handlers;
 pub mod loans;

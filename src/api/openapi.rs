@@ -604,12 +604,12 @@ impl ToSchema for CurrencyCode {
         BatchAnswerLine,
         Health,
         super::loans::LoanScheduleDto,
-        super::compare::CompareDto,
-        super::check::CheckAnswer,
+        crate::answer::compare::CompareDto,
+        crate::answer::check::CheckAnswer,
         super::apr::AprAnswer,
         super::apy::ApyAnswer,
         super::recurrence::RecurrenceAnswer,
-        super::savings::SavingsPlanDto,
+        crate::answer::savings::SavingsPlanDto,
         crate::input::problem::Problem,
     ))
 )]
@@ -1267,9 +1267,9 @@ mod tests {
     #[test]
     fn request_schemas_name_exactly_the_readers_fields() {
         let doc = document();
-        let loan: Vec<String> = crate::api::loans::LOAN_FIELDS
+        let loan: Vec<String> = crate::input::loan::LOAN_FIELDS
             .iter()
-            .chain(crate::api::loans::PLAN_FIELDS.iter())
+            .chain(crate::input::loan::PLAN_FIELDS.iter())
             .map(|s| s.to_string())
             .collect();
         assert_eq!(
@@ -1278,7 +1278,7 @@ mod tests {
         );
         // A variant is any schedule field over the base.
         assert_eq!(sorted(properties(&doc, "CompareVariant")), sorted(loan));
-        let savings: Vec<String> = crate::api::savings::SAVINGS_FIELDS
+        let savings: Vec<String> = crate::input::savings::SAVINGS_FIELDS
             .iter()
             .map(|s| s.to_string())
             .collect();
@@ -1288,10 +1288,10 @@ mod tests {
         );
         // The plan fields that shape scheduled payments; `extra_payments` is read
         // only to be refused (a disclosure counts scheduled payments), `label` not at all.
-        let check: Vec<String> = crate::api::loans::LOAN_FIELDS
+        let check: Vec<String> = crate::input::loan::LOAN_FIELDS
             .iter()
             .chain(
-                crate::api::loans::PLAN_FIELDS
+                crate::input::loan::PLAN_FIELDS
                     .iter()
                     .filter(|f| !["extra_payments", "label"].contains(f)),
             )
@@ -1339,7 +1339,7 @@ mod tests {
         let source = |m: &[(String, Json)]| -> Vec<(String, Json)> { m.to_vec() };
         unknown("LoanScheduleRequest", &|m| {
             let m = source(m);
-            crate::api::loans::schedule_request_from(Fields::new(Source::Json {
+            crate::input::loan::schedule_request_from(Fields::new(Source::Json {
                 members: &m,
                 pointer: "",
             }))
@@ -1348,7 +1348,7 @@ mod tests {
             .unwrap_or_default()
         });
         unknown("LoanCheckRequest", &|m| {
-            crate::api::check::read_check(Fields::new(Source::Json {
+            crate::input::check::read_check(Fields::new(Source::Json {
                 members: m,
                 pointer: "",
             }))
@@ -1366,7 +1366,7 @@ mod tests {
             .unwrap_or_default()
         });
         unknown("SavingsPlanRequest", &|m| {
-            crate::api::savings::savings_terms_from(Fields::new(Source::Json {
+            crate::input::savings::savings_terms_from(Fields::new(Source::Json {
                 members: m,
                 pointer: "",
             }))

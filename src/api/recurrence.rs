@@ -6,7 +6,7 @@
 use rust_decimal::Decimal;
 use serde::Serialize;
 
-use super::derivation::{full, DerivationDto};
+use crate::answer::derivation::{full, DerivationDto};
 use crate::engine::recurrence::{Input, Recurrence};
 use crate::engine::schedule::CAUTION;
 use crate::input::fields::{Fields, Source};

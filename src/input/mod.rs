@@ -5,9 +5,15 @@
 //! - [`fields`]: one field reader for JSON bodies and query strings, with one
 //!   parser per kind of value;
 //! - [`problem`]: problem details (RFC 9457) and field errors with their codes;
-//! - [`http`]: the query string's pairs and the Accept header's weights.
+//! - [`http`]: the query string's pairs and the Accept header's weights;
+//! - one reader per operation: [`loan`] (schedule), [`compare`], [`check`],
+//!   [`savings`], [`apr`], [`apy`], [`recurrence`].
 
+pub mod check;
+pub mod compare;
 pub mod fields;
 pub mod http;
 pub mod json;
+pub mod loan;
 pub mod problem;
+pub mod savings;

@@ -8,7 +8,7 @@ use axum::response::Response;
 use super::form::{normalize, query_string, Form};
 use super::view::{group_thousands as g, Figure};
 use super::{render_form, Layout};
-use crate::api::check::{check_answer, CheckAnswer};
+use crate::answer::check::{check_answer, CheckAnswer};
 use crate::input::fields::{Fields, Source};
 use crate::input::http::query_pairs;
 use crate::input::problem::ApiError;
@@ -216,8 +216,8 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
     let loan: Vec<(String, String)> = normalized
         .iter()
         .filter(|(k, _)| {
-            crate::api::loans::LOAN_FIELDS.contains(&k.as_str())
-                || crate::api::loans::PLAN_FIELDS.contains(&k.as_str())
+            crate::input::loan::LOAN_FIELDS.contains(&k.as_str())
+                || crate::input::loan::PLAN_FIELDS.contains(&k.as_str())
         })
         .cloned()
         .collect();

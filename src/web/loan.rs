@@ -10,10 +10,10 @@ use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
 use super::view::{money, percent, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS};
 use super::{render_form, Layout};
-use crate::api::loans::schedule_request_from;
 use crate::engine::schedule::{schedule_with, LoanSchedule};
 use crate::input::fields::{Fields, Source};
 use crate::input::http::query_pairs;
+use crate::input::loan::schedule_request_from;
 use crate::input::problem::ApiError;
 
 /// The loan form's groups: (legend, folded, fields).
@@ -255,7 +255,7 @@ fn derivation(s: &LoanSchedule) -> LoanDerivation {
             ),
             format!(
                 "h[n] is what one unit of principal grows to after n periods with nothing paid; u[n] is what a payment of one each period adds up to over the same n periods. The loan is repaid when the principal's growth equals the payments' total: principal·h[{n}] = P·u[{n}]. That gives the exact payment {}, and the posted payment is rounded to the cent: {}.",
-                crate::api::derivation::short(p.exact_payment.round_dp(8)),
+                crate::answer::derivation::short(p.exact_payment.round_dp(8)),
                 money(c, s.payment),
                 n = p.n
             ),
@@ -295,9 +295,9 @@ fn derivation(s: &LoanSchedule) -> LoanDerivation {
             mathml::reconciliation(r.largest_drift, r.at_payment.max(1), r.bound),
             format!(
                 "The closed form keeps every fraction of a cent; the posted ledger rounds each period's interest to the cent, as a servicing system books it. The two drift apart by at most {} (at payment {}), within what rounding can cause by then, {}. The final payment takes up what is left so the balance ends at exactly zero.",
-                crate::api::derivation::short(r.largest_drift.round_dp(6)),
+                crate::answer::derivation::short(r.largest_drift.round_dp(6)),
                 r.at_payment,
-                crate::api::derivation::short(r.bound.round_dp(6)),
+                crate::answer::derivation::short(r.bound.round_dp(6)),
             ),
         )
     });
@@ -407,7 +407,7 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
     figures.push(Figure::new(
         "Periodic rate",
         percent(s.periodic_rate * Decimal::ONE_HUNDRED),
-        crate::api::derivation::full(s.periodic_rate),
+        crate::answer::derivation::full(s.periodic_rate),
         "per payment period",
     ));
     let mut changed = Vec::new();

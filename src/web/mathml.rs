@@ -7,7 +7,7 @@
 use rust_decimal::Decimal;
 
 use super::charts::escape;
-use crate::api::derivation::short;
+use crate::answer::derivation::short;
 use crate::engine::poly::Poly;
 use crate::engine::recurrence::{Input, Recurrence, Solution};
 use crate::engine::zdomain::ClosedForm;
@@ -320,7 +320,7 @@ pub struct Step {
 
 /// The steps from a recurrence to its closed form, for a reader who has not studied signals.
 pub fn steps(s: &Solution, what: &str) -> Vec<Step> {
-    let dto = crate::api::derivation::DerivationDto::from_solution(s);
+    let dto = crate::answer::derivation::DerivationDto::from_solution(s);
     let pole_words = poles(s);
     let a = short(s.recurrence.a);
     let repeated = s.fractions.iter().any(|f| f.multiplicity > 1);

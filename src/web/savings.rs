@@ -12,11 +12,12 @@ use super::view::{
     group_thousands as g, money, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS,
 };
 use super::{render_form, Layout};
-use crate::api::savings::{savings_terms_from, SavingsPlanDto};
+use crate::answer::savings::SavingsPlanDto;
 use crate::engine::savings::{plan, SavingsPlan};
 use crate::input::fields::{Fields, Source};
 use crate::input::http::query_pairs;
 use crate::input::problem::ApiError;
+use crate::input::savings::savings_terms_from;
 
 /// The savings form's groups.
 pub const SAVINGS_FORM: [(&str, bool, &[&str]); 3] = [
@@ -173,7 +174,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
     f.lenient = true;
     let terms = savings_terms_from(f)?;
     let p = plan(&terms)
-        .map_err(|e| crate::api::savings::overflow_named(ApiError::from_engine(e, ""), ""))?;
+        .map_err(|e| crate::answer::savings::overflow_named(ApiError::from_engine(e, ""), ""))?;
     let dto = SavingsPlanDto::from_plan(&p);
     let s = &dto.summary;
     let c = p.terms.currency;
