@@ -237,9 +237,19 @@ def answers(binary):
             headers = {"Accept": "*/*"}
             if media:
                 headers["Content-Type"] = media
-            c.request(method, path, body=body, headers=headers)
-            r = c.getresponse()
-            data = r.read()
+            for attempt in range(2):
+                try:
+                    c.request(method, path, body=body, headers=headers)
+                    r = c.getresponse()
+                    data = r.read()
+                    break
+                except (ConnectionError, http.client.HTTPException):
+                    # The server may close a kept-alive connection between two
+                    # requests; ask again on a fresh one.
+                    c.close()
+                    c = http.client.HTTPConnection("127.0.0.1", port, timeout=60)
+                    if attempt:
+                        raise
             if r.getheader("connection", "").lower() == "close":
                 c.close()
                 c = http.client.HTTPConnection("127.0.0.1", port, timeout=60)
