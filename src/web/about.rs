@@ -7,7 +7,7 @@ use rust_decimal::Decimal;
 
 use super::mathml::{self, Step};
 use super::view::money;
-use super::{render, Layout};
+use super::page::{render, Layout};
 use crate::engine::money::{Currency, InterestRounding, PaymentRounding};
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::schedule::{schedule, LoanSchedule, LoanTerm, LoanTerms};

@@ -6,7 +6,7 @@ use askama::Template;
 use axum::extract::State;
 use axum::response::Response;
 
-use super::{render, Layout};
+use super::page::{render, Layout};
 use crate::input::problem::ProblemKind;
 use crate::state::AppState;
 

@@ -7,7 +7,7 @@ use axum::response::Response;
 use super::charts::balance_chart;
 use super::form::{normalize, query_string, Form};
 use super::loan::{balance_series, LOAN_FORM};
-use super::{render_form, Layout};
+use super::page::{render_form, Layout};
 use crate::answer::compare::{from_query_with, CompareDto};
 use crate::input::http::query_pairs;
 use crate::input::problem::ApiError;

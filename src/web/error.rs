@@ -5,7 +5,7 @@ use askama::Template;
 use axum::http::{HeaderMap, StatusCode};
 use axum::response::Response;
 
-use super::{render, Layout};
+use super::page::{render, Layout};
 
 /// `templates/error.html`.
 #[derive(Template)]

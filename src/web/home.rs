@@ -3,7 +3,8 @@
 use askama::Template;
 use axum::response::Response;
 
-use super::{render, scenarios, Layout};
+use super::page::{render, Layout};
+use super::scenarios;
 
 /// One of the four jobs.
 pub struct Job {

@@ -9,7 +9,7 @@ use super::charts::{balance_chart, stacked_bars, Bar, Series};
 use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
 use super::view::{money, percent, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS};
-use super::{render_form, Layout};
+use super::page::{render_form, Layout};
 use crate::engine::schedule::{schedule_with, LoanSchedule};
 use crate::input::fields::{Fields, Source};
 use crate::input::http::query_pairs;

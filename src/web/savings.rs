@@ -11,7 +11,7 @@ use super::mathml::{self, Step};
 use super::view::{
     group_thousands as g, money, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS,
 };
-use super::{render_form, Layout};
+use super::page::{render_form, Layout};
 use crate::answer::savings::SavingsPlanDto;
 use crate::engine::savings::{plan, SavingsPlan};
 use crate::input::fields::{Fields, Source};
