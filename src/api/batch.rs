@@ -98,7 +98,10 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
             )?;
             write(out, &answer)
         }
-        "apr" => write(out, &super::apr::answer(&super::apr::read_json(request)?)?),
+        "apr" => write(
+            out,
+            &super::apr::answer(&crate::input::apr::read_json(request)?)?,
+        ),
         "apy" => write(
             out,
             &super::apy::answer(&super::apy::read_apy(fields(members(request)?))?, "/")?,

@@ -1375,7 +1375,7 @@ mod tests {
             .unwrap_or_default()
         });
         unknown("AprRequest", &|m| {
-            crate::api::apr::read_json(&Json::Object(m.to_vec()))
+            crate::input::apr::read_json(&Json::Object(m.to_vec()))
                 .err()
                 .map(of)
                 .unwrap_or_default()

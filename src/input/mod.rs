@@ -9,6 +9,7 @@
 //! - one reader per operation: [`loan`] (schedule), [`compare`], [`check`],
 //!   [`savings`], [`apr`], [`apy`], [`recurrence`].
 
+pub mod apr;
 pub mod check;
 pub mod compare;
 pub mod fields;

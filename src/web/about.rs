@@ -6,8 +6,8 @@ use axum::response::Response;
 use rust_decimal::Decimal;
 
 use super::mathml::{self, Step};
-use super::view::money;
 use super::page::{render, Layout};
+use super::view::money;
 use crate::engine::money::{Currency, InterestRounding, PaymentRounding};
 use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::schedule::{schedule, LoanSchedule, LoanTerm, LoanTerms};

@@ -6,8 +6,8 @@ use axum::extract::RawQuery;
 use axum::response::Response;
 
 use super::form::{normalize, query_string, Form};
-use super::view::{group_thousands as g, Figure};
 use super::page::{render_form, Layout};
+use super::view::{group_thousands as g, Figure};
 use crate::answer::check::{check_answer, CheckAnswer};
 use crate::input::fields::{Fields, Source};
 use crate::input::http::query_pairs;

@@ -8,10 +8,10 @@ use rust_decimal::Decimal;
 use super::charts::{balance_chart, stacked_bars, Bar, Series};
 use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
+use super::page::{render_form, Layout};
 use super::view::{
     group_thousands as g, money, span, year_of, Figure, Schedule, Year, UNFOLDED_ROWS,
 };
-use super::page::{render_form, Layout};
 use crate::answer::savings::SavingsPlanDto;
 use crate::engine::savings::{plan, SavingsPlan};
 use crate::input::fields::{Fields, Source};
