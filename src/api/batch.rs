@@ -104,7 +104,10 @@ fn run_job(job: &str, request: &Json, detail: Detail, out: &mut Vec<u8>) -> Resu
         ),
         "apy" => write(
             out,
-            &super::apy::answer(&super::apy::read_apy(fields(members(request)?))?, "/")?,
+            &super::apy::answer(
+                &crate::input::apy::read_apy(fields(members(request)?))?,
+                "/",
+            )?,
         ),
         "savings_plan" => {
             let terms = crate::input::savings::savings_terms_from(fields(members(request)?))?;

@@ -340,7 +340,7 @@ pub async fn compare_get_csv(RawQuery(q): RawQuery) -> Result<Response, ApiError
 
 /// `POST /api/v1/recurrence`
 pub async fn recurrence_post(JsonBody(body): JsonBody) -> Result<Response, ApiError> {
-    let (r, ks) = recurrence::read_recurrence(&body)?;
+    let (r, ks) = crate::input::recurrence::read_recurrence(&body)?;
     Ok(json_answer(&recurrence::answer(&r, &ks)?))
 }
 

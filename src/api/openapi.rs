@@ -1357,7 +1357,7 @@ mod tests {
             .unwrap_or_default()
         });
         unknown("ApyRequest", &|m| {
-            crate::api::apy::read_apy(Fields::new(Source::Json {
+            crate::input::apy::read_apy(Fields::new(Source::Json {
                 members: m,
                 pointer: "",
             }))
@@ -1381,7 +1381,7 @@ mod tests {
                 .unwrap_or_default()
         });
         unknown("RecurrenceRequest", &|m| {
-            crate::api::recurrence::read_recurrence(&Json::Object(m.to_vec()))
+            crate::input::recurrence::read_recurrence(&Json::Object(m.to_vec()))
                 .err()
                 .map(of)
                 .unwrap_or_default()

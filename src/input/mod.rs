@@ -10,6 +10,7 @@
 //!   [`savings`], [`apr`], [`apy`], [`recurrence`].
 
 pub mod apr;
+pub mod apy;
 pub mod check;
 pub mod compare;
 pub mod fields;
@@ -17,4 +18,5 @@ pub mod http;
 pub mod json;
 pub mod loan;
 pub mod problem;
+pub mod recurrence;
 pub mod savings;
