@@ -45,13 +45,15 @@ pub fn compute(requests: Vec<(ScheduleRequest, String)>) -> Result<Comparison, A
     let errors: Vec<FieldError> = requests
         .iter()
         .filter(|(r, _)| Some(r.terms.currency) != base_currency)
-        .map(|(r, pointer)| FieldError {
-            pointer: format!("{pointer}currency"),
-            message: format!(
-                "must be the base plan's currency ({}), not {}: savings are compared in one currency",
-                base_currency.map_or("", |c| c.code()),
-                r.terms.currency.code()
-            ),
+        .map(|(r, pointer)| {
+            FieldError::new(
+                format!("{pointer}currency"),
+                format!(
+                    "must be the base plan's currency ({}), not {}: savings are compared in one currency",
+                    base_currency.map_or("", |c| c.code()),
+                    r.terms.currency.code()
+                ),
+            )
         })
         .collect();
     if !errors.is_empty() {

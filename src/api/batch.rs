@@ -56,10 +56,10 @@ struct SummaryOnly<'a, S: Serialize> {
 fn members(request: &Json) -> Result<&[(String, Json)], ApiError> {
     match request {
         Json::Object(m) => Ok(m),
-        other => Err(ApiError::fields(vec![FieldError {
-            pointer: "/request".into(),
-            message: format!("must be an object, not {}", other.kind()),
-        }])),
+        other => Err(ApiError::fields(vec![FieldError::new(
+            "/request".into(),
+            format!("must be an object, not {}", other.kind()),
+        )])),
     }
 }
 
@@ -430,33 +430,33 @@ pub fn answer_line_into(bytes: &mut Vec<u8>, line: &[u8], number: usize) {
 
 fn answer_parsed(v: &Json, out: &mut Vec<u8>) -> Result<(), ApiError> {
     let Json::Object(m) = v else {
-        return Err(ApiError::fields(vec![FieldError {
-            pointer: String::new(),
-            message: format!("each line must be a JSON object, not {}", v.kind()),
-        }]));
+        return Err(ApiError::fields(vec![FieldError::new(
+            String::new(),
+            format!("each line must be a JSON object, not {}", v.kind()),
+        )]));
     };
     let mut errors = Vec::new();
     if v.get("id").is_none() {
-        errors.push(FieldError {
-            pointer: "/id".into(),
-            message: "is required: any JSON value, echoed in the line's answer".into(),
-        });
+        errors.push(FieldError::new(
+            "/id".into(),
+            "is required: any JSON value, echoed in the line's answer".into(),
+        ));
     }
     for (k, _) in m {
         if !["id", "job", "request", "detail"].contains(&k.as_str()) {
-            errors.push(FieldError {
-                pointer: format!("/{}", crate::input::json::escape_pointer(k)),
-                message: "is not a known field".into(),
-            });
+            errors.push(FieldError::unknown(format!(
+                "/{}",
+                crate::input::json::escape_pointer(k)
+            )));
         }
     }
     let job = match v.get("job") {
         Some(Json::String(s)) if JOBS.contains(&s.as_str()) => Some(s.as_str()),
         _ => {
-            errors.push(FieldError {
-                pointer: "/job".into(),
-                message: format!("must be one of: {}", JOBS.join(", ")),
-            });
+            errors.push(FieldError::new(
+                "/job".into(),
+                format!("must be one of: {}", JOBS.join(", ")),
+            ));
             None
         }
     };
@@ -465,19 +465,16 @@ fn answer_parsed(v: &Json, out: &mut Vec<u8>) -> Result<(), ApiError> {
         Some(Json::String(s)) if s == "summary" => Detail::Summary,
         Some(Json::String(s)) if s == "full" => Detail::Full,
         Some(_) => {
-            errors.push(FieldError {
-                pointer: "/detail".into(),
-                message: "must be summary or full".into(),
-            });
+            errors.push(FieldError::new(
+                "/detail".into(),
+                "must be summary or full".into(),
+            ));
             Detail::Summary
         }
     };
     let request = v.get("request");
     if request.is_none() {
-        errors.push(FieldError {
-            pointer: "/request".into(),
-            message: "is required".into(),
-        });
+        errors.push(FieldError::new("/request".into(), "is required".into()));
     }
     if !errors.is_empty() {
         return Err(ApiError::fields(errors));

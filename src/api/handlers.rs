@@ -129,10 +129,10 @@ pub async fn read_body(req: Request, limit: usize) -> Result<Bytes, ApiError> {
 pub fn parse_object(bytes: &Bytes) -> Result<Json, ApiError> {
     let v = json::parse(bytes).map_err(|e| ApiError::malformed_json(&e, e.to_string()))?;
     if !matches!(v, Json::Object(_)) {
-        return Err(ApiError::fields(vec![FieldError {
-            pointer: String::new(),
-            message: format!("the body must be a JSON object, not {}", v.kind()),
-        }]));
+        return Err(ApiError::fields(vec![FieldError::new(
+            String::new(),
+            format!("the body must be a JSON object, not {}", v.kind()),
+        )]));
     }
     Ok(v)
 }

@@ -4,11 +4,9 @@
 //!
 //! - every answer's schema is derived (`utoipa::ToSchema`) from the DTO the
 //!   handler serializes (`LoanScheduleDto`, `CheckAnswer`, `Problem`, …);
-//! - requests are read by hand (the strict [`crate::input::json`] reader and
-//!   [`crate::input::fields::Fields`]), so their schemas are the structs of
-//!   [`request`] below, kept next to the readers' field lists by unit tests
-//!   (property names equal `LOAN_FIELDS`, `PLAN_FIELDS` and `SAVINGS_FIELDS`;
-//!   every property of the other requests is a field the reader knows);
+//! - every request's schema is generated from its field table
+//!   ([`crate::input::table`]), the table its reader reads by; unit tests hold
+//!   the document to the tables and every table's fields to their readers;
 //! - the operations are the table [`OPERATIONS`]; a black-box test compares it
 //!   with the routes of `src/server.rs`;
 //! - each operation's request example is in the table, and its answer example
@@ -18,476 +16,12 @@
 //! GET operations take the same fields as query parameters (derived from the
 //! JSON request schema: lists in their compact query syntax).
 
-use std::borrow::Cow;
-
 use axum::body::Body;
 use axum::http::{header, Request};
 use axum::response::{IntoResponse, Response};
 use axum::Router;
 use serde_json::{json, Map, Value};
-use utoipa::openapi::schema::{ObjectBuilder, Schema, SchemaType, Type};
-use utoipa::openapi::RefOr;
-use utoipa::{OpenApi, PartialSchema, ToSchema};
-
-use crate::engine::money::Currency;
-
-/// Request schemas: what the hand-written readers accept, field by field.
-pub mod request {
-    #![allow(dead_code)] // described, never built: the readers read JSON themselves
-
-    use super::{CurrencyCode, DecimalNumber};
-    use utoipa::ToSchema;
-
-    /// How often payments fall due.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum PaymentFrequency {
-        Annual,
-        Semiannual,
-        Quarterly,
-        Monthly,
-        Semimonthly,
-        Biweekly,
-        Weekly,
-    }
-
-    /// How often interest compounds (default: the payment frequency).
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum Compounding {
-        Annual,
-        Semiannual,
-        Quarterly,
-        Monthly,
-        Semimonthly,
-        Biweekly,
-        Weekly,
-        Daily,
-    }
-
-    /// `nearest` (default, halves up) or `up` to the next minor unit.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum PaymentRounding {
-        Nearest,
-        Up,
-    }
-
-    /// How each period's interest is rounded: `half_up` (default) or `half_even`.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum InterestRounding {
-        HalfUp,
-        HalfEven,
-    }
-
-    /// Day count of the odd first period (default `actual_365`): `actual_365` and
-    /// `actual_360` count actual days and divide by 365 or 360; the 30/360 rules count
-    /// 30-day months and divide by 360, differing at month ends (D1, D2 the days of
-    /// the month of the start and end): `thirty_360_bond_basis` (ISDA 2006 4.16(f):
-    /// D1 31 becomes 30; D2 31 becomes 30 when D1 is then 30), `thirty_360_us` (SIA:
-    /// when D1 is February's last day it becomes 30, and D2 too when it is also
-    /// February's last day; then D2 31 becomes 30 when D1 is 30 or 31; then D1 31
-    /// becomes 30), `thirty_e_360` (ISDA 4.16(g): every 31st becomes 30).
-    /// `thirty_360` is an alias of `thirty_360_bond_basis`.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum DayCount {
-        #[schema(rename = "actual_365")]
-        Actual365,
-        #[schema(rename = "actual_360")]
-        Actual360,
-        #[schema(rename = "thirty_360_bond_basis")]
-        Thirty360BondBasis,
-        #[schema(rename = "thirty_360_us")]
-        Thirty360Us,
-        #[schema(rename = "thirty_e_360")]
-        ThirtyE360,
-        #[schema(rename = "thirty_360")]
-        Thirty360,
-    }
-
-    /// Where the odd days' interest goes: added to the first payment (default) or prepaid at closing.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum OddDaysInterest {
-        FirstPayment,
-        Prepaid,
-    }
-
-    /// What a rate change keeps: the `term` (re-amortize, default) or the `payment`.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum RateChangeKeeps {
-        Term,
-        Payment,
-    }
-
-    /// An extra payment: once (`at` a payment number or a date, which needs
-    /// `first_payment_date`) or recurring (`from` payment, optionally `to` and `every`).
-    /// In a query string: `150@13-`, `150@13-120`, `500@12-/12`, `5000@36`, `2000@2029-06-01`.
-    #[derive(ToSchema)]
-    pub struct ExtraPayment {
-        pub amount: DecimalNumber,
-        /// A payment number, or an ISO 8601 date (the first payment due on or after it).
-        #[schema(schema_with = super::number_or_date)]
-        pub at: Option<serde_json::Value>,
-        #[schema(maximum = 6000)]
-        pub from: Option<u32>,
-        #[schema(maximum = 6000)]
-        pub to: Option<u32>,
-        #[schema(maximum = 6000)]
-        pub every: Option<u32>,
-    }
-
-    /// A new annual rate from payment `at` on. In a query string: `61:7.25`.
-    #[derive(ToSchema)]
-    pub struct RateChange {
-        #[schema(maximum = 6000)]
-        pub at: u32,
-        pub annual_rate_percent: DecimalNumber,
-    }
-
-    /// The fields of a loan schedule request (`LOAN_FIELDS` then `PLAN_FIELDS`).
-    ///
-    /// Give exactly one of `term_months`, `term_payments` and `payment`: the other is solved.
-    #[derive(ToSchema)]
-    pub struct LoanScheduleRequest {
-        /// The amount borrowed, in the currency's minor units at most.
-        pub principal: DecimalNumber,
-        /// The nominal annual rate in percent ("6.375").
-        pub annual_rate_percent: DecimalNumber,
-        /// The term in months (converted to payments of the payment frequency).
-        #[schema(maximum = 100000)]
-        pub term_months: Option<u32>,
-        /// The term in payments.
-        #[schema(maximum = 100000)]
-        pub term_payments: Option<u32>,
-        /// The payment; the number of payments is solved.
-        pub payment: Option<DecimalNumber>,
-        pub payment_frequency: Option<PaymentFrequency>,
-        pub compounding: Option<Compounding>,
-        pub currency: Option<CurrencyCode>,
-        pub payment_rounding: Option<PaymentRounding>,
-        pub interest_rounding: Option<InterestRounding>,
-        /// ISO 8601; with `first_payment_date`, an odd first period accrues interest for its odd days.
-        #[schema(value_type = Option<String>, format = Date)]
-        pub funding_date: Option<String>,
-        /// ISO 8601; dates every payment.
-        #[schema(value_type = Option<String>, format = Date)]
-        pub first_payment_date: Option<String>,
-        pub day_count: Option<DayCount>,
-        pub odd_days_interest: Option<OddDaysInterest>,
-        /// At most 120. In a query: `extra_payments=150@13-,5000@36` (repeated or comma-separated).
-        #[schema(max_items = 120)]
-        pub extra_payments: Option<Vec<ExtraPayment>>,
-        #[schema(maximum = 6000)]
-        pub interest_only_payments: Option<u32>,
-        /// The loan ends with a balloon after this many payments.
-        #[schema(maximum = 6000)]
-        pub balloon_after_payments: Option<u32>,
-        /// At most 120. In a query: `rate_changes=61:7.25,121:8`.
-        #[schema(max_items = 120)]
-        pub rate_changes: Option<Vec<RateChange>>,
-        pub rate_change_keeps: Option<RateChangeKeeps>,
-        /// For the 80 % and 78 % milestones of the Homeowners Protection Act.
-        pub property_value: Option<DecimalNumber>,
-        /// A name for the plan (in a comparison's rows); at most 80 characters are kept.
-        pub label: Option<String>,
-    }
-
-    /// A plan of a comparison: the base with these fields put over it (any schedule field, and `label`).
-    #[derive(ToSchema)]
-    pub struct CompareVariant {
-        pub label: Option<String>,
-        pub principal: Option<DecimalNumber>,
-        pub annual_rate_percent: Option<DecimalNumber>,
-        #[schema(maximum = 100000)]
-        pub term_months: Option<u32>,
-        #[schema(maximum = 100000)]
-        pub term_payments: Option<u32>,
-        pub payment: Option<DecimalNumber>,
-        pub payment_frequency: Option<PaymentFrequency>,
-        pub compounding: Option<Compounding>,
-        pub currency: Option<CurrencyCode>,
-        pub payment_rounding: Option<PaymentRounding>,
-        pub interest_rounding: Option<InterestRounding>,
-        #[schema(value_type = Option<String>, format = Date)]
-        pub funding_date: Option<String>,
-        #[schema(value_type = Option<String>, format = Date)]
-        pub first_payment_date: Option<String>,
-        pub day_count: Option<DayCount>,
-        pub odd_days_interest: Option<OddDaysInterest>,
-        #[schema(max_items = 120)]
-        pub extra_payments: Option<Vec<ExtraPayment>>,
-        #[schema(maximum = 6000)]
-        pub interest_only_payments: Option<u32>,
-        #[schema(maximum = 6000)]
-        pub balloon_after_payments: Option<u32>,
-        #[schema(max_items = 120)]
-        pub rate_changes: Option<Vec<RateChange>>,
-        pub rate_change_keeps: Option<RateChangeKeeps>,
-        pub property_value: Option<DecimalNumber>,
-    }
-
-    /// A base loan and up to three variants (four plans at most).
-    #[derive(ToSchema)]
-    pub struct CompareRequest {
-        pub base: LoanScheduleRequest,
-        #[schema(max_items = 3)]
-        pub variants: Option<Vec<CompareVariant>>,
-    }
-
-    /// A prepaid finance charge. In a query: `prepaid_finance_charges=origination:1250.00,points:2500`.
-    #[derive(ToSchema)]
-    pub struct PrepaidFinanceCharge {
-        #[schema(max_length = 80)]
-        pub name: String,
-        pub amount: DecimalNumber,
-    }
-
-    /// The loan's fields (as for a schedule, without the plan options) and the quotes to check.
-    #[derive(ToSchema)]
-    pub struct LoanCheckRequest {
-        pub principal: DecimalNumber,
-        pub annual_rate_percent: DecimalNumber,
-        #[schema(maximum = 100000)]
-        pub term_months: Option<u32>,
-        #[schema(maximum = 100000)]
-        pub term_payments: Option<u32>,
-        pub payment: Option<DecimalNumber>,
-        pub payment_frequency: Option<PaymentFrequency>,
-        pub compounding: Option<Compounding>,
-        pub currency: Option<CurrencyCode>,
-        pub payment_rounding: Option<PaymentRounding>,
-        pub interest_rounding: Option<InterestRounding>,
-        /// Compared with the posted payment to the minor unit.
-        pub quoted_payment: Option<DecimalNumber>,
-        /// Compared with the APR within the tolerance of 12 CFR 1026.22(a)(2)–(3).
-        pub quoted_apr_percent: Option<DecimalNumber>,
-        /// Compared within the tolerance of 12 CFR 1026.18(d).
-        pub quoted_finance_charge: Option<DecimalNumber>,
-        #[schema(max_items = 50)]
-        pub prepaid_finance_charges: Option<Vec<PrepaidFinanceCharge>>,
-        /// Selects the finance-charge tolerance of §1026.18(d)(1) (true, default) or (d)(2).
-        pub mortgage: Option<bool>,
-        /// ISO 8601: the APR's advance date; with `first_payment_date` the APR is found
-        /// from the dates and an odd first period accrues interest for its odd days.
-        #[schema(value_type = Option<String>, format = Date)]
-        pub funding_date: Option<String>,
-        /// ISO 8601; dates every payment.
-        #[schema(value_type = Option<String>, format = Date)]
-        pub first_payment_date: Option<String>,
-        pub day_count: Option<DayCount>,
-        /// `prepaid`: the odd days' interest is a prepaid finance charge.
-        pub odd_days_interest: Option<OddDaysInterest>,
-        #[schema(maximum = 6000)]
-        pub interest_only_payments: Option<u32>,
-        #[schema(maximum = 6000)]
-        pub balloon_after_payments: Option<u32>,
-        #[schema(max_items = 120)]
-        pub rate_changes: Option<Vec<RateChange>>,
-        pub rate_change_keeps: Option<RateChangeKeeps>,
-        pub property_value: Option<DecimalNumber>,
-    }
-
-    /// `us_actuarial` (Regulation Z Appendix J, default) or `eu_aprc` (Directive 2008/48/EC).
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum AprMethod {
-        UsActuarial,
-        EuAprc,
-    }
-
-    /// An advance or a payment: dated (`date`), a dated series (`first_date`,
-    /// `count`, `frequency`), or in unit-periods (`periods`, `fraction`, `count`).
-    #[derive(ToSchema)]
-    pub struct AprFlow {
-        pub amount: DecimalNumber,
-        #[schema(value_type = Option<String>, format = Date)]
-        pub date: Option<String>,
-        #[schema(value_type = Option<String>, format = Date)]
-        pub first_date: Option<String>,
-        #[schema(minimum = 1, maximum = 100000)]
-        pub count: Option<u32>,
-        pub frequency: Option<Compounding>,
-        /// Full unit-periods from the start of the term.
-        pub periods: Option<u32>,
-        /// A fraction of a unit-period, at least 0 and below 1: a decimal or a ratio "19/30".
-        #[schema(schema_with = super::decimal_or_ratio)]
-        pub fraction: Option<serde_json::Value>,
-    }
-
-    /// How `eu_aprc` counts time in years (Directive 2008/48/EC Annex I remark (c)):
-    /// `days` (whole years plus days left ÷ 365 or 366), `weeks` (weeks ÷ 52), or
-    /// `equal_months` (months ÷ 12). Whatever is not a whole number of periods is
-    /// counted as whole periods back from each flow's date towards the first drawdown
-    /// plus the days left, divided by the days (365 or 366) of the complete year
-    /// counted back from the last of them (Residue's reading of the Annex). `auto`
-    /// (the default) takes equal months when every flow falls on a monthly
-    /// anniversary of the first drawdown, else weeks when every flow falls a whole
-    /// number of weeks after it, else days.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum AprcTimeBasis {
-        Auto,
-        Days,
-        Weeks,
-        EqualMonths,
-    }
-
-    /// An APR request: the advances and the payments of the loan.
-    #[derive(ToSchema)]
-    pub struct AprRequest {
-        pub method: Option<AprMethod>,
-        /// Only with `method` `eu_aprc`.
-        pub time_basis: Option<AprcTimeBasis>,
-        pub currency: Option<CurrencyCode>,
-        /// `month`, `semimonth`, `quarter`, `year`, `week`, `day`, "2 weeks", or
-        /// `{"weeks": n}`, `{"months": n}`, `{"days": n}`.
-        #[schema(schema_with = super::name_or_count)]
-        pub unit_period: Option<serde_json::Value>,
-        #[schema(min_items = 1, max_items = 1000)]
-        pub advances: Vec<AprFlow>,
-        #[schema(min_items = 1, max_items = 1000)]
-        pub payments: Vec<AprFlow>,
-    }
-
-    /// The query form of an APR request: flows in their compact syntax.
-    #[derive(ToSchema)]
-    pub struct AprQuery {
-        pub method: Option<AprMethod>,
-        /// Only with `method` `eu_aprc`.
-        pub time_basis: Option<AprcTimeBasis>,
-        pub currency: Option<CurrencyCode>,
-        /// `month`, `2 weeks`, `255days`, …
-        pub unit_period: Option<String>,
-        /// `5000@1978-01-10`, `6000@0` (unit-periods); repeated or comma-separated.
-        pub advance: Vec<String>,
-        /// `230x24@1978-02-10/monthly`, `200x36@1+19/30`; repeated or comma-separated.
-        pub payment: Vec<String>,
-    }
-
-    /// One of three forms: `principal`, `interest`, `days` (Part I.A);
-    /// `annual_rate_percent`, `compounding`; or `interest_earned`,
-    /// `average_daily_balance`, `days_in_period` (Part II.A).
-    #[derive(ToSchema)]
-    pub struct ApyRequest {
-        pub currency: Option<CurrencyCode>,
-        pub principal: Option<DecimalNumber>,
-        pub interest: Option<DecimalNumber>,
-        pub days: Option<u32>,
-        pub annual_rate_percent: Option<DecimalNumber>,
-        pub compounding: Option<Compounding>,
-        pub interest_earned: Option<DecimalNumber>,
-        pub average_daily_balance: Option<DecimalNumber>,
-        pub days_in_period: Option<u32>,
-    }
-
-    /// The kind of an input of a recurrence (its z-transform from the table).
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum InputKind {
-        Impulse,
-        Step,
-        Geometric,
-        Ramp,
-    }
-
-    /// One input term f[k]: `amount`·δ[k], `amount`·u[k], `amount`·ratio^k, or `amount`·k.
-    #[derive(ToSchema)]
-    pub struct RecurrenceInput {
-        pub kind: InputKind,
-        pub amount: DecimalNumber,
-        /// For `geometric`: more than 0 and at most 11.
-        pub ratio: Option<DecimalNumber>,
-    }
-
-    /// x[k+1] = a·x[k] + f[k], x[0] = x0, evaluated at the chosen k.
-    #[derive(ToSchema)]
-    pub struct RecurrenceRequest {
-        /// More than 0 and at most 11.
-        pub a: DecimalNumber,
-        pub x0: Option<DecimalNumber>,
-        #[schema(max_items = 16)]
-        pub inputs: Option<Vec<RecurrenceInput>>,
-        #[schema(max_items = 16, value_type = Option<Vec<u32>>)]
-        pub evaluate_at: Option<Vec<u32>>,
-    }
-
-    /// When deposits are made in each period.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum DepositTiming {
-        Start,
-        End,
-    }
-
-    /// How often deposit growth applies.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum GrowthEvery {
-        Period,
-        Year,
-    }
-
-    /// The fields of a savings plan request (`SAVINGS_FIELDS`); what is solved
-    /// follows from what is given (see the guide).
-    #[derive(ToSchema)]
-    pub struct SavingsPlanRequest {
-        pub opening_balance: Option<DecimalNumber>,
-        pub deposit: Option<DecimalNumber>,
-        pub withdrawal: Option<DecimalNumber>,
-        pub deposit_timing: Option<DepositTiming>,
-        pub deposit_frequency: Option<PaymentFrequency>,
-        pub deposit_growth_percent: Option<DecimalNumber>,
-        pub deposit_growth_every: Option<GrowthEvery>,
-        pub deposit_step: Option<DecimalNumber>,
-        pub annual_rate_percent: DecimalNumber,
-        pub compounding: Option<Compounding>,
-        #[schema(maximum = 100000)]
-        pub term_months: Option<u32>,
-        #[schema(maximum = 100000)]
-        pub term_periods: Option<u32>,
-        pub goal: Option<DecimalNumber>,
-        #[schema(value_type = Option<String>, format = Date)]
-        pub start_date: Option<String>,
-        pub currency: Option<CurrencyCode>,
-    }
-
-    /// The job of a batch line.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum BatchJob {
-        LoanSchedule,
-        LoanCheck,
-        Apr,
-        Apy,
-        SavingsPlan,
-    }
-
-    /// `summary` (default: a schedule's or plan's summary and notes) or `full`.
-    #[derive(ToSchema)]
-    #[schema(rename_all = "snake_case")]
-    pub enum BatchDetail {
-        Summary,
-        Full,
-    }
-
-    /// One line of a batch (`application/x-ndjson`, up to 100,000 lines).
-    #[derive(ToSchema)]
-    pub struct BatchLine {
-        /// Any JSON value (null too); required; echoed exactly as sent in the
-        /// answer line (a number keeps its own digits).
-        #[schema(value_type = Value)]
-        pub id: serde_json::Value,
-        pub job: BatchJob,
-        /// The job's request: the body its own operation takes.
-        #[schema(value_type = Object)]
-        pub request: serde_json::Value,
-        pub detail: Option<BatchDetail>,
-    }
-}
+use utoipa::{OpenApi, ToSchema};
 
 /// One answer line of a batch, in the order of the request's lines.
 #[derive(ToSchema)]
@@ -511,79 +45,6 @@ pub struct Health {
     pub status: String,
 }
 
-/// A payment number or an ISO 8601 date.
-pub fn number_or_date() -> ObjectBuilder {
-    ObjectBuilder::new()
-        .schema_type(SchemaType::from_iter([Type::Integer, Type::String]))
-        .description(Some(
-            "A payment number (0 to 6000), or an ISO 8601 date: the first payment due on or after it.",
-        ))
-        .examples([json!(36), json!("2029-06-01")])
-}
-
-/// A fraction of a unit-period: a decimal, or a ratio of whole numbers.
-pub fn decimal_or_ratio() -> ObjectBuilder {
-    ObjectBuilder::new()
-        .schema_type(SchemaType::from_iter([Type::String, Type::Number]))
-        .description(Some(
-            "At least 0 and below 1: a decimal (0.4) or a ratio of whole numbers (\"19/30\"); default 0.",
-        ))
-        .examples([json!("19/30")])
-}
-
-/// A unit-period by name, or `{"weeks": n}`, `{"months": n}`, `{"days": n}`.
-pub fn name_or_count() -> ObjectBuilder {
-    ObjectBuilder::new()
-        .schema_type(SchemaType::from_iter([Type::String, Type::Object]))
-        .description(Some(
-            "`month`, `semimonth`, `quarter`, `year`, `week`, `day`, \"2 weeks\", \"6 months\", \"255 days\", or {\"weeks\": n}, {\"months\": n}, {\"days\": n}.",
-        ))
-        .examples([json!("month")])
-}
-
-/// A decimal number read exactly: a JSON string of plain digits ("1250.50") or a JSON number.
-pub struct DecimalNumber;
-
-impl PartialSchema for DecimalNumber {
-    fn schema() -> RefOr<Schema> {
-        ObjectBuilder::new()
-            .schema_type(SchemaType::from_iter([Type::String, Type::Number]))
-            .pattern(Some(r"^-?[0-9]+(\.[0-9]+)?([eE][-+]?[0-9]{1,3})?$"))
-            .description(Some(
-                "A decimal number, read exactly (0.1 is 0.1): a string of plain digits or a JSON number. Money may have at most the currency's minor units.",
-            ))
-            .examples([json!("1250.50")])
-            .into()
-    }
-}
-
-impl ToSchema for DecimalNumber {
-    fn name() -> Cow<'static, str> {
-        Cow::Borrowed("DecimalNumber")
-    }
-}
-
-/// An ISO 4217 currency code Residue knows (its minor units follow ISO 4217).
-pub struct CurrencyCode;
-
-impl PartialSchema for CurrencyCode {
-    fn schema() -> RefOr<Schema> {
-        ObjectBuilder::new()
-            .schema_type(Type::String)
-            .enum_values(Some(Currency::codes()))
-            .description(Some(
-                "An ISO 4217 currency code (default USD); amounts have its minor units.",
-            ))
-            .into()
-    }
-}
-
-impl ToSchema for CurrencyCode {
-    fn name() -> Cow<'static, str> {
-        Cow::Borrowed("CurrencyCode")
-    }
-}
-
 #[derive(OpenApi)]
 #[openapi(
     info(
@@ -591,16 +52,6 @@ impl ToSchema for CurrencyCode {
         description = "Loan and savings schedules solved in closed form from their z-domain partial fractions, posted to the cent. Money goes out as strings with the currency's minor units; rates are percent per year; dates ISO 8601; errors RFC 9457 problem details. Every figure is an estimate for discussion, not an offer, a disclosure or advice."
     ),
     components(schemas(
-        request::LoanScheduleRequest,
-        request::CompareRequest,
-        request::CompareVariant,
-        request::LoanCheckRequest,
-        request::AprRequest,
-        request::AprQuery,
-        request::ApyRequest,
-        request::RecurrenceRequest,
-        request::SavingsPlanRequest,
-        request::BatchLine,
         BatchAnswerLine,
         Health,
         super::loans::LoanScheduleDto,
@@ -890,8 +341,15 @@ pub const OPERATIONS: &[Operation] = &[
     },
 ];
 
-/// The query-string fields that take several values (repeated or comma-separated).
-const LIST_PARAMETERS: [&str; 4] = ["extra_payments", "rate_changes", "advance", "payment"];
+/// True when the query-string field takes several values (repeated or
+/// comma-separated): a list in its field table.
+fn is_list_parameter(schema: &str, field: &str) -> bool {
+    crate::input::tables()
+        .iter()
+        .filter(|t| t.schema == schema)
+        .filter_map(|t| t.field(field))
+        .any(|f| matches!(f.kind, crate::input::table::Kind::List { .. }))
+}
 
 fn problem_response(description: &str) -> Value {
     json!({
@@ -993,7 +451,7 @@ fn parameters(op: &Operation, schemas: &Map<String, Value>) -> Vec<Value> {
     let mut out = Vec::new();
     for (field, property) in schema["properties"].as_object().into_iter().flatten() {
         let description = property["description"].clone();
-        let is_list = LIST_PARAMETERS.contains(&field.as_str());
+        let is_list = is_list_parameter(name, field);
         let structured = property.get("type").is_some_and(|t| {
             t == "array"
                 || t == "object"
@@ -1041,32 +499,6 @@ fn parameters(op: &Operation, schemas: &Map<String, Value>) -> Vec<Value> {
     out
 }
 
-/// Makes an optional request property non-nullable: `type: [T, "null"]` becomes
-/// `type: T`, and `oneOf: [X, {type: null}]` becomes X (with the description kept).
-fn strip_null(property: &mut Value) {
-    if let Some(types) = property["type"].as_array() {
-        let kept: Vec<Value> = types.iter().filter(|t| *t != "null").cloned().collect();
-        property["type"] = match kept.as_slice() {
-            [one] => one.clone(),
-            _ => Value::Array(kept),
-        };
-    }
-    let one_of = property.get("oneOf").and_then(Value::as_array).cloned();
-    if let Some(branches) = one_of {
-        let kept: Vec<Value> = branches
-            .into_iter()
-            .filter(|b| b.get("type") != Some(&json!("null")))
-            .collect();
-        if let [only] = kept.as_slice() {
-            let description = property.get("description").cloned();
-            *property = only.clone();
-            if let Some(d) = description {
-                property["description"] = d;
-            }
-        }
-    }
-}
-
 /// The document without answer examples (they need the running application).
 pub fn document() -> Value {
     let mut doc = serde_json::to_value(ApiDoc::openapi()).unwrap_or_default();
@@ -1074,32 +506,13 @@ pub fn document() -> Value {
         .as_object()
         .cloned()
         .unwrap_or_default();
-    // The readers refuse unknown fields: say so.
-    let refuse_unknown = [
-        "LoanScheduleRequest",
-        "CompareRequest",
-        "CompareVariant",
-        "LoanCheckRequest",
-        "AprRequest",
-        "AprFlow",
-        "ApyRequest",
-        "RecurrenceRequest",
-        "RecurrenceInput",
-        "SavingsPlanRequest",
-        "BatchLine",
-        "ExtraPayment",
-        "RateChange",
-        "PrepaidFinanceCharge",
-    ];
+    // The request schemas, from the field tables the readers read by.
+    let mut schemas = schemas;
     if let Some(all) = doc["components"]["schemas"].as_object_mut() {
-        for name in refuse_unknown {
-            if let Some(s) = all.get_mut(name) {
-                s["additionalProperties"] = json!(false);
-                // An absent field is "not given"; a null is refused like any other wrong type.
-                for property in s["properties"].as_object_mut().into_iter().flatten() {
-                    strip_null(property.1);
-                }
-            }
+        for table in crate::input::tables() {
+            let schema = crate::input::table::schema(table);
+            all.insert(table.schema.to_string(), schema.clone());
+            schemas.insert(table.schema.to_string(), schema);
         }
     }
     let mut paths = Map::new();
@@ -1259,55 +672,34 @@ mod tests {
             .collect()
     }
 
-    fn sorted(mut v: Vec<String>) -> Vec<String> {
-        v.sort();
-        v
-    }
-
     #[test]
-    fn request_schemas_name_exactly_the_readers_fields() {
+    fn request_schemas_are_the_field_tables() {
+        // The document's request schemas are the tables' own, field by field,
+        // in the tables' order.
         let doc = document();
-        let loan: Vec<String> = crate::input::loan::LOAN_FIELDS
-            .iter()
-            .chain(crate::input::loan::PLAN_FIELDS.iter())
-            .map(|s| s.to_string())
-            .collect();
-        assert_eq!(
-            sorted(properties(&doc, "LoanScheduleRequest")),
-            sorted(loan.clone())
-        );
-        // A variant is any schedule field over the base.
-        assert_eq!(sorted(properties(&doc, "CompareVariant")), sorted(loan));
-        let savings: Vec<String> = crate::input::savings::SAVINGS_FIELDS
-            .iter()
-            .map(|s| s.to_string())
-            .collect();
-        assert_eq!(
-            sorted(properties(&doc, "SavingsPlanRequest")),
-            sorted(savings)
-        );
-        // The plan fields that shape scheduled payments; `extra_payments` is read
-        // only to be refused (a disclosure counts scheduled payments), `label` not at all.
-        let check: Vec<String> = crate::input::loan::LOAN_FIELDS
-            .iter()
-            .chain(
-                crate::input::loan::PLAN_FIELDS
-                    .iter()
-                    .filter(|f| !["extra_payments", "label"].contains(f)),
-            )
-            .map(|s| s.to_string())
-            .chain(
-                [
-                    "quoted_payment",
-                    "quoted_apr_percent",
-                    "quoted_finance_charge",
-                    "prepaid_finance_charges",
-                    "mortgage",
-                ]
-                .map(String::from),
-            )
-            .collect();
-        assert_eq!(sorted(properties(&doc, "LoanCheckRequest")), sorted(check));
+        for table in crate::input::tables() {
+            assert_eq!(
+                doc["components"]["schemas"][table.schema],
+                crate::input::table::schema(table),
+                "{}",
+                table.schema
+            );
+            let mut names: Vec<String> = table.names().iter().map(|n| n.to_string()).collect();
+            let mut listed = properties(&doc, table.schema);
+            names.sort();
+            listed.sort();
+            assert_eq!(listed, names, "{}", table.schema);
+        }
+        // The check takes the schedule's fields but extra payments and a label.
+        let schedule = crate::input::loan::SCHEDULE.names();
+        let check = crate::input::check::CHECK.names();
+        for name in &schedule {
+            assert_eq!(
+                check.contains(name),
+                !["extra_payments", "label"].contains(name),
+                "{name}"
+            );
+        }
     }
 
     /// Every property of a request schema is a field its reader knows: an object
@@ -1332,7 +724,7 @@ mod tests {
         let of = |e: crate::input::problem::ApiError| -> Vec<String> {
             e.errors
                 .into_iter()
-                .filter(|e| e.message == "is not a known field")
+                .filter(|e| e.code == crate::input::problem::FieldCode::Unknown)
                 .map(|e| e.pointer)
                 .collect()
         };

@@ -13,21 +13,8 @@ use crate::input::problem::{ApiError, FieldError};
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
-/// The most items an `advances` or `payments` list may hold.
-pub const MAX_ITEMS: usize = 1000;
-/// The most dated flows once series are laid out, advances and payments together.
-pub const MAX_FLOWS: usize = 20_000;
-
-const FREQUENCIES: [&str; 8] = [
-    "annual",
-    "semiannual",
-    "quarterly",
-    "monthly",
-    "semimonthly",
-    "biweekly",
-    "weekly",
-    "daily",
-];
+use super::apr_fields::{APR_COMMON, FLOW_FIELDS, MAX_FLOWS, MAX_ITEMS};
+use super::table::COMPOUNDINGS;
 
 const UNIT_PERIODS: &str =
     "month, semimonth, quarter, year, week, day, {\"weeks\": n}, {\"months\": n} or {\"days\": n}";
@@ -87,13 +74,13 @@ impl RequestedFlow {
 
     fn error_at(&self, pointer: &str, message: impl Into<String>) -> FieldError {
         let message = message.into();
-        FieldError {
-            pointer: pointer.to_string(),
-            message: match &self.text {
+        FieldError::new(
+            pointer.to_string(),
+            match &self.text {
                 Some(t) => format!("\"{}\": {message}", shorten(t)),
                 None => message,
             },
-        }
+        )
     }
 }
 
@@ -354,7 +341,7 @@ fn read_json_flow(g: &mut Fields<'_>, currency: Currency) -> Option<FlowSpec> {
                 }
             });
             let frequency = if g.has("frequency") {
-                g.choice("frequency", Frequency::parse, &FREQUENCIES)
+                g.pick(FLOW_FIELDS, "frequency", Frequency::parse)
             } else {
                 g.error("frequency", "is required for a series (with first_date)");
                 None
@@ -456,10 +443,10 @@ fn read_json_list(
             for (index, item) in items.iter().enumerate() {
                 let pointer = format!("/{name}/{index}");
                 let Json::Object(members) = item else {
-                    errors.push(FieldError {
+                    errors.push(FieldError::new(
                         pointer,
-                        message: format!("must be an object, not {}", item.kind()),
-                    });
+                        format!("must be an object, not {}", item.kind()),
+                    ));
                     continue;
                 };
                 let mut g = Fields::new(Source::Json {
@@ -504,15 +491,11 @@ struct Common {
 /// Reads `method`, `currency`, `unit_period` and `time_basis`, shared by both sources.
 fn read_common(f: &mut Fields<'_>) -> Common {
     let method = if f.has("method") {
-        f.choice(
-            "method",
-            |s| match s {
-                "us_actuarial" => Some(Method::UsActuarial),
-                "eu_aprc" => Some(Method::EuAprc),
-                _ => None,
-            },
-            &["us_actuarial", "eu_aprc"],
-        )
+        f.pick(APR_COMMON, "method", |s| match s {
+            "us_actuarial" => Some(Method::UsActuarial),
+            "eu_aprc" => Some(Method::EuAprc),
+            _ => None,
+        })
     } else {
         Some(Method::UsActuarial)
     };
@@ -555,7 +538,7 @@ fn read_common(f: &mut Fields<'_>) -> Common {
             }
         }
     };
-    let time_basis = f.choice("time_basis", AprcTimeChoice::parse, &TIME_BASES);
+    let time_basis = f.pick(APR_COMMON, "time_basis", AprcTimeChoice::parse);
     Common {
         method,
         currency,
@@ -564,19 +547,16 @@ fn read_common(f: &mut Fields<'_>) -> Common {
     }
 }
 
-/// The names `time_basis` takes.
-const TIME_BASES: [&str; 4] = ["auto", "days", "weeks", "equal_months"];
-
 /// Reads the JSON body of `POST /api/v1/apr`.
 ///
 /// # Errors
 /// Every bad field, with its pointer.
 pub fn read_json(body: &Json) -> Result<AprRequest, ApiError> {
     let Json::Object(members) = body else {
-        return Err(ApiError::fields(vec![FieldError {
-            pointer: String::new(),
-            message: "the body must be a JSON object".into(),
-        }]));
+        return Err(ApiError::fields(vec![FieldError::new(
+            String::new(),
+            "the body must be a JSON object".into(),
+        )]));
     };
     let mut f = Fields::new(Source::Json {
         members,
@@ -639,7 +619,7 @@ pub fn parse_flow_text(text: &str, currency: Currency) -> Result<FlowSpec, Strin
             (None, None) => Ok(FlowSpec::Dated(DatedFlow { amount, date })),
             (Some(count), Some(name)) => {
                 let frequency = Frequency::parse(name).ok_or_else(|| {
-                    format!("the frequency must be one of: {}", FREQUENCIES.join(", "))
+                    format!("the frequency must be one of: {}", COMPOUNDINGS.iter().map(|c| c.value).collect::<Vec<_>>().join(", "))
                 })?;
                 let count = check_count(count, MAX_PAYMENTS).map_err(|m| format!("the count {m}"))?;
                 Ok(FlowSpec::Series(PaymentSeries {
@@ -713,10 +693,10 @@ pub fn read_query(pairs: &[(String, String)]) -> Result<AprRequest, ApiError> {
         for text in value.split(',').map(str::trim).filter(|t| !t.is_empty()) {
             items += 1;
             if items > 2 * MAX_ITEMS {
-                errors.push(FieldError {
-                    pointer: key.clone(),
-                    message: format!("at most {MAX_ITEMS} advances and {MAX_ITEMS} payments"),
-                });
+                errors.push(FieldError::new(
+                    key.clone(),
+                    format!("at most {MAX_ITEMS} advances and {MAX_ITEMS} payments"),
+                ));
                 break;
             }
             match parse_flow_text(text, list_currency) {
@@ -733,10 +713,10 @@ pub fn read_query(pairs: &[(String, String)]) -> Result<AprRequest, ApiError> {
                         payments.push(flow);
                     }
                 }
-                Err(message) => errors.push(FieldError {
-                    pointer: key.clone(),
-                    message: format!("\"{}\": {message}", shorten(text)),
-                }),
+                Err(message) => errors.push(FieldError::new(
+                    key.clone(),
+                    format!("\"{}\": {message}", shorten(text)),
+                )),
             }
         }
     }
@@ -747,12 +727,10 @@ pub fn read_query(pairs: &[(String, String)]) -> Result<AprRequest, ApiError> {
     if errors.is_empty() {
         for (name, list) in [("advance", &advances), ("payment", &payments)] {
             if list.is_empty() {
-                all.push(FieldError {
-                    pointer: name.into(),
-                    message: format!(
-                        "is required: give at least one {name}, e.g. {name}=5000@1978-01-10"
-                    ),
-                });
+                all.push(FieldError::new(
+                    name.into(),
+                    format!("is required: give at least one {name}, e.g. {name}=5000@1978-01-10"),
+                ));
             }
         }
     }
@@ -798,28 +776,29 @@ fn finish_request(
         ));
     }
     if unit_form && unit_period.is_none() {
-        errors.push(FieldError {
-            pointer: top("unit_period"),
-            message: format!("is required for flows given in unit-periods: {UNIT_PERIODS}"),
-        });
+        errors.push(FieldError::new(
+            top("unit_period"),
+            format!("is required for flows given in unit-periods: {UNIT_PERIODS}"),
+        ));
     }
     if method == Method::EuAprc {
         if unit_form {
-            errors.push(FieldError {
-                pointer: top("method"),
-                message: "eu_aprc counts time in years from the first drawdown: give the flows with dates".into(),
-            });
+            errors.push(FieldError::new(
+                top("method"),
+                "eu_aprc counts time in years from the first drawdown: give the flows with dates"
+                    .into(),
+            ));
         } else if unit_period.is_some() {
-            errors.push(FieldError {
-                pointer: top("unit_period"),
-                message: "is not used by eu_aprc, which counts time in years".into(),
-            });
+            errors.push(FieldError::new(
+                top("unit_period"),
+                "is not used by eu_aprc, which counts time in years".into(),
+            ));
         }
     } else if time_basis.is_some() {
-        errors.push(FieldError {
-            pointer: top("time_basis"),
-            message: "is used only by method=eu_aprc; us_actuarial counts unit-periods".into(),
-        });
+        errors.push(FieldError::new(
+            top("time_basis"),
+            "is used only by method=eu_aprc; us_actuarial counts unit-periods".into(),
+        ));
     }
     if !unit_form && errors.is_empty() {
         let dated_count: usize = all()
@@ -829,12 +808,10 @@ fn finish_request(
             })
             .sum();
         if dated_count > MAX_FLOWS {
-            errors.push(FieldError {
-                pointer: top("payments"),
-                message: format!(
-                    "the series lay out {dated_count} flows; at most {MAX_FLOWS} are accepted"
-                ),
-            });
+            errors.push(FieldError::new(
+                top("payments"),
+                format!("the series lay out {dated_count} flows; at most {MAX_FLOWS} are accepted"),
+            ));
         }
         let start = advances.iter().map(|f| first_date(&f.spec)).min();
         if let Some(start) = start {

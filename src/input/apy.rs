@@ -7,16 +7,67 @@ use crate::input::fields::Fields;
 use crate::input::problem::{ApiError, FieldError};
 use rust_decimal::Decimal;
 
-const COMPOUNDINGS: [&str; 8] = [
-    "annual",
-    "semiannual",
-    "quarterly",
-    "monthly",
-    "semimonthly",
-    "biweekly",
-    "weekly",
-    "daily",
+use super::table::{Field, Kind, Table, COMPOUNDINGS, CURRENCY};
+
+/// The fields of the three forms of an APY request.
+pub const APY_FIELDS: &[Field] = &[
+    CURRENCY,
+    Field::new("principal", Kind::Money, "Part I.A: the principal.").example("1000"),
+    Field::new(
+        "interest",
+        Kind::Money,
+        "Part I.A: the interest earned over the term.",
+    )
+    .example("30.37"),
+    Field::new(
+        "days",
+        Kind::Whole { min: 0, max: None },
+        "Part I.A: the days of the term.",
+    )
+    .example("182"),
+    Field::new(
+        "annual_rate_percent",
+        Kind::Percent,
+        "A nominal rate compounded as `compounding` says.",
+    )
+    .example("5"),
+    Field::new(
+        "compounding",
+        Kind::Choice {
+            choices: COMPOUNDINGS,
+            default: "",
+        },
+        "How often the nominal rate compounds.",
+    )
+    .example("daily"),
+    Field::new(
+        "interest_earned",
+        Kind::Money,
+        "Part II.A: the interest earned in the period.",
+    )
+    .example("25"),
+    Field::new(
+        "average_daily_balance",
+        Kind::Money,
+        "Part II.A: the average daily balance.",
+    )
+    .example("10000"),
+    Field::new(
+        "days_in_period",
+        Kind::Whole { min: 0, max: None },
+        "Part II.A: the days of the period.",
+    )
+    .example("30"),
 ];
+
+/// The APY request, in one of three forms.
+pub const APY: Table = Table {
+    schema: "ApyRequest",
+    doc: "One of three forms: principal, interest, days (Part I.A); annual_rate_percent, compounding; or interest_earned, average_daily_balance, days_in_period (Part II.A).",
+    groups: &[APY_FIELDS],
+    except: &[],
+    all_optional: false,
+};
 
 const FORMS: [(&str, [&str; 3]); 3] = [
     ("general", ["principal", "interest", "days"]),
@@ -135,7 +186,7 @@ pub fn read_apy(mut f: Fields<'_>) -> Result<ApyRequest, ApiError> {
                 1 => {
                     let rate = f.decimal("annual_rate_percent");
                     let rate = required(&mut f, "annual_rate_percent", rate);
-                    let compounding = f.choice("compounding", Frequency::parse, &COMPOUNDINGS);
+                    let compounding = f.pick(APY_FIELDS, "compounding", Frequency::parse);
                     let compounding = required(&mut f, "compounding", compounding);
                     match (rate, compounding) {
                         (Some(annual_rate_percent), Some(compounding)) => {

@@ -11,6 +11,52 @@ use crate::input::loan::{read_loan_terms, read_plan_options};
 use crate::input::problem::{ApiError, FieldError};
 use rust_decimal::Decimal;
 
+use super::loan::{LOAN, PLAN};
+use super::table::{Field, Kind, Table};
+
+/// The quotes a check compares, and what shapes the disclosure.
+pub const QUOTES: &[Field] = &[
+    Field::new("quoted_payment", Kind::Money, "Compared with the posted payment to the minor unit.")
+        .example("1684.30")
+        .form("Quoted payment", "The payment on the quote.", "1,684.30"),
+    Field::new("quoted_apr_percent", Kind::Percent, "Compared with the APR within the tolerance of 12 CFR 1026.22(a)(2)–(3).")
+        .example("7.25")
+        .form("Quoted APR (%)", "The annual percentage rate on the quote.", "7.25"),
+    Field::new("quoted_finance_charge", Kind::Money, "Compared within the tolerance of 12 CFR 1026.18(d).")
+        .example("412000")
+        .form("Quoted finance charge", "", ""),
+    Field::new("prepaid_finance_charges", Kind::List { item: &PREPAID_CHARGE, min: 0, max: MAX_CHARGES }, "Prepaid finance charges, at most 50.")
+        .example("origination:2500")
+        .query("prepaid_finance_charges=origination:1250.00,points:2500 (name, a colon, the amount; names without commas)")
+        .form("Prepaid finance charges", "name:amount, separated by commas, e.g. origination:1250.00, points:2500.", "origination:1250.00"),
+    Field::new("mortgage", Kind::Flag { yes: "Yes, secured by real property", no: "No", default: "Yes, secured by real property (default)" }, "Selects the finance-charge tolerance of §1026.18(d)(1) (true, default) or (d)(2).")
+        .example("true")
+        .query("true or false")
+        .form("Secured by real property", "Chooses the finance-charge tolerance.", ""),
+];
+
+/// The check request: the loan's fields (without extra payments or a label:
+/// a disclosure counts scheduled payments only) and the quotes.
+pub const CHECK: Table = Table {
+    schema: "LoanCheckRequest",
+    doc: "The loan's fields (as for a schedule, without extra payments and label) and the quotes to check.",
+    groups: &[LOAN, PLAN, QUOTES],
+    except: &["extra_payments", "label"],
+    all_optional: false,
+};
+
+/// One prepaid finance charge of a JSON request.
+pub const PREPAID_CHARGE: Table = Table {
+    schema: "PrepaidFinanceCharge",
+    doc: "A prepaid finance charge.",
+    groups: &[&[
+        Field::new("name", Kind::Text { max: MAX_NAME }, "").required(),
+        Field::new("amount", Kind::Money, "").required(),
+    ]],
+    except: &[],
+    all_optional: false,
+};
+
 /// The most prepaid finance charges a request may list.
 pub const MAX_CHARGES: usize = 50;
 
@@ -121,13 +167,13 @@ fn read_charges(
             for (index, item) in items.iter().enumerate() {
                 let pointer = format!("/{name}/{index}");
                 let Json::Object(members) = item else {
-                    errors.push(FieldError {
+                    errors.push(FieldError::new(
                         pointer,
-                        message: format!(
+                        format!(
                             "must be an object {{\"name\", \"amount\"}}, not {}",
                             item.kind()
                         ),
-                    });
+                    ));
                     continue;
                 };
                 let mut g = Fields::new(Source::Json {

@@ -6,6 +6,38 @@ use crate::input::json::Json;
 use crate::input::loan::{schedule_request_from, ScheduleRequest};
 use crate::input::problem::{ApiError, FieldError};
 
+use super::loan::{LOAN, PLAN};
+use super::table::{Field, Kind, Table};
+
+/// The JSON comparison: a base loan and up to three variants.
+pub const COMPARE: Table = Table {
+    schema: "CompareRequest",
+    doc: "A base loan and up to three variants (four plans at most).",
+    groups: &[&[
+        Field::new("base", Kind::Object(&super::loan::SCHEDULE), "").required(),
+        Field::new(
+            "variants",
+            Kind::List {
+                item: &VARIANT,
+                min: 0,
+                max: MAX_PLANS - 1,
+            },
+            "",
+        ),
+    ]],
+    except: &[],
+    all_optional: false,
+};
+
+/// A plan of a comparison: the base with these fields put over it.
+pub const VARIANT: Table = Table {
+    schema: "CompareVariant",
+    doc: "A plan of a comparison: the base with these fields put over it (any schedule field, and label).",
+    groups: &[LOAN, PLAN],
+    except: &[],
+    all_optional: true,
+};
+
 /// The most plans a comparison may hold.
 pub const MAX_PLANS: usize = 4;
 
@@ -20,26 +52,23 @@ pub fn read_json(body: &Json) -> Result<Vec<(ScheduleRequest, String)>, ApiError
     let mut errors = Vec::new();
     for (k, _) in members {
         if k != "base" && k != "variants" {
-            errors.push(FieldError {
-                pointer: format!("/{}", crate::input::json::escape_pointer(k)),
-                message: "is not a known field".into(),
-            });
+            errors.push(FieldError::unknown(format!(
+                "/{}",
+                crate::input::json::escape_pointer(k)
+            )));
         }
     }
     let base = match body.get("base") {
         Some(Json::Object(m)) => m.clone(),
         Some(other) => {
-            errors.push(FieldError {
-                pointer: "/base".into(),
-                message: format!("must be an object, not {}", other.kind()),
-            });
+            errors.push(FieldError::new(
+                "/base".into(),
+                format!("must be an object, not {}", other.kind()),
+            ));
             vec![]
         }
         None => {
-            errors.push(FieldError {
-                pointer: "/base".into(),
-                message: "is required".into(),
-            });
+            errors.push(FieldError::new("/base".into(), "is required".into()));
             vec![]
         }
     };
@@ -51,19 +80,19 @@ pub fn read_json(body: &Json) -> Result<Vec<(ScheduleRequest, String)>, ApiError
             .filter_map(|(i, v)| match v {
                 Json::Object(m) => Some(m.clone()),
                 other => {
-                    errors.push(FieldError {
-                        pointer: format!("/variants/{i}"),
-                        message: format!("must be an object, not {}", other.kind()),
-                    });
+                    errors.push(FieldError::new(
+                        format!("/variants/{i}"),
+                        format!("must be an object, not {}", other.kind()),
+                    ));
                     None
                 }
             })
             .collect(),
         Some(_) => {
-            errors.push(FieldError {
-                pointer: "/variants".into(),
-                message: format!("must be an array of at most {} variants", MAX_PLANS - 1),
-            });
+            errors.push(FieldError::new(
+                "/variants".into(),
+                format!("must be an array of at most {} variants", MAX_PLANS - 1),
+            ));
             vec![]
         }
     };
@@ -147,15 +176,15 @@ pub fn read_query_with(
             .collect();
         if values.len() > 1 {
             if listed.is_some() {
-                errors.push(FieldError {
-                    pointer: name.into(),
-                    message: "only one field may list several values to compare".into(),
-                });
+                errors.push(FieldError::new(
+                    name.into(),
+                    "only one field may list several values to compare".into(),
+                ));
             } else if values.len() > MAX_PLANS {
-                errors.push(FieldError {
-                    pointer: name.into(),
-                    message: format!("may list at most {MAX_PLANS} values"),
-                });
+                errors.push(FieldError::new(
+                    name.into(),
+                    format!("may list at most {MAX_PLANS} values"),
+                ));
             } else {
                 listed = Some((name.to_string(), values));
             }

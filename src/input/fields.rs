@@ -63,10 +63,7 @@ impl<'a> Fields<'a> {
     /// Records an error on a field.
     pub fn error(&mut self, name: &str, message: impl Into<String>) {
         let pointer = self.pointer(name);
-        self.errors.push(FieldError {
-            pointer,
-            message: message.into(),
-        });
+        self.errors.push(FieldError::new(pointer, message.into()));
     }
 
     /// True when the field is present (and marks it read).
@@ -228,6 +225,24 @@ impl<'a> Fields<'a> {
         }
     }
 
+    /// One of the choices its table row lists (`group`'s field `name`), read
+    /// with `parse` (the engine type's own names); an unknown name is refused
+    /// with the allowed ones, in the table's order.
+    pub fn pick<T>(
+        &mut self,
+        group: &'static [super::table::Field],
+        name: &'static str,
+        parse: impl Fn(&str) -> Option<T>,
+    ) -> Option<T> {
+        let allowed = group
+            .iter()
+            .find(|f| f.name == name)
+            .map(super::table::Field::allowed)
+            .unwrap_or_default();
+        let allowed: Vec<&str> = allowed.iter().map(String::as_str).collect();
+        self.choice(name, parse, &allowed)
+    }
+
     /// Refuses every field that was not read, and returns the collected errors.
     ///
     /// # Errors
@@ -255,10 +270,7 @@ impl<'a> Fields<'a> {
                 Source::Json { pointer, .. } => format!("{pointer}/{}", escape_pointer(&shown)),
                 Source::Query(_) => shown,
             };
-            self.errors.push(FieldError {
-                pointer,
-                message: "is not a known field".into(),
-            });
+            self.errors.push(FieldError::unknown(pointer));
         }
         if self.errors.is_empty() {
             Ok(())

@@ -13,40 +13,155 @@ use crate::input::json::Json;
 use crate::input::problem::{ApiError, FieldError};
 use rust_decimal::Decimal;
 
-const PAYMENT_FREQUENCIES: [&str; 7] = [
-    "annual",
-    "semiannual",
-    "quarterly",
-    "monthly",
-    "semimonthly",
-    "biweekly",
-    "weekly",
+use super::table::{
+    choice, Choice, Field, Kind, Table, COMPOUNDINGS, CURRENCY, PAYMENT_FREQUENCIES,
+};
+
+/// The level loan's fields, in the order the guide lists them.
+pub const LOAN: &[Field] = &[
+    Field::new("principal", Kind::Money, "The amount borrowed, in the currency's minor units at most.")
+        .required()
+        .example("250000")
+        .form("Loan amount", "The principal borrowed.", "250,000"),
+    Field::new("annual_rate_percent", Kind::Percent, "The nominal annual rate in percent (\"6.375\").")
+        .required()
+        .example("6.5")
+        .form("Interest rate (% a year)", "The nominal annual rate.", "6.5"),
+    Field::new("term_months", Kind::Whole { min: 0, max: None }, "The term in months (converted to payments of the payment frequency). Give exactly one of term_months, term_payments and payment: the other is solved.")
+        .example("360")
+        .form("Term in months", "360 is 30 years. Give the term, the number of payments or the payment: the other is worked out.", "360"),
+    Field::new("term_payments", Kind::Whole { min: 0, max: None }, "The term in payments.")
+        .example("360")
+        .form("Number of payments", "Instead of the term in months.", ""),
+    Field::new("payment", Kind::Money, "The payment; the number of payments is solved.")
+        .example("1500")
+        .form("Payment", "Give the payment to find how many payments it takes.", ""),
+    Field::new("payment_frequency", Kind::Choice { choices: PAYMENT_FREQUENCIES, default: "Monthly (default)" }, "How often payments fall due (default monthly).")
+        .example("monthly")
+        .form("Payments made", "", ""),
+    Field::new("compounding", Kind::Choice { choices: COMPOUNDINGS, default: "As often as payments are made" }, "How often interest compounds (default: the payment frequency).")
+        .example("monthly")
+        .form("Interest compounds", "", ""),
+    CURRENCY,
+    Field::new("payment_rounding", Kind::Choice { choices: PAYMENT_ROUNDINGS, default: "To the nearest cent (default)" }, "`nearest` (default, halves up) or `up` to the next minor unit.")
+        .example("nearest")
+        .form("Payment rounded", "", ""),
+    Field::new("interest_rounding", Kind::Choice { choices: INTEREST_ROUNDINGS, default: "Halves up (default)" }, "How each period's interest is rounded: `half_up` (default) or `half_even`.")
+        .example("half_up")
+        .form("Interest rounded", "", ""),
 ];
 
-const COMPOUNDINGS: [&str; 8] = [
-    "annual",
-    "semiannual",
-    "quarterly",
-    "monthly",
-    "semimonthly",
-    "biweekly",
-    "weekly",
-    "daily",
+const PAYMENT_ROUNDINGS: &[Choice] = &[
+    choice("nearest", "To the nearest cent"),
+    choice("up", "Up to the next cent"),
+];
+const INTEREST_ROUNDINGS: &[Choice] = &[
+    choice("half_up", "Halves up"),
+    choice("half_even", "Halves to even"),
+];
+const DAY_COUNTS: &[Choice] = &[
+    choice("actual_365", "Actual days / 365"),
+    choice("actual_360", "Actual days / 360"),
+    choice("thirty_360_bond_basis", "30-day months / 360, bond basis"),
+    choice("thirty_360_us", "30-day months / 360, US rule"),
+    choice("thirty_e_360", "30-day months / 360, European rule"),
+    Choice {
+        value: "thirty_360",
+        words: "",
+        alias_of: Some("thirty_360_bond_basis"),
+    },
+];
+const ODD_DAYS: &[Choice] = &[
+    choice("first_payment", "Added to the first payment"),
+    choice("prepaid", "Collected at closing"),
+];
+const KEEPS: &[Choice] = &[
+    choice("term", "The remaining term"),
+    choice("payment", "The payment"),
 ];
 
-/// The field names of a loan schedule request, in the order the guide lists them.
-pub const LOAN_FIELDS: [&str; 10] = [
-    "principal",
-    "annual_rate_percent",
-    "term_months",
-    "term_payments",
-    "payment",
-    "payment_frequency",
-    "compounding",
-    "currency",
-    "payment_rounding",
-    "interest_rounding",
+/// The plan's fields beyond the level loan's.
+pub const PLAN: &[Field] = &[
+    Field::new("funding_date", Kind::Date, "ISO 8601; with first_payment_date, an odd first period accrues interest for its odd days.")
+        .example("2027-01-17")
+        .form("Funding date", "When the money is paid out (YYYY-MM-DD).", "2026-03-15"),
+    Field::new("first_payment_date", Kind::Date, "ISO 8601; dates every payment.")
+        .example("2027-03-01")
+        .form("First payment date", "Dates every payment (YYYY-MM-DD).", "2026-05-01"),
+    Field::new("day_count", Kind::Choice { choices: DAY_COUNTS, default: "Actual days / 365 (default)" }, "Day count of the odd first period (default actual_365): actual_365 and actual_360 count actual days and divide by 365 or 360; the 30/360 rules count 30-day months and divide by 360, differing at month ends (D1, D2 the days of the month of the start and end): thirty_360_bond_basis (ISDA 2006 4.16(f): D1 31 becomes 30; D2 31 becomes 30 when D1 is then 30), thirty_360_us (SIA: when D1 is February's last day it becomes 30, and D2 too when it is also February's last day; then D2 31 becomes 30 when D1 is 30 or 31; then D1 31 becomes 30), thirty_e_360 (ISDA 4.16(g): every 31st becomes 30). thirty_360 is an alias of thirty_360_bond_basis.")
+        .example("actual_365")
+        .form("Odd-days interest counted as", "", ""),
+    Field::new("odd_days_interest", Kind::Choice { choices: ODD_DAYS, default: "Added to the first payment (default)" }, "Where the odd days' interest goes: added to the first payment (default) or prepaid at closing.")
+        .example("first_payment")
+        .form("Odd-days interest is", "", ""),
+    Field::new("extra_payments", Kind::List { item: &EXTRA_PAYMENT, min: 0, max: MAX_LIST_ITEMS }, "Extra payments, at most 120.")
+        .example("150@13-")
+        .query("extra_payments=150@13-,5000@36 (AMOUNT@FROM-TO, AMOUNT@FROM-, AMOUNT@FROM-TO/EVERY, AMOUNT@AT or AMOUNT@YYYY-MM-DD; repeated or comma-separated)")
+        .form("Extra payments", "150@13- (150 with every payment from 13 on), 150@13-120, 500@12-/12 (every 12th), 5000@36 (once), 2000@2029-06-01 (once, on a date); separate with commas.", "150@13-"),
+    Field::new("interest_only_payments", Kind::Whole { min: 0, max: Some(MAX_PAYMENTS) }, "How many payments at the start pay interest only.")
+        .example("12")
+        .form("Interest-only payments", "How many payments at the start pay interest only.", ""),
+    Field::new("balloon_after_payments", Kind::Whole { min: 0, max: Some(MAX_PAYMENTS) }, "The loan ends with a balloon after this many payments.")
+        .example("60")
+        .form("Balloon after payment", "The rest falls due with this payment.", ""),
+    Field::new("rate_changes", Kind::List { item: &RATE_CHANGE, min: 0, max: MAX_LIST_ITEMS }, "Scheduled rate changes, at most 120.")
+        .example("61:7.25")
+        .query("rate_changes=61:7.25,121:8 (PAYMENT:PERCENT; repeated or comma-separated)")
+        .form("Rate changes", "PAYMENT:PERCENT, e.g. 61:7.25, 121:8.", "61:7.25"),
+    Field::new("rate_change_keeps", Kind::Choice { choices: KEEPS, default: "The remaining term (default)" }, "What a rate change keeps: the term (re-amortize, default) or the payment.")
+        .example("term")
+        .form("A rate change keeps", "", ""),
+    Field::new("property_value", Kind::Money, "For the 80 % and 78 % milestones of the Homeowners Protection Act.")
+        .example("400000")
+        .form("Property value", "For the 80 % and 78 % milestones.", ""),
+    Field::new("label", Kind::Text { max: 80 }, "A name for the plan (in a comparison's rows); at most 80 characters are kept.")
+        .example("Harbourside flat")
+        .form("Label", "A name for this plan, shown on the page.", ""),
 ];
+
+/// The schedule request: the level loan and the plan.
+pub const SCHEDULE: Table = Table {
+    schema: "LoanScheduleRequest",
+    doc: "The fields of a loan schedule request. Give exactly one of term_months, term_payments and payment: the other is solved.",
+    groups: &[LOAN, PLAN],
+    except: &[],
+    all_optional: false,
+};
+
+/// One extra payment of a JSON request.
+pub const EXTRA_PAYMENT: Table = Table {
+    schema: "ExtraPayment",
+    doc: "An extra payment: once (`at` a payment number or a date, which needs first_payment_date) or recurring (`from` payment, optionally `to` and `every`).",
+    groups: &[&[
+        Field::new("amount", Kind::Money, "").required(),
+        Field::new("at", Kind::Shape(super::table::number_or_date), ""),
+        Field::new("from", Kind::Whole { min: 0, max: Some(MAX_PAYMENTS) }, ""),
+        Field::new("to", Kind::Whole { min: 0, max: Some(MAX_PAYMENTS) }, ""),
+        Field::new("every", Kind::Whole { min: 0, max: Some(MAX_PAYMENTS) }, ""),
+    ]],
+    except: &[],
+    all_optional: false,
+};
+
+/// One rate change of a JSON request.
+pub const RATE_CHANGE: Table = Table {
+    schema: "RateChange",
+    doc: "A new annual rate from payment `at` on.",
+    groups: &[&[
+        Field::new(
+            "at",
+            Kind::Whole {
+                min: 0,
+                max: Some(MAX_PAYMENTS),
+            },
+            "",
+        )
+        .required(),
+        Field::new("annual_rate_percent", Kind::Percent, "").required(),
+    ]],
+    except: &[],
+    all_optional: false,
+};
 
 /// Reads loan terms from request fields (JSON body or query string).
 ///
@@ -73,36 +188,26 @@ pub fn read_loan_terms(f: &mut Fields<'_>) -> Option<LoanTerms> {
     let principal = f.decimal("principal");
     let rate = f.decimal("annual_rate_percent");
     let payment_frequency = f
-        .choice(
-            "payment_frequency",
-            |s| Frequency::parse(s).filter(|f| *f != Frequency::Daily),
-            &PAYMENT_FREQUENCIES,
-        )
+        .pick(LOAN, "payment_frequency", |s| {
+            Frequency::parse(s).filter(|f| *f != Frequency::Daily)
+        })
         .or_else(|| {
             (!f.errors
                 .iter()
                 .any(|e| e.pointer.ends_with("payment_frequency")))
             .then_some(Frequency::Monthly)
         });
-    let compounding = f.choice("compounding", Frequency::parse, &COMPOUNDINGS);
-    let payment_rounding = f.choice(
-        "payment_rounding",
-        |s| match s {
-            "nearest" => Some(PaymentRounding::Nearest),
-            "up" => Some(PaymentRounding::Up),
-            _ => None,
-        },
-        &["nearest", "up"],
-    );
-    let interest_rounding = f.choice(
-        "interest_rounding",
-        |s| match s {
-            "half_up" => Some(InterestRounding::HalfUp),
-            "half_even" => Some(InterestRounding::HalfEven),
-            _ => None,
-        },
-        &["half_up", "half_even"],
-    );
+    let compounding = f.pick(LOAN, "compounding", Frequency::parse);
+    let payment_rounding = f.pick(LOAN, "payment_rounding", |s| match s {
+        "nearest" => Some(PaymentRounding::Nearest),
+        "up" => Some(PaymentRounding::Up),
+        _ => None,
+    });
+    let interest_rounding = f.pick(LOAN, "interest_rounding", |s| match s {
+        "half_up" => Some(InterestRounding::HalfUp),
+        "half_even" => Some(InterestRounding::HalfEven),
+        _ => None,
+    });
     let months = f.whole("term_months", "360");
     let payments = f.whole("term_payments", "360");
     let payment = f.decimal("payment");
@@ -351,40 +456,21 @@ pub fn read_plan_options(
         first_payment_date: f.date("first_payment_date"),
         ..PlanOptions::default()
     };
-    if let Some(d) = f.choice(
-        "day_count",
-        DayCount::parse,
-        &[
-            "actual_365",
-            "actual_360",
-            "thirty_360_bond_basis",
-            "thirty_360_us",
-            "thirty_e_360",
-            "thirty_360 (read as thirty_360_bond_basis)",
-        ],
-    ) {
+    if let Some(d) = f.pick(PLAN, "day_count", DayCount::parse) {
         o.day_count = d;
     }
-    if let Some(v) = f.choice(
-        "odd_days_interest",
-        |s| match s {
-            "first_payment" => Some(OddDaysInterest::FirstPayment),
-            "prepaid" => Some(OddDaysInterest::Prepaid),
-            _ => None,
-        },
-        &["first_payment", "prepaid"],
-    ) {
+    if let Some(v) = f.pick(PLAN, "odd_days_interest", |s| match s {
+        "first_payment" => Some(OddDaysInterest::FirstPayment),
+        "prepaid" => Some(OddDaysInterest::Prepaid),
+        _ => None,
+    }) {
         o.odd_days_interest = v;
     }
-    if let Some(v) = f.choice(
-        "rate_change_keeps",
-        |s| match s {
-            "term" => Some(RateChangeKeeps::Term),
-            "payment" => Some(RateChangeKeeps::Payment),
-            _ => None,
-        },
-        &["term", "payment"],
-    ) {
+    if let Some(v) = f.pick(PLAN, "rate_change_keeps", |s| match s {
+        "term" => Some(RateChangeKeeps::Term),
+        "payment" => Some(RateChangeKeeps::Payment),
+        _ => None,
+    }) {
         o.rate_change_keeps = v;
     }
     o.interest_only_payments = f.count("interest_only_payments", MAX_PAYMENTS).unwrap_or(0);
@@ -429,10 +515,10 @@ pub fn read_plan_options(
                 for (index, item) in items.iter().enumerate() {
                     let pointer = format!("{pointer_base}extra_payments/{index}");
                     let Json::Object(m) = item else {
-                        f.errors.push(FieldError {
+                        f.errors.push(FieldError::new(
                             pointer,
-                            message: format!("must be an object, not {}", item.kind()),
-                        });
+                            format!("must be an object, not {}", item.kind()),
+                        ));
                         continue;
                     };
                     let mut g = Fields::new(Source::Json {
@@ -515,10 +601,10 @@ pub fn read_plan_options(
                 date,
                 pointer,
             } => match o.first_payment_date {
-                None => f.errors.push(FieldError {
+                None => f.errors.push(FieldError::new(
                     pointer,
-                    message: "an extra payment on a date needs first_payment_date".into(),
-                }),
+                    "an extra payment on a date needs first_payment_date".into(),
+                )),
                 Some(first) => {
                     match crate::engine::calendar::due_dates(first, MAX_PAYMENTS, frequency) {
                         Ok(dates) => match dates.iter().position(|d| *d >= date) {
@@ -526,15 +612,12 @@ pub fn read_plan_options(
                                 amount,
                                 at: index as u32 + 1,
                             }),
-                            None => f.errors.push(FieldError {
+                            None => f.errors.push(FieldError::new(
                                 pointer,
-                                message: "falls after the last possible payment".into(),
-                            }),
+                                "falls after the last possible payment".into(),
+                            )),
                         },
-                        Err(e) => f.errors.push(FieldError {
-                            pointer,
-                            message: e.message,
-                        }),
+                        Err(e) => f.errors.push(FieldError::new(pointer, e.message)),
                     }
                 }
             },
@@ -575,10 +658,10 @@ pub fn read_plan_options(
                 for (index, item) in items.iter().enumerate() {
                     let pointer = format!("{pointer_base}rate_changes/{index}");
                     let Json::Object(m) = item else {
-                        f.errors.push(FieldError {
+                        f.errors.push(FieldError::new(
                             pointer,
-                            message: format!("must be an object, not {}", item.kind()),
-                        });
+                            format!("must be an object, not {}", item.kind()),
+                        ));
                         continue;
                     };
                     let mut g = Fields::new(Source::Json {

@@ -15,6 +15,40 @@ use crate::engine::{EngineError, ErrorKind};
 pub struct FieldError {
     pub pointer: String,
     pub message: String,
+    /// What kind of error it is, for the pages (not part of the JSON answer).
+    #[serde(skip)]
+    #[schema(ignore)]
+    pub code: FieldCode,
+}
+
+/// The kind of a field error, which the pages act on without reading its words.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum FieldCode {
+    /// The value is missing, malformed or out of range.
+    #[default]
+    Invalid,
+    /// The request holds a field its operation does not take.
+    Unknown,
+}
+
+impl FieldError {
+    /// An error on the field at `pointer`.
+    pub fn new(pointer: String, message: String) -> Self {
+        Self {
+            pointer,
+            message,
+            code: FieldCode::Invalid,
+        }
+    }
+
+    /// A field the operation does not take.
+    pub fn unknown(pointer: impl Into<String>) -> Self {
+        Self {
+            pointer: pointer.into(),
+            message: "is not a known field".into(),
+            code: FieldCode::Unknown,
+        }
+    }
 }
 
 /// The kinds of problem, each with a stable type URI documented in the API guide.
@@ -168,12 +202,7 @@ impl ApiError {
         };
         let errors = e
             .field
-            .map(|f| {
-                vec![FieldError {
-                    pointer: format!("{prefix}{f}"),
-                    message: e.message.clone(),
-                }]
-            })
+            .map(|f| vec![FieldError::new(format!("{prefix}{f}"), e.message.clone())])
             .unwrap_or_default();
         Self {
             kind,
@@ -190,12 +219,14 @@ impl ApiError {
         if self.kind == ProblemKind::Overflow && self.errors.is_empty() {
             self.errors = fields
                 .iter()
-                .map(|f| FieldError {
-                    pointer: format!("{prefix}{f}"),
-                    message: format!(
-                        "takes the computation, with the other figures, out of the range of exact decimal arithmetic ({}); a figure of another size has an answer",
-                        self.detail
-                    ),
+                .map(|f| {
+                    FieldError::new(
+                        format!("{prefix}{f}"),
+                        format!(
+                            "takes the computation, with the other figures, out of the range of exact decimal arithmetic ({}); a figure of another size has an answer",
+                            self.detail
+                        ),
+                    )
                 })
                 .collect();
         }
@@ -210,9 +241,11 @@ impl ApiError {
             errors: e
                 .pointer
                 .iter()
-                .map(|p| FieldError {
-                    pointer: p.clone(),
-                    message: "appears twice in its object: give each member once".into(),
+                .map(|p| {
+                    FieldError::new(
+                        p.clone(),
+                        "appears twice in its object: give each member once".into(),
+                    )
                 })
                 .collect(),
             detail,

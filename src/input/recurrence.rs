@@ -6,6 +6,74 @@ use crate::input::json::Json;
 use crate::input::problem::{ApiError, FieldError};
 use rust_decimal::Decimal;
 
+use super::table::{choice, Choice, Field, Kind, Table};
+
+const KINDS: &[Choice] = &[
+    choice("impulse", ""),
+    choice("step", ""),
+    choice("geometric", ""),
+    choice("ramp", ""),
+];
+
+/// The recurrence request.
+pub const RECURRENCE: Table = Table {
+    schema: "RecurrenceRequest",
+    doc: "x[k+1] = a·x[k] + f[k], x[0] = x0, evaluated at the chosen k.",
+    groups: &[&[
+        Field::new("a", Kind::Decimal, "More than 0 and at most 11.")
+            .required()
+            .example("1.005"),
+        Field::new("x0", Kind::Decimal, "The value at k = 0 (default 0).").example("100000"),
+        Field::new(
+            "inputs",
+            Kind::List {
+                item: &INPUT,
+                min: 0,
+                max: MAX_ITEMS,
+            },
+            "",
+        ),
+        Field::new(
+            "evaluate_at",
+            Kind::Numbers {
+                max: MAX_K,
+                max_items: MAX_ITEMS,
+            },
+            "",
+        ),
+    ]],
+    except: &[],
+    all_optional: false,
+};
+
+/// The fields of one input term.
+pub const INPUT_FIELDS: &[Field] = &[
+    Field::new(
+        "kind",
+        Kind::Choice {
+            choices: KINDS,
+            default: "",
+        },
+        "The kind of the input (its z-transform from the table).",
+    )
+    .required(),
+    Field::new("amount", Kind::Decimal, "").required(),
+    Field::new(
+        "ratio",
+        Kind::Decimal,
+        "For `geometric`: more than 0 and at most 11.",
+    ),
+];
+
+/// One input term f[k]: amount·δ[k], amount·u[k], amount·ratio^k, or amount·k.
+pub const INPUT: Table = Table {
+    schema: "RecurrenceInput",
+    doc: "One input term f[k]: amount·δ[k], amount·u[k], amount·ratio^k, or amount·k.",
+    groups: &[INPUT_FIELDS],
+    except: &[],
+    all_optional: false,
+};
+
 /// The most inputs, and the most evaluation points, a request may have.
 pub const MAX_ITEMS: usize = 16;
 
@@ -24,10 +92,10 @@ fn finish_into(f: Fields<'_>, errors: &mut Vec<FieldError>) {
 /// Every bad field, with its pointer.
 pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> {
     let Json::Object(members) = body else {
-        return Err(ApiError::fields(vec![FieldError {
-            pointer: String::new(),
-            message: "the body must be a JSON object".into(),
-        }]));
+        return Err(ApiError::fields(vec![FieldError::new(
+            String::new(),
+            "the body must be a JSON object".into(),
+        )]));
     };
     let mut errors = Vec::new();
     let mut f = Fields::new(Source::Json {
@@ -54,25 +122,21 @@ pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> 
                 for (index, item) in items.iter().enumerate() {
                     let pointer = format!("/inputs/{index}");
                     let Json::Object(m) = item else {
-                        errors.push(FieldError {
+                        errors.push(FieldError::new(
                             pointer,
-                            message: format!("must be an object, not {}", item.kind()),
-                        });
+                            format!("must be an object, not {}", item.kind()),
+                        ));
                         continue;
                     };
                     let mut g = Fields::new(Source::Json {
                         members: m,
                         pointer: &pointer,
                     });
-                    let kind = g.choice(
-                        "kind",
-                        |s| {
-                            Some(s.to_string()).filter(|s| {
-                                ["impulse", "step", "geometric", "ramp"].contains(&s.as_str())
-                            })
-                        },
-                        &["impulse", "step", "geometric", "ramp"],
-                    );
+                    let kind = g.pick(INPUT_FIELDS, "kind", |s| {
+                        Some(s.to_string()).filter(|s| {
+                            ["impulse", "step", "geometric", "ramp"].contains(&s.as_str())
+                        })
+                    });
                     let amount = g.decimal("amount");
                     if amount.is_none() && !g.errors.iter().any(|e| e.pointer.ends_with("/amount"))
                     {
@@ -128,10 +192,10 @@ pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> 
                     };
                     match ok {
                         Some(k) => ks.push(k),
-                        None => errors.push(FieldError {
-                            pointer: format!("/evaluate_at/{index}"),
-                            message: format!("must be a whole number from 0 to {MAX_K}"),
-                        }),
+                        None => errors.push(FieldError::new(
+                            format!("/evaluate_at/{index}"),
+                            format!("must be a whole number from 0 to {MAX_K}"),
+                        )),
                     }
                 }
             }
@@ -150,10 +214,10 @@ pub fn read_recurrence(body: &Json) -> Result<(Recurrence, Vec<u32>), ApiError> 
         return Err(ApiError::fields(all));
     }
     let (Some(a), x0) = (a, x0.unwrap_or(Decimal::ZERO)) else {
-        return Err(ApiError::fields(vec![FieldError {
-            pointer: "/a".into(),
-            message: "is required".into(),
-        }]));
+        return Err(ApiError::fields(vec![FieldError::new(
+            "/a".into(),
+            "is required".into(),
+        )]));
     };
     Ok((Recurrence { a, x0, inputs }, ks))
 }

@@ -12,45 +12,147 @@ use crate::input::problem::{ApiError, FieldError};
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
-const DEPOSIT_FREQUENCIES: [&str; 7] = [
-    "annual",
-    "semiannual",
-    "quarterly",
-    "monthly",
-    "semimonthly",
-    "biweekly",
-    "weekly",
+use super::table::{
+    choice, Choice, Field, Kind, Table, COMPOUNDINGS, CURRENCY, PAYMENT_FREQUENCIES,
+};
+
+const TIMINGS: &[Choice] = &[
+    choice("start", "At the start of each period"),
+    choice("end", "At the end of each period"),
+];
+const GROWTH_EVERY: &[Choice] = &[
+    choice("period", "Every period"),
+    choice("year", "Once a year"),
 ];
 
-const COMPOUNDINGS: [&str; 8] = [
-    "annual",
-    "semiannual",
-    "quarterly",
-    "monthly",
-    "semimonthly",
-    "biweekly",
-    "weekly",
-    "daily",
+/// The fields of a savings plan request; what is solved follows from what is given.
+pub const SAVINGS_FIELDS: &[Field] = &[
+    Field::new(
+        "opening_balance",
+        Kind::Money,
+        "What is in the account at the start (default 0).",
+    )
+    .example("1000")
+    .form(
+        "Opening balance",
+        "What is in the account today. Leave empty for none.",
+        "for example 1,000",
+    ),
+    Field::new("deposit", Kind::Money, "Each period's deposit.")
+        .example("300")
+        .form(
+            "Deposit",
+            "Each period. Leave empty to work out the deposit that reaches the goal.",
+            "for example 300",
+        ),
+    Field::new(
+        "withdrawal",
+        Kind::Money,
+        "Each period's withdrawal, for a drawdown (instead of a deposit).",
+    )
+    .example("2500")
+    .form("Withdrawal", "For a drawdown, instead of a deposit.", ""),
+    Field::new(
+        "deposit_timing",
+        Kind::Choice {
+            choices: TIMINGS,
+            default: "At the end of each period (default)",
+        },
+        "When deposits are made in each period (default end).",
+    )
+    .example("end")
+    .form("Deposits made", "", ""),
+    Field::new(
+        "deposit_frequency",
+        Kind::Choice {
+            choices: PAYMENT_FREQUENCIES,
+            default: "Monthly (default)",
+        },
+        "How often deposits are made (default monthly).",
+    )
+    .example("monthly")
+    .form("Deposits every", "", ""),
+    Field::new(
+        "deposit_growth_percent",
+        Kind::Percent,
+        "Deposits grow by this percentage.",
+    )
+    .example("3")
+    .form("Deposit grows by (%)", "A fixed percentage.", ""),
+    Field::new(
+        "deposit_growth_every",
+        Kind::Choice {
+            choices: GROWTH_EVERY,
+            default: "Once a year (default)",
+        },
+        "How often deposit growth applies (default year).",
+    )
+    .example("year")
+    .form("Growth applied", "", ""),
+    Field::new(
+        "deposit_step",
+        Kind::Money,
+        "Deposits grow each year by this amount.",
+    )
+    .example("10")
+    .form("Deposit grows each year by", "A fixed amount.", ""),
+    Field::new(
+        "annual_rate_percent",
+        Kind::Percent,
+        "The nominal annual rate in percent.",
+    )
+    .required()
+    .example("4")
+    .form(
+        "Interest rate (% a year)",
+        "The nominal annual rate the account pays.",
+        "for example 4",
+    ),
+    Field::new(
+        "compounding",
+        Kind::Choice {
+            choices: COMPOUNDINGS,
+            default: "As often as deposits are made",
+        },
+        "How often interest compounds (default: the deposit frequency).",
+    )
+    .example("monthly")
+    .form("Interest compounds", "", ""),
+    Field::new(
+        "term_months",
+        Kind::Whole { min: 0, max: None },
+        "The term in months. A term is term_months or term_periods.",
+    )
+    .example("120")
+    .form(
+        "Term in months",
+        "120 is 10 years. Give the term, the goal or both: see what is worked out.",
+        "for example 120",
+    ),
+    Field::new(
+        "term_periods",
+        Kind::Whole { min: 0, max: None },
+        "The term in periods of the deposit frequency.",
+    )
+    .example("120")
+    .form("Number of periods", "Instead of the term in months.", ""),
+    Field::new("goal", Kind::Money, "The balance to reach.")
+        .example("25000")
+        .form("Goal", "The balance to reach.", "for example 25,000"),
+    Field::new("start_date", Kind::Date, "ISO 8601; dates every period.")
+        .example("2027-01-04")
+        .form("Start date", "Dates every period (YYYY-MM-DD).", ""),
+    CURRENCY,
 ];
 
-/// The field names of a savings plan request, in the order the guide lists them.
-pub const SAVINGS_FIELDS: [&str; 15] = [
-    "opening_balance",
-    "deposit",
-    "withdrawal",
-    "deposit_timing",
-    "deposit_frequency",
-    "deposit_growth_percent",
-    "deposit_growth_every",
-    "deposit_step",
-    "annual_rate_percent",
-    "compounding",
-    "term_months",
-    "term_periods",
-    "goal",
-    "start_date",
-    "currency",
-];
+/// The savings plan request.
+pub const SAVINGS: Table = Table {
+    schema: "SavingsPlanRequest",
+    doc: "The fields of a savings plan request; what is solved follows from what is given (see the guide).",
+    groups: &[SAVINGS_FIELDS],
+    except: &[],
+    all_optional: false,
+};
 
 /// A date written as ISO 8601 `YYYY-MM-DD`, and a real calendar date.
 fn parse_date(text: &str) -> Result<Date, String> {
@@ -99,23 +201,17 @@ pub fn read_savings_terms(f: &mut Fields<'_>) -> Option<SavingsTerms> {
     let opening = f.decimal("opening_balance");
     let deposit = f.decimal("deposit");
     let withdrawal = f.decimal("withdrawal");
-    let timing = f.choice("deposit_timing", Timing::parse, &["start", "end"]);
+    let timing = f.pick(SAVINGS_FIELDS, "deposit_timing", Timing::parse);
     let frequency = f
-        .choice(
-            "deposit_frequency",
-            |s| Frequency::parse(s).filter(|f| *f != Frequency::Daily),
-            &DEPOSIT_FREQUENCIES,
-        )
+        .pick(SAVINGS_FIELDS, "deposit_frequency", |s| {
+            Frequency::parse(s).filter(|f| *f != Frequency::Daily)
+        })
         .or_else(|| present_without_error(f, "deposit_frequency").then_some(Frequency::Monthly));
     let growth_percent = f.decimal("deposit_growth_percent");
-    let growth_every = f.choice(
-        "deposit_growth_every",
-        GrowthEvery::parse,
-        &["period", "year"],
-    );
+    let growth_every = f.pick(SAVINGS_FIELDS, "deposit_growth_every", GrowthEvery::parse);
     let step = f.decimal("deposit_step");
     let rate = f.decimal("annual_rate_percent");
-    let compounding = f.choice("compounding", Frequency::parse, &COMPOUNDINGS);
+    let compounding = f.pick(SAVINGS_FIELDS, "compounding", Frequency::parse);
     let months = f.whole("term_months", "120");
     let periods = f.whole("term_periods", "120");
     let goal = f.decimal("goal");

@@ -215,10 +215,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
     let query = query_string(&normalized);
     let loan: Vec<(String, String)> = normalized
         .iter()
-        .filter(|(k, _)| {
-            crate::input::loan::LOAN_FIELDS.contains(&k.as_str())
-                || crate::input::loan::PLAN_FIELDS.contains(&k.as_str())
-        })
+        .filter(|(k, _)| crate::input::loan::SCHEDULE.field(k).is_some())
         .cloned()
         .collect();
     let five = &a.in_five_years;
@@ -342,6 +339,11 @@ pub fn build(q: Option<&str>) -> CheckPage {
         layout: Layout::new("Check a quote", "/check"),
         form: Form::new(
             "/check",
+            &[
+                crate::input::loan::LOAN,
+                crate::input::loan::PLAN,
+                crate::input::check::QUOTES,
+            ],
             &CHECK_FORM,
             &pairs,
             &CHECK_DEFAULTS,

@@ -177,6 +177,7 @@ pub fn build(q: Option<&str>) -> ComparePage {
         layout: Layout::new("Compare plans", "/compare"),
         form: Form::new(
             "/compare",
+            &[crate::input::loan::LOAN, crate::input::loan::PLAN],
             &LOAN_FORM,
             &pairs,
             &COMPARE_DEFAULTS,

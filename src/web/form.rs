@@ -3,6 +3,12 @@
 
 use crate::input::problem::ApiError;
 
+use crate::input::table::Kind as FieldKind;
+
+/// A field of a page's form: its row in the request's field table (name,
+/// label, hint, placeholder, kind), declared once beside the reader.
+pub type Spec = crate::input::table::Field;
+
 /// How a field is entered.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Kind {
@@ -14,130 +20,44 @@ pub enum Kind {
     Date,
     /// Free text (lists, labels).
     Text,
-    /// One of fixed choices: (value, words); an empty value means "not given".
-    Choice(&'static [(&'static str, &'static str)]),
+    /// One of fixed choices.
+    Choice,
 }
 
-/// A field of a page's form: its query name, its label and its help.
-#[derive(Debug, Clone, Copy)]
-pub struct Spec {
-    pub name: &'static str,
-    pub label: &'static str,
-    pub hint: &'static str,
-    pub placeholder: &'static str,
-    pub kind: Kind,
+/// How a person enters the field. The term in months is typed as text: the
+/// compare page takes several terms in it ("180,240,360").
+pub fn kind_of(spec: &Spec) -> Kind {
+    match spec.kind {
+        _ if spec.name == "term_months" => Kind::Text,
+        FieldKind::Money | FieldKind::Percent | FieldKind::Decimal => Kind::Number,
+        FieldKind::Whole { .. } => Kind::Whole,
+        FieldKind::Date => Kind::Date,
+        FieldKind::Choice { .. } | FieldKind::Flag { .. } => Kind::Choice,
+        _ => Kind::Text,
+    }
 }
 
-const FREQUENCIES: &[(&str, &str)] = &[
-    ("monthly", "Monthly"),
-    ("semimonthly", "Twice a month"),
-    ("biweekly", "Every two weeks"),
-    ("weekly", "Weekly"),
-    ("quarterly", "Quarterly"),
-    ("semiannual", "Twice a year"),
-    ("annual", "Once a year"),
-];
-const COMPOUNDINGS: &[(&str, &str)] = &[
-    ("", "As often as payments are made"),
-    ("daily", "Daily"),
-    ("weekly", "Weekly"),
-    ("biweekly", "Every two weeks"),
-    ("semimonthly", "Twice a month"),
-    ("monthly", "Monthly"),
-    ("quarterly", "Quarterly"),
-    ("semiannual", "Twice a year"),
-    ("annual", "Once a year"),
-];
-const DAY_COUNTS: &[(&str, &str)] = &[
-    ("", "Actual days / 365 (default)"),
-    ("actual_365", "Actual days / 365"),
-    ("actual_360", "Actual days / 360"),
-    ("thirty_360_us", "30-day months / 360, US rule"),
-    ("thirty_360_bond_basis", "30-day months / 360, bond basis"),
-    ("thirty_e_360", "30-day months / 360, European rule"),
-];
-const ODD_DAYS: &[(&str, &str)] = &[
-    ("", "Added to the first payment (default)"),
-    ("first_payment", "Added to the first payment"),
-    ("prepaid", "Collected at closing"),
-];
-const KEEPS: &[(&str, &str)] = &[
-    ("", "The remaining term (default)"),
-    ("term", "The remaining term"),
-    ("payment", "The payment"),
-];
-const PAYMENT_ROUNDING: &[(&str, &str)] = &[
-    ("", "To the nearest cent (default)"),
-    ("nearest", "To the nearest cent"),
-    ("up", "Up to the next cent"),
-];
-const INTEREST_ROUNDING: &[(&str, &str)] = &[
-    ("", "Halves up (default)"),
-    ("half_up", "Halves up"),
-    ("half_even", "Halves to even"),
-];
-const YES_NO: &[(&str, &str)] = &[
-    ("", "Yes, secured by real property (default)"),
-    ("true", "Yes, secured by real property"),
-    ("false", "No"),
-];
-const TIMING: &[(&str, &str)] = &[
-    ("", "At the end of each period (default)"),
-    ("end", "At the end of each period"),
-    ("start", "At the start of each period"),
-];
-const GROWTH_EVERY: &[(&str, &str)] = &[
-    ("", "Once a year (default)"),
-    ("year", "Once a year"),
-    ("period", "Every period"),
+/// The field tables the pages' forms show, in the order a field is looked up.
+const FORM_TABLES: [&[Spec]; 4] = [
+    crate::input::loan::LOAN,
+    crate::input::loan::PLAN,
+    crate::input::check::QUOTES,
+    crate::input::savings::SAVINGS_FIELDS,
 ];
 
-/// Every field a page's form shows, with its words.
-pub const SPECS: &[Spec] = &[
-    Spec { name: "principal", label: "Loan amount", hint: "The principal borrowed.", placeholder: "250,000", kind: Kind::Number },
-    Spec { name: "annual_rate_percent", label: "Interest rate (% a year)", hint: "The nominal annual rate.", placeholder: "6.5", kind: Kind::Number },
-    Spec { name: "term_months", label: "Term in months", hint: "360 is 30 years. Give the term, the number of payments or the payment: the other is worked out.", placeholder: "360", kind: Kind::Text },
-    Spec { name: "term_payments", label: "Number of payments", hint: "Instead of the term in months.", placeholder: "", kind: Kind::Whole },
-    Spec { name: "payment", label: "Payment", hint: "Give the payment to find how many payments it takes.", placeholder: "", kind: Kind::Number },
-    Spec { name: "payment_frequency", label: "Payments made", hint: "", placeholder: "", kind: Kind::Choice(FREQUENCIES) },
-    Spec { name: "compounding", label: "Interest compounds", hint: "", placeholder: "", kind: Kind::Choice(COMPOUNDINGS) },
-    Spec { name: "currency", label: "Currency", hint: "ISO 4217 code: USD, EUR, GBP, CAD, AUD, NZD, CHF, SEK, NOK, DKK, MXN, INR, ZAR, JPY, KRW, ISK, CLP, KWD, BHD, JOD, OMR, TND.", placeholder: "USD", kind: Kind::Text },
-    Spec { name: "funding_date", label: "Funding date", hint: "When the money is paid out (YYYY-MM-DD).", placeholder: "2026-03-15", kind: Kind::Date },
-    Spec { name: "first_payment_date", label: "First payment date", hint: "Dates every payment (YYYY-MM-DD).", placeholder: "2026-05-01", kind: Kind::Date },
-    Spec { name: "day_count", label: "Odd-days interest counted as", hint: "", placeholder: "", kind: Kind::Choice(DAY_COUNTS) },
-    Spec { name: "odd_days_interest", label: "Odd-days interest is", hint: "", placeholder: "", kind: Kind::Choice(ODD_DAYS) },
-    Spec { name: "extra_payments", label: "Extra payments", hint: "150@13- (150 with every payment from 13 on), 150@13-120, 500@12-/12 (every 12th), 5000@36 (once), 2000@2029-06-01 (once, on a date); separate with commas.", placeholder: "150@13-", kind: Kind::Text },
-    Spec { name: "interest_only_payments", label: "Interest-only payments", hint: "How many payments at the start pay interest only.", placeholder: "", kind: Kind::Whole },
-    Spec { name: "balloon_after_payments", label: "Balloon after payment", hint: "The rest falls due with this payment.", placeholder: "", kind: Kind::Whole },
-    Spec { name: "rate_changes", label: "Rate changes", hint: "PAYMENT:PERCENT, e.g. 61:7.25, 121:8.", placeholder: "61:7.25", kind: Kind::Text },
-    Spec { name: "rate_change_keeps", label: "A rate change keeps", hint: "", placeholder: "", kind: Kind::Choice(KEEPS) },
-    Spec { name: "property_value", label: "Property value", hint: "For the 80 % and 78 % milestones.", placeholder: "", kind: Kind::Number },
-    Spec { name: "payment_rounding", label: "Payment rounded", hint: "", placeholder: "", kind: Kind::Choice(PAYMENT_ROUNDING) },
-    Spec { name: "interest_rounding", label: "Interest rounded", hint: "", placeholder: "", kind: Kind::Choice(INTEREST_ROUNDING) },
-    Spec { name: "label", label: "Label", hint: "A name for this plan, shown on the page.", placeholder: "", kind: Kind::Text },
-    // The check.
-    Spec { name: "quoted_payment", label: "Quoted payment", hint: "The payment on the quote.", placeholder: "1,684.30", kind: Kind::Number },
-    Spec { name: "quoted_apr_percent", label: "Quoted APR (%)", hint: "The annual percentage rate on the quote.", placeholder: "7.25", kind: Kind::Number },
-    Spec { name: "quoted_finance_charge", label: "Quoted finance charge", hint: "", placeholder: "", kind: Kind::Number },
-    Spec { name: "prepaid_finance_charges", label: "Prepaid finance charges", hint: "name:amount, separated by commas, e.g. origination:1250.00, points:2500.", placeholder: "origination:1250.00", kind: Kind::Text },
-    Spec { name: "mortgage", label: "Secured by real property", hint: "Chooses the finance-charge tolerance.", placeholder: "", kind: Kind::Choice(YES_NO) },
-    // Savings.
-    Spec { name: "opening_balance", label: "Opening balance", hint: "What is in the account today.", placeholder: "0", kind: Kind::Number },
-    Spec { name: "deposit", label: "Deposit", hint: "Each period. Leave empty to work out the deposit that reaches the goal.", placeholder: "300", kind: Kind::Number },
-    Spec { name: "withdrawal", label: "Withdrawal", hint: "For a drawdown, instead of a deposit.", placeholder: "", kind: Kind::Number },
-    Spec { name: "deposit_timing", label: "Deposits made", hint: "", placeholder: "", kind: Kind::Choice(TIMING) },
-    Spec { name: "deposit_frequency", label: "Deposits every", hint: "", placeholder: "", kind: Kind::Choice(FREQUENCIES) },
-    Spec { name: "deposit_growth_percent", label: "Deposit grows by (%)", hint: "A fixed percentage.", placeholder: "", kind: Kind::Number },
-    Spec { name: "deposit_growth_every", label: "Growth applied", hint: "", placeholder: "", kind: Kind::Choice(GROWTH_EVERY) },
-    Spec { name: "deposit_step", label: "Deposit grows each year by", hint: "A fixed amount.", placeholder: "", kind: Kind::Number },
-    Spec { name: "term_periods", label: "Number of periods", hint: "Instead of the term in months.", placeholder: "", kind: Kind::Whole },
-    Spec { name: "goal", label: "Goal", hint: "The balance to reach.", placeholder: "25,000", kind: Kind::Number },
-    Spec { name: "start_date", label: "Start date", hint: "Dates every period (YYYY-MM-DD).", placeholder: "", kind: Kind::Date },
-];
+/// The words of a field, looked up in `tables` (a page's own), then in every
+/// form table.
+pub fn spec_in(tables: &[&'static [Spec]], name: &str) -> Option<&'static Spec> {
+    tables
+        .iter()
+        .chain(FORM_TABLES.iter())
+        .flat_map(|t| t.iter())
+        .find(|s| s.name == name && !s.label.is_empty())
+}
 
-/// The words of a field.
+/// The words of a field in any form table.
 pub fn spec(name: &str) -> Option<&'static Spec> {
-    SPECS.iter().find(|s| s.name == name)
+    spec_in(&[], name)
 }
 
 /// One field as the form shows it.
@@ -155,15 +75,12 @@ impl Field {
     }
 
     /// The choices of a select, empty for a text input.
-    pub fn choices(&self) -> &'static [(&'static str, &'static str)] {
-        match self.spec.kind {
-            Kind::Choice(c) => c,
-            _ => &[],
-        }
+    pub fn choices(&self) -> Vec<(&'static str, &'static str)> {
+        self.spec.form_choices()
     }
 
     pub fn is_choice(&self) -> bool {
-        matches!(self.spec.kind, Kind::Choice(_))
+        kind_of(self.spec) == Kind::Choice
     }
 
     pub fn selected(&self, value: &str) -> bool {
@@ -172,7 +89,7 @@ impl Field {
 
     /// The `inputmode` that brings up the right keyboard.
     pub fn inputmode(&self) -> &'static str {
-        match self.spec.kind {
+        match kind_of(self.spec) {
             Kind::Number => "decimal",
             Kind::Whole => "numeric",
             _ => "text",
@@ -228,6 +145,7 @@ impl Form {
     /// query, and the problem's errors put next to their fields.
     pub fn new(
         action: &'static str,
+        tables: &[&'static [Spec]],
         layout: &[(&'static str, bool, &[&'static str])],
         pairs: &[(String, String)],
         defaults: &[(&str, &str)],
@@ -239,7 +157,9 @@ impl Form {
         for (legend, foldable, names) in layout {
             let mut fields = Vec::new();
             for name in *names {
-                let Some(spec) = spec(name) else { continue };
+                let Some(spec) = spec_in(tables, name) else {
+                    continue;
+                };
                 let value = if empty {
                     defaults
                         .iter()
@@ -284,7 +204,7 @@ impl Form {
                 if placed[i] {
                     continue;
                 }
-                if e.message == "is not a known field" {
+                if e.code == crate::input::problem::FieldCode::Unknown {
                     general_errors.push(format!(
                         "The address holds a field this page does not know: \"{}\".",
                         e.pointer
@@ -358,7 +278,11 @@ pub fn in_words(spec: &Spec, message: &str) -> String {
 /// Field names in a message replaced by their labels (longest names first, so
 /// `term_payments` is not read as `payment`).
 pub fn plain(message: &str) -> String {
-    let mut specs: Vec<&Spec> = SPECS.iter().collect();
+    let mut specs: Vec<&Spec> = FORM_TABLES
+        .iter()
+        .flat_map(|t| t.iter())
+        .filter(|s| !s.label.is_empty())
+        .collect();
     specs.sort_by_key(|s| std::cmp::Reverse(s.name.len()));
     let mut out = message.to_string();
     for s in specs {
@@ -452,7 +376,7 @@ pub fn normalize(pairs: &[(String, String)], lists: bool) -> Vec<(String, String
         .iter()
         .filter(|(_, v)| !v.trim().is_empty())
         .map(|(k, v)| {
-            let kind = spec(k).map(|s| s.kind);
+            let kind = spec(k).map(kind_of);
             let money_or_rate = kind == Some(Kind::Number);
             let number = money_or_rate || kind == Some(Kind::Whole) || k == "term_months";
             let value = if k == "prepaid_finance_charges" {

@@ -585,6 +585,7 @@ pub fn build(q: Option<&str>) -> LoanPage {
         layout: Layout::new(title, "/loan"),
         form: Form::new(
             "/loan",
+            &[crate::input::loan::LOAN, crate::input::loan::PLAN],
             &LOAN_FORM,
             &pairs,
             &LOAN_DEFAULTS,

@@ -348,6 +348,7 @@ pub fn build(q: Option<&str>) -> SavingsPage {
         layout: Layout::new("Savings plan", "/savings"),
         form: Form::new(
             "/savings",
+            &[crate::input::savings::SAVINGS_FIELDS],
             &SAVINGS_FORM,
             &pairs,
             &SAVINGS_DEFAULTS,
