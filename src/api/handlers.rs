@@ -7,7 +7,8 @@ use axum::response::{IntoResponse, Response};
 use axum::{Extension, Json as JsonResponse};
 use serde::Serialize;
 
-use super::loans::{schedule_csv, LoanScheduleDto};
+use super::csv::schedule_csv;
+use super::loans::LoanScheduleDto;
 use super::recurrence;
 use crate::engine::plan::{PlanOptions, RateChangeKeeps};
 use crate::engine::schedule::{schedule_with, LoanTerm};
@@ -303,7 +304,7 @@ pub async fn schedule_get_csv(
 fn compare_answer(c: &crate::answer::compare::Comparison, csv: bool) -> Response {
     let dto = crate::answer::compare::CompareDto::from_comparison(c);
     if csv {
-        csv_answer(super::compare::compare_csv(&dto), "comparison.csv")
+        csv_answer(super::csv::compare_csv(&dto), "comparison.csv")
     } else {
         json_answer(&dto)
     }

@@ -1,5 +1,8 @@
 //! The loan schedule operation: request fields in, JSON or CSV out.
 
+/// The schedule as CSV (written by the one CSV module).
+pub use super::csv::schedule_csv;
+
 use rust_decimal::Decimal;
 use serde::Serialize;
 
@@ -333,30 +336,6 @@ impl LoanScheduleDto {
             notes: s.notes.clone(),
         }
     }
-}
-
-/// The schedule as CSV (RFC 4180): a header row, then one row a payment.
-pub fn schedule_csv(s: &LoanSchedule) -> String {
-    let c = s.terms.currency;
-    let mut out = Vec::with_capacity(64 * (s.ledger.rows.len() + 1));
-    out.extend_from_slice(b"number,date,payment,extra,interest,principal,balance\r\n");
-    let mut line = Line::new();
-    for r in &s.ledger.rows {
-        line.clear();
-        line.number(u64::from(r.number));
-        line.put(b",");
-        if let Some(d) = r.date {
-            line.date(d);
-        }
-        for amount in [r.payment, r.extra, r.interest, r.principal, r.balance] {
-            line.put(b",");
-            line.amount(c, amount);
-        }
-        line.put(b"\r\n");
-        out.extend_from_slice(line.as_bytes());
-    }
-    // Digits, signs, points, commas, dashes and CRLF only: ASCII.
-    String::from_utf8(out).unwrap_or_default()
 }
 
 #[cfg(test)]

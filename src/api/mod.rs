@@ -4,7 +4,7 @@ pub mod apr;
 pub mod apy;
 pub mod batch;
 pub mod check;
-pub mod compare;
+pub mod csv;
 
 pub mod emit;
 pub mod handlers;

@@ -24,38 +24,19 @@ use axum::response::Response;
 
 use super::handlers::{csv_answer, json_answer, JsonBody};
 use crate::answer::savings::{overflow_named, SavingsPlanDto};
-use crate::engine::savings::{plan, SavingsPlan};
+use crate::engine::savings::plan;
 use crate::input::fields::{Fields, Source};
 use crate::input::http::{query_pairs, wants_csv};
 use crate::input::json::Json;
 use crate::input::problem::ApiError;
 use crate::input::savings::savings_terms_from;
 
-/// The schedule as CSV (RFC 4180): a header row, then one row a period; the date
-/// is empty without a `start_date`, and a withdrawal is a negative deposit.
-pub fn schedule_csv(p: &SavingsPlan) -> String {
-    let c = p.terms.currency;
-    let mut out = String::with_capacity(48 * (p.ledger.rows.len() + 1));
-    out.push_str("number,date,deposit,interest,balance\r\n");
-    for r in &p.ledger.rows {
-        out.push_str(&format!(
-            "{},{},{},{},{}\r\n",
-            r.number,
-            r.date.map(|d| d.to_string()).unwrap_or_default(),
-            c.format(r.deposit),
-            c.format(r.interest),
-            c.format(r.balance)
-        ));
-    }
-    out
-}
-
 fn savings_answer(fields: Fields<'_>, csv: bool) -> Result<Response, ApiError> {
     let prefix = fields.pointer("");
     let terms = savings_terms_from(fields)?;
     let p = plan(&terms).map_err(|e| overflow_named(ApiError::from_engine(e, &prefix), &prefix))?;
     Ok(if csv {
-        csv_answer(schedule_csv(&p), "savings-plan.csv")
+        csv_answer(super::csv::savings_csv(&p), "savings-plan.csv")
     } else {
         json_answer(&SavingsPlanDto::from_plan(&p))
     })

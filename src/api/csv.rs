@@ -1,12 +1,11 @@
-//! Comparing plans: a base loan and variants that change some of its fields.
-//!
-//! `POST /api/v1/loans/compare` takes {`base`: {schedule fields}, `variants`:
-//! [{`label`, fields it changes}]} (at most four plans in all).
-//! `GET /api/v1/loans/compare?principal=…&annual_rate_percent=…&term_months=180,240,360`
-//! compares quickly: exactly one field may hold a comma-separated (or repeated)
-//! list, and each value makes one plan; the first is the base.
+//! Every CSV answer (RFC 4180, CRLF line ends): the loan schedule, the savings
+//! plan and the comparison, and the one guard of a free-text cell against being
+//! read as a formula by a spreadsheet.
 
+use super::text::Line;
 use crate::answer::compare::CompareDto;
+use crate::engine::savings::SavingsPlan;
+use crate::engine::schedule::LoanSchedule;
 
 /// The comparison as CSV (RFC 4180).
 pub fn compare_csv(c: &CompareDto) -> String {
@@ -51,6 +50,49 @@ pub fn csv_field(s: &str) -> String {
     } else {
         s.into_owned()
     }
+}
+
+/// The schedule as CSV (RFC 4180): a header row, then one row a payment.
+pub fn schedule_csv(s: &LoanSchedule) -> String {
+    let c = s.terms.currency;
+    let mut out = Vec::with_capacity(64 * (s.ledger.rows.len() + 1));
+    out.extend_from_slice(b"number,date,payment,extra,interest,principal,balance\r\n");
+    let mut line = Line::new();
+    for r in &s.ledger.rows {
+        line.clear();
+        line.number(u64::from(r.number));
+        line.put(b",");
+        if let Some(d) = r.date {
+            line.date(d);
+        }
+        for amount in [r.payment, r.extra, r.interest, r.principal, r.balance] {
+            line.put(b",");
+            line.amount(c, amount);
+        }
+        line.put(b"\r\n");
+        out.extend_from_slice(line.as_bytes());
+    }
+    // Digits, signs, points, commas, dashes and CRLF only: ASCII.
+    String::from_utf8(out).unwrap_or_default()
+}
+
+/// The schedule as CSV (RFC 4180): a header row, then one row a period; the date
+/// is empty without a `start_date`, and a withdrawal is a negative deposit.
+pub fn savings_csv(p: &SavingsPlan) -> String {
+    let c = p.terms.currency;
+    let mut out = String::with_capacity(48 * (p.ledger.rows.len() + 1));
+    out.push_str("number,date,deposit,interest,balance\r\n");
+    for r in &p.ledger.rows {
+        out.push_str(&format!(
+            "{},{},{},{},{}\r\n",
+            r.number,
+            r.date.map(|d| d.to_string()).unwrap_or_default(),
+            c.format(r.deposit),
+            c.format(r.interest),
+            c.format(r.balance)
+        ));
+    }
+    out
 }
 
 #[cfg(test)]
