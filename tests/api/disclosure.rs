@@ -7,7 +7,7 @@ use rust_decimal::{Decimal, MathematicalOps, RoundingStrategy};
 use serde_json::{json, Value};
 
 use crate::helpers::{
-    assert_field_problem, assert_problem, assert_still_healthy, dec, dec_of, spawn_app, TestApp,
+    assert_field_problem, assert_problem, assert_still_healthy, dec, dec_of, shared_app, TestApp,
     SCHEDULE,
 };
 
@@ -66,7 +66,7 @@ fn assert_cautioned(answer: &Value) {
 fn appendix_j_c_1_i_monthly_payments_give_9_69_percent_dated_and_in_unit_periods() {
     // 12 CFR 1026 Appendix J (c)(1)(i): $5,000 advanced 1-10-78; 24 monthly payments
     // of $230 from 2-10-78: 9.69 %.
-    let app = spawn_app();
+    let app = shared_app();
 
     let dated = ok(
         &app,
@@ -122,7 +122,7 @@ fn appendix_j_c_1_i_monthly_payments_give_9_69_percent_dated_and_in_unit_periods
 fn appendix_j_c_1_ii_an_odd_first_period_gives_11_82_percent_with_t_1_and_f_19_30() {
     // 12 CFR 1026 Appendix J (c)(1)(ii): $6,000 advanced 2-10-78; 36 monthly payments
     // of $200 from 4-1-78 (t = 1, f = 19/30): 11.82 %.
-    let app = spawn_app();
+    let app = shared_app();
 
     let dated = ok(
         &app,
@@ -155,7 +155,7 @@ fn appendix_j_c_1_ii_an_odd_first_period_gives_11_82_percent_with_t_1_and_f_19_3
 fn appendix_j_c_1_iii_semimonthly_payments_give_10_34_percent_with_f_6_15() {
     // 12 CFR 1026 Appendix J (c)(1)(iii): $5,000 advanced 2-23-78; 24 semimonthly
     // payments of $219.17 on the 1st and 16th from 3-1-78 (t = 0, f = 6/15): 10.34 %.
-    let app = spawn_app();
+    let app = shared_app();
 
     let dated = ok(
         &app,
@@ -191,7 +191,7 @@ fn appendix_j_c_1_iii_semimonthly_payments_give_10_34_percent_with_f_6_15() {
 fn appendix_j_c_2_i_an_irregular_first_payment_gives_10_08_percent() {
     // 12 CFR 1026 Appendix J (c)(2)(i): $5,000 advanced 1-10-78; $250 on 2-10-78,
     // then 23 monthly payments of $230: 10.08 %.
-    let app = spawn_app();
+    let app = shared_app();
 
     let dated = ok(
         &app,
@@ -219,7 +219,7 @@ fn appendix_j_c_2_i_an_irregular_first_payment_gives_10_08_percent() {
 fn appendix_j_c_3_i_an_irregular_final_payment_gives_10_50_percent() {
     // 12 CFR 1026 Appendix J (c)(3)(i): $5,000 advanced 1-10-78; 23 monthly payments
     // of $230 from 2-10-78 and a final $280: 10.50 %.
-    let app = spawn_app();
+    let app = shared_app();
 
     let dated = ok(
         &app,
@@ -248,7 +248,7 @@ fn appendix_j_c_3_i_an_irregular_final_payment_gives_10_50_percent() {
 fn appendix_j_c_5_i_a_single_advance_and_payment_gives_11_45_percent_over_255_days() {
     // 12 CFR 1026 Appendix J (c)(5)(i): $1,000 advanced 1-3-78; one payment of $1,080
     // on 9-15-78: 255 days, 365/255 unit-periods a year: 11.45 %.
-    let app = spawn_app();
+    let app = shared_app();
 
     let dated = ok(
         &app,
@@ -284,7 +284,7 @@ fn a_unit_period_given_with_dated_flows_is_used_as_given() {
     // 12 CFR 1026 Appendix J (c)(1)(i) again, the month imposed rather than found
     // (9.69 %); and the same flows counted in semimonths put every payment at an
     // even number of semimonths, so the rate per semimonth halves, near enough.
-    let app = spawn_app();
+    let app = shared_app();
     let body = |unit: &str| {
         json!({
             "unit_period": unit,
@@ -308,7 +308,7 @@ fn a_unit_period_given_with_dated_flows_is_used_as_given() {
 fn get_with_the_compact_query_syntax_equals_post() {
     // 12 CFR 1026 Appendix J (c)(1)(i) and (c)(1)(ii) through the query syntax;
     // "1+19/30" arrives as "1 19/30" (t = 1, f = 19/30).
-    let app = spawn_app();
+    let app = shared_app();
 
     let got = ok_get(
         &app,
@@ -344,7 +344,7 @@ fn get_with_the_compact_query_syntax_equals_post() {
 fn eu_aprc_of_1000_repaid_with_1100_a_year_later_is_10_0_percent() {
     // Directive 2008/48/EC Annex I, by hand: 1000 = 1100 (1 + X)^−1, X = 10 %,
     // at least one decimal (remark (d)).
-    let app = spawn_app();
+    let app = shared_app();
 
     let a = ok(
         &app,
@@ -378,7 +378,7 @@ fn eu_aprc_of_1000_repaid_with_1100_a_year_later_is_10_0_percent() {
 
 #[test]
 fn regulation_dd_appendix_a_examples_give_6_17_6_18_and_6_58_percent() {
-    let app = spawn_app();
+    let app = shared_app();
 
     // 12 CFR 1030 Appendix A, Part I.A: $1,000 earning $61.68 in a 365-day year: 6.17 %.
     let year = ok(
@@ -421,7 +421,7 @@ fn regulation_dd_appendix_a_examples_give_6_17_6_18_and_6_58_percent() {
 fn the_apy_of_a_rate_compounded_daily_is_100_times_the_year_of_daily_factors() {
     // 100 [(1 + 0.05/365)^365 − 1] = 5.12674964674625504549681497… (Python decimal at
     // 40 digits, as in the engine's own test).
-    let app = spawn_app();
+    let app = shared_app();
 
     let a = ok(
         &app,
@@ -453,7 +453,7 @@ fn loan(changes: Value) -> Value {
 #[test]
 fn a_correct_quote_matches_the_payment_and_falls_within_the_apr_tolerance() {
     // 100,000 at 6 % over 360 months pays 599.55 (common practice, no source).
-    let app = spawn_app();
+    let app = shared_app();
 
     let c = ok(
         &app,
@@ -484,7 +484,7 @@ fn a_correct_quote_matches_the_payment_and_falls_within_the_apr_tolerance() {
 
 #[test]
 fn a_payment_a_cent_too_high_does_not_match_and_implies_a_higher_note_rate() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let c = ok(&app, CHECK, &loan(json!({"quoted_payment": "599.56"})));
 
@@ -503,7 +503,7 @@ fn a_payment_a_cent_too_high_does_not_match_and_implies_a_higher_note_rate() {
 #[test]
 fn an_apr_off_by_exactly_an_eighth_of_a_point_is_within_and_by_0_126_is_not() {
     // §1026.22(a)(2): within 1/8 of 1 percentage point above or below.
-    let app = spawn_app();
+    let app = shared_app();
     let computed = dec_of(&ok(&app, CHECK, &loan(json!({})))["apr_percent_full"]);
     let quote = |offset: &str| -> Value {
         let quoted = (computed + dec(offset)).to_string();
@@ -527,7 +527,7 @@ fn an_apr_off_by_exactly_an_eighth_of_a_point_is_within_and_by_0_126_is_not() {
 #[test]
 fn at_zero_percent_the_apr_is_exactly_zero_and_0_125_is_the_last_quote_within() {
     // 12,000 over 48 payments of 250 at 0 %: the APR is exactly 0 (by hand).
-    let app = spawn_app();
+    let app = shared_app();
     let zero = |quoted: &str| {
         ok(
             &app,
@@ -550,7 +550,7 @@ fn at_zero_percent_the_apr_is_exactly_zero_and_0_125_is_the_last_quote_within() 
 
 #[test]
 fn prepaid_finance_charges_lower_the_amount_financed_and_raise_the_apr_above_the_note_rate() {
-    let app = spawn_app();
+    let app = shared_app();
     let terms = json!({"principal": "200000", "annual_rate_percent": "6", "term_months": 360});
     let mut body = terms.clone();
     body["prepaid_finance_charges"] =
@@ -590,7 +590,7 @@ fn total_interest_percentage_and_in_five_years_agree_with_the_schedule_rows() {
     // 100,000 at 6 % over 360, computed here from the schedule endpoint's rows:
     // §1026.37(l)(3) TIP = Σ interest ÷ principal × 100, three decimals, trailing zeros
     // dropped (§1026.37(o)(4)); §1026.37(l)(1) through payment 60.
-    let app = spawn_app();
+    let app = shared_app();
     let terms = loan(json!({}));
 
     let c = ok(&app, CHECK, &terms);
@@ -635,7 +635,7 @@ fn total_interest_percentage_and_in_five_years_agree_with_the_schedule_rows() {
 #[test]
 fn a_loan_shorter_than_five_years_counts_its_whole_term() {
     // §1026.37(l)(1) commentary as summarised in REGULATIONS.md: the whole term when shorter.
-    let app = spawn_app();
+    let app = shared_app();
 
     let c = ok(
         &app,
@@ -650,7 +650,7 @@ fn a_loan_shorter_than_five_years_counts_its_whole_term() {
 
 #[test]
 fn the_finance_charge_tolerance_is_100_dollars_understated_for_a_mortgage_and_10_or_5_otherwise() {
-    let app = spawn_app();
+    let app = shared_app();
     let finance_charge = dec_of(&ok(&app, CHECK, &loan(json!({})))["finance_charge"]);
     let quoted = |offset: &str, changes: Value| -> Value {
         let mut body = loan(changes);
@@ -693,7 +693,7 @@ fn the_finance_charge_tolerance_is_100_dollars_understated_for_a_mortgage_and_10
 
 #[test]
 fn get_check_with_prepaid_charges_in_the_query_syntax_equals_post() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let got = ok_get(
         &app,
@@ -720,7 +720,7 @@ fn get_check_with_prepaid_charges_in_the_query_syntax_equals_post() {
 
 #[test]
 fn a_date_off_the_calendar_is_refused_at_its_pointer() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let r = app.post_json(
         APR,
@@ -741,7 +741,7 @@ fn a_date_off_the_calendar_is_refused_at_its_pointer() {
 
 #[test]
 fn bad_flows_are_each_refused_at_their_own_pointer() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let r = app.post_json(
         APR,
@@ -770,7 +770,7 @@ fn bad_flows_are_each_refused_at_their_own_pointer() {
 
 #[test]
 fn flows_in_unit_periods_need_a_unit_period_and_cannot_be_mixed_with_dates() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let no_unit = app.post_json(
         APR,
@@ -812,7 +812,7 @@ fn flows_in_unit_periods_need_a_unit_period_and_cannot_be_mixed_with_dates() {
 
 #[test]
 fn a_payment_before_the_first_advance_or_payments_short_of_the_advances_are_refused() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let early = app.post_json(
         APR,
@@ -836,7 +836,7 @@ fn a_payment_before_the_first_advance_or_payments_short_of_the_advances_are_refu
 
 #[test]
 fn bad_query_flows_are_refused_by_parameter_name_quoting_the_flow() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let no_frequency = app.get(&format!(
         "{APR}?advance=5000@1978-01-10&payment=230x24@1978-02-10"
@@ -864,7 +864,7 @@ fn bad_query_flows_are_refused_by_parameter_name_quoting_the_flow() {
 
 #[test]
 fn bad_apy_requests_are_refused_by_field() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let nothing = app.post_json(APY, &json!({}));
     let mixed = app.post_json(
@@ -890,7 +890,7 @@ fn bad_apy_requests_are_refused_by_field() {
 
 #[test]
 fn bad_check_requests_are_refused_by_field() {
-    let app = spawn_app();
+    let app = shared_app();
 
     let everything_prepaid = app.post_json(
         CHECK,

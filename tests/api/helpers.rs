@@ -6,7 +6,7 @@
 
 use std::io::{ErrorKind, Read, Write};
 use std::net::{SocketAddr, TcpStream};
-use std::sync::mpsc;
+use std::sync::{mpsc, OnceLock};
 use std::time::Duration;
 
 use residue::server::Config;
@@ -22,9 +22,35 @@ pub struct TestApp {
     pub addr: SocketAddr,
 }
 
-/// Starts the server with the default limits.
+/// Starts a server of its own with the default limits, for a test that changes
+/// the server's state, shuts it down, overloads it, counts its metrics or runs
+/// batches (of which a server runs two at once); a test that only asks takes
+/// [`shared_app`].
 pub fn spawn_app() -> TestApp {
     spawn_app_with(Config::default())
+}
+
+/// The shared server's in-flight limit. Every test thread asks it at the same
+/// time, one request each, weighed by its expected work (a maximal plan of 6,000
+/// payments and 240 rules takes 15 permits), where each test had a server of
+/// 16 permits to itself before: with 1,024, even 68 test threads asking for
+/// maximal plans at once are not answered 503 for each other's requests. The
+/// limit shapes no answer, only whether one is 503.
+const SHARED_IN_FLIGHT: usize = 1024;
+
+/// The server the read-only tests share: the default limits but a larger
+/// in-flight limit ([`SHARED_IN_FLIGHT`]), started once by the first test that
+/// asks, on its own thread and tokio runtime, and serving until the test binary
+/// exits. Its answers depend on the request alone (stored GET answers carry
+/// the hash of their bytes as their ETag), so tests cannot see each other.
+pub fn shared_app() -> TestApp {
+    static SHARED: OnceLock<TestApp> = OnceLock::new();
+    *SHARED.get_or_init(|| {
+        spawn_app_with(Config {
+            max_in_flight: SHARED_IN_FLIGHT,
+            ..Config::default()
+        })
+    })
 }
 
 /// Starts the server with the given limits (its `addr` is replaced by 127.0.0.1:0).

@@ -10,7 +10,7 @@ use rust_decimal::{Decimal, RoundingStrategy};
 use serde_json::{json, Value};
 
 use crate::helpers::{
-    assert_field_problem, assert_problem, assert_still_healthy, dec, dec_of, pointers, spawn_app,
+    assert_field_problem, assert_problem, assert_still_healthy, dec, dec_of, pointers, shared_app,
     Response, TestApp, SCHEDULE, SCHEDULE_CSV,
 };
 
@@ -438,7 +438,7 @@ fn dated_100k() -> Value {
 fn a_loan_funded_january_10th_paying_from_march_1st_adds_22_days_of_interest_to_the_first_payment()
 {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let undated = schedule_of(&app, &loan_100k());
 
     // Act
@@ -485,7 +485,7 @@ fn a_loan_funded_january_10th_paying_from_march_1st_adds_22_days_of_interest_to_
 #[test]
 fn thirty_360_counts_21_odd_days_and_actual_360_divides_22_days_by_360() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let cases = [
         ("actual_365", 22, "361.64"),
         ("actual_360", 22, "366.67"),
@@ -512,7 +512,7 @@ fn thirty_360_counts_21_odd_days_and_actual_360_divides_22_days_by_360() {
 #[test]
 fn prepaid_odd_days_interest_leaves_the_first_payment_regular() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = with(
         &dated_100k(),
         json!({"day_count": "thirty_360", "odd_days_interest": "prepaid"}),
@@ -538,7 +538,7 @@ fn prepaid_odd_days_interest_leaves_the_first_payment_regular() {
 #[test]
 fn a_dated_schedule_by_query_equals_the_same_schedule_by_json() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = with(&dated_100k(), json!({"day_count": "actual_360"}));
     let query = "principal=100000&annual_rate_percent=6&term_months=360\
                  &funding_date=2027-01-10&first_payment_date=2027-03-01&day_count=actual_360";
@@ -554,7 +554,7 @@ fn a_dated_schedule_by_query_equals_the_same_schedule_by_json() {
 #[test]
 fn a_loan_paying_on_the_31st_pays_on_the_last_day_of_shorter_months() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -585,7 +585,7 @@ fn a_loan_paying_on_the_31st_pays_on_the_last_day_of_shorter_months() {
 #[test]
 fn due_dates_from_month_ends_and_leap_day_follow_calendar_month_addition_for_all_payments() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let firsts = [
         Ymd(2027, 1, 31),
         Ymd(2027, 1, 30),
@@ -614,7 +614,7 @@ fn due_dates_from_month_ends_and_leap_day_follow_calendar_month_addition_for_all
 #[test]
 fn a_loan_first_paying_on_leap_day_pays_on_february_28th_in_common_years() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -652,7 +652,7 @@ fn extras_reference() -> RefLoan {
 #[test]
 fn extra_payments_in_json_and_in_query_form_give_identical_answers() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = with(&loan_250k(), json!({"extra_payments": extras_json()}));
     let query = "principal=250000&annual_rate_percent=6.5&term_months=360\
                  &extra_payments=150@13-,5000@36";
@@ -669,7 +669,7 @@ fn extra_payments_in_json_and_in_query_form_give_identical_answers() {
 #[test]
 fn extra_payments_post_like_an_independent_ledger_and_save_the_difference_of_two_ledgers() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let reference_with = extras_reference().post();
     let reference_without = RefLoan::new("250000", "6.5", 360).post();
     assert_eq!(
@@ -721,7 +721,7 @@ fn extra_payments_post_like_an_independent_ledger_and_save_the_difference_of_two
 #[test]
 fn an_extra_payment_on_a_date_goes_with_the_payment_due_on_or_after_it() {
     // Arrange: payments fall due on the 1st from 2027-03-01, so 2030-02-01 is payment 36.
-    let app = spawn_app();
+    let app = shared_app();
     let dated = with(&loan_250k(), json!({"first_payment_date": "2027-03-01"}));
     let by_number = |at: u32| {
         schedule_of(
@@ -761,7 +761,7 @@ fn an_extra_payment_on_a_date_goes_with_the_payment_due_on_or_after_it() {
 #[test]
 fn extra_payments_after_payoff_are_ignored_with_a_note_not_refused() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let mut reference = extras_reference();
     reference.extras.push((340, Some(340), dec("1000")));
     let reference = reference.post();
@@ -804,7 +804,7 @@ fn extra_payments_after_payoff_are_ignored_with_a_note_not_refused() {
 #[test]
 fn an_interest_only_year_pays_the_interest_then_amortizes_over_the_remaining_348_payments() {
     // Arrange: 120,000 at 7.2 %: 0.6 % a month, 720.00 of interest.
-    let app = spawn_app();
+    let app = shared_app();
     let reference = RefLoan {
         interest_only: 12,
         ..RefLoan::new("120000", "7.2", 360)
@@ -835,7 +835,7 @@ fn an_interest_only_year_pays_the_interest_then_amortizes_over_the_remaining_348
 #[test]
 fn a_balloon_after_84_of_300_payments_falls_due_with_the_84th_payment() {
     // Arrange: amortized over 25 years, due after 7.
-    let app = spawn_app();
+    let app = shared_app();
     let reference = RefLoan {
         balloon_after: Some(84),
         ..RefLoan::new("500000", "7", 300)
@@ -891,7 +891,7 @@ fn rate_step_json() -> Value {
 #[test]
 fn a_rate_step_at_payment_61_re_amortizes_the_balance_over_the_remaining_300_payments() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let reference = rate_step_reference(false);
 
     // Act
@@ -915,7 +915,7 @@ fn a_rate_step_at_payment_61_re_amortizes_the_balance_over_the_remaining_300_pay
 #[test]
 fn a_rate_step_keeping_the_payment_lengthens_the_term() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let reference = rate_step_reference(true);
     assert!(reference.rows.len() > 360);
 
@@ -937,7 +937,7 @@ fn a_rate_step_keeping_the_payment_lengthens_the_term() {
 #[test]
 fn rate_changes_in_query_form_give_the_same_answer_as_json() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "principal=100000&annual_rate_percent=6&term_months=360&rate_changes=61:7";
 
     // Act
@@ -991,7 +991,7 @@ fn first_row_at_or_below(s: &Value, threshold: Decimal) -> (u64, String) {
 #[test]
 fn hpa_milestones_are_read_from_the_schedule_without_extras() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let initial = schedule_of(&app, &milestone_loan(false));
 
     // Act
@@ -1065,7 +1065,7 @@ fn hpa_milestones_are_read_from_the_schedule_without_extras() {
 #[test]
 fn the_principal_part_first_exceeds_the_interest_part_at_the_first_such_row_of_any_plan() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let plans = [
         loan_100k(),
         loan_250k(),
@@ -1113,7 +1113,7 @@ fn the_principal_part_first_exceeds_the_interest_part_at_the_first_such_row_of_a
 #[test]
 fn hpa_80_and_78_percent_points_are_the_first_rows_of_the_initial_schedule_of_any_plan() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let value = json!({"property_value": "125000", "first_payment_date": "2027-01-01"});
     let plans = [
         with(&loan_100k(), value.clone()),
@@ -1169,7 +1169,7 @@ fn hpa_80_and_78_percent_points_are_the_first_rows_of_the_initial_schedule_of_an
 #[test]
 fn a_property_value_below_the_principal_gives_a_note_not_an_error() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -1201,7 +1201,7 @@ const TERMS_QUERY: &str = "principal=278000&annual_rate_percent=6.375&term_month
 #[test]
 fn compare_by_query_gives_one_row_per_term_with_the_figures_of_separate_schedules() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get(&format!("{COMPARE}?{TERMS_QUERY}"));
@@ -1252,7 +1252,7 @@ fn compare_by_query_gives_one_row_per_term_with_the_figures_of_separate_schedule
 #[test]
 fn compare_as_csv_by_suffix_or_by_accept_gives_rfc_4180_records_with_the_json_figures() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let json_rows = app.get(&format!("{COMPARE}?{TERMS_QUERY}")).json()["rows"]
         .as_array()
         .unwrap()
@@ -1297,7 +1297,7 @@ fn compare_body() -> Value {
 #[test]
 fn compare_by_post_measures_each_variant_against_the_base() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let base = json!({"principal": "278000", "annual_rate_percent": "6.375",
                       "term_months": 360, "first_payment_date": "2027-01-01"});
     let separate = [
@@ -1362,7 +1362,7 @@ fn compare_by_post_measures_each_variant_against_the_base() {
 #[test]
 fn compare_csv_quotes_labels_holding_commas_or_quotes() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let json_rows = app.post_json(COMPARE, &compare_body()).json()["rows"]
         .as_array()
         .unwrap()
@@ -1393,7 +1393,7 @@ fn compare_csv_quotes_labels_holding_commas_or_quotes() {
 #[test]
 fn more_than_four_plans_are_refused_with_422() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let mut body = compare_body();
     body["variants"] = json!([
         {"term_months": 120}, {"term_months": 180}, {"term_months": 240}, {"term_months": 300}
@@ -1418,7 +1418,7 @@ fn more_than_four_plans_are_refused_with_422() {
 #[test]
 fn a_bad_field_of_a_variant_is_refused_at_its_pointer_inside_the_variant() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let cases = [
         (
             json!({"label": "none", "term_months": 0}),
@@ -1449,7 +1449,7 @@ fn a_bad_field_of_a_variant_is_refused_at_its_pointer_inside_the_variant() {
 #[test]
 fn two_listed_fields_in_a_query_comparison_are_refused_with_422() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get(&format!(
@@ -1472,7 +1472,7 @@ fn two_listed_fields_in_a_query_comparison_are_refused_with_422() {
 
 fn a_query_comparison_may_list_values_by_repeating_the_field_anywhere() {
     // Arrange: the module documents "a comma-separated (or repeated) list".
-    let app = spawn_app();
+    let app = shared_app();
     let adjacent = app.get(&format!(
         "{COMPARE}?principal=278000&annual_rate_percent=6.375&term_months=180&term_months=360"
     ));
@@ -1495,7 +1495,7 @@ fn a_query_comparison_may_list_values_by_repeating_the_field_anywhere() {
 #[test]
 fn the_dated_csv_schedule_with_extras_carries_every_json_figure() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "principal=250000&annual_rate_percent=6.5&term_months=360\
                  &first_payment_date=2027-01-31&extra_payments=150@13-,5000@36";
     let s = schedule_by_query(&app, query);
@@ -1541,7 +1541,7 @@ fn the_dated_csv_schedule_with_extras_carries_every_json_figure() {
 #[test]
 fn a_first_payment_on_or_before_funding_is_refused_at_first_payment_date() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     for (funding, first) in [("2027-03-01", "2027-02-01"), ("2027-03-01", "2027-03-01")] {
         // Act
@@ -1566,7 +1566,7 @@ fn a_first_payment_on_or_before_funding_is_refused_at_first_payment_date() {
 #[test]
 fn a_first_period_longer_than_a_year_is_refused_at_first_payment_date() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post_json(
@@ -1584,7 +1584,7 @@ fn a_first_period_longer_than_a_year_is_refused_at_first_payment_date() {
 #[test]
 fn two_rate_changes_at_the_same_payment_are_refused_at_rate_changes() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = with(
         &loan_100k(),
         json!({"rate_changes": [
@@ -1607,7 +1607,7 @@ fn two_rate_changes_at_the_same_payment_are_refused_at_rate_changes() {
 #[test]
 fn an_interest_only_period_as_long_as_the_term_is_refused_at_interest_only_payments() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post_json(
@@ -1622,7 +1622,7 @@ fn an_interest_only_period_as_long_as_the_term_is_refused_at_interest_only_payme
 #[test]
 fn a_balloon_after_as_many_payments_as_the_term_or_more_is_refused_at_balloon_after_payments() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     for after in [400, 360] {
         // Act
@@ -1639,7 +1639,7 @@ fn a_balloon_after_as_many_payments_as_the_term_or_more_is_refused_at_balloon_af
 #[test]
 fn february_30th_is_refused_at_funding_date_in_json_and_in_a_query() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let posted = app.post_json(
@@ -1662,7 +1662,7 @@ fn february_30th_is_refused_at_funding_date_in_json_and_in_a_query() {
 #[test]
 fn the_year_10000_is_refused_at_its_date_field() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let posted = app.post_json(
@@ -1682,7 +1682,7 @@ fn the_year_10000_is_refused_at_its_date_field() {
 #[test]
 fn an_unparseable_extra_payment_item_is_refused_at_extra_payments() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     for item in ["150", "150@abc", "abc@13", "150@13-x", "150@13-/0x"] {
         // Act
@@ -1698,7 +1698,7 @@ fn an_unparseable_extra_payment_item_is_refused_at_extra_payments() {
 #[test]
 fn an_extra_payment_with_both_at_and_from_is_refused_at_its_at() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post_json(
@@ -1716,7 +1716,7 @@ fn an_extra_payment_with_both_at_and_from_is_refused_at_its_at() {
 #[test]
 fn an_unknown_member_inside_an_extra_payment_is_refused_at_its_own_pointer() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post_json(
@@ -1734,7 +1734,7 @@ fn an_unknown_member_inside_an_extra_payment_is_refused_at_its_own_pointer() {
 #[test]
 fn an_extra_payment_on_a_date_without_a_first_payment_date_is_refused() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let posted = app.post_json(
@@ -1758,7 +1758,7 @@ fn an_extra_payment_on_a_date_without_a_first_payment_date_is_refused() {
 fn a_compare_csv_label_that_reads_as_a_formula_is_neutralized() {
     // Arrange: labels a spreadsheet would evaluate on import (the OWASP advice on
     // CSV injection: a leading =, +, -, @ is made text with a leading ').
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "base": {"principal": "1000", "annual_rate_percent": "6", "term_months": 12,
                  "label": "=HYPERLINK(\"http://example.invalid\")"},
@@ -1790,7 +1790,7 @@ fn a_compare_csv_label_that_reads_as_a_formula_is_neutralized() {
 
 #[test]
 fn a_compare_across_currencies_is_refused_at_the_variants_currency() {
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "base": {"principal": "250000", "annual_rate_percent": "6", "term_months": 360},
         "variants": [{"currency": "JPY"}]
@@ -1808,7 +1808,7 @@ fn payments_saved_is_left_empty_for_a_plan_paid_at_another_frequency() {
     // A biweekly plan has 780 scheduled payments against the monthly base's 360;
     // their difference counts unlike payments, so it is not given (null, an empty
     // CSV cell); the interest saved still is.
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "base": {"principal": "278000", "annual_rate_percent": "6.375", "term_months": 360},
         "variants": [{"label": "biweekly", "payment_frequency": "biweekly"}, {"label": "25 years", "term_months": 300}]
@@ -1851,7 +1851,7 @@ fn a_short_first_period_charges_a_full_period_less_a_credit_and_says_so() {
     // 2026-03-01, 24 days before funding. By hand: a full month's interest is
     // 250,000 × 0.06/12 = 1,250.00; the credit 250,000 × 0.06 × 24/365 =
     // 986.301… = 986.30 (actual/365); the first interest 1,250.00 − 986.30 = 263.70.
-    let app = spawn_app();
+    let app = shared_app();
     let s = app
         .get(&format!(
             "{SCHEDULE}?principal=250000&annual_rate_percent=6&term_months=360&funding_date=2026-03-25&first_payment_date=2026-04-01"
