@@ -5,20 +5,15 @@ use serde_json::{json, Value};
 
 use crate::helpers::{
     assert_field_problem, assert_problem, assert_still_healthy, config_with_body_limit, pointers,
-    shared_app, spawn_app_with, Response, TestApp, SCHEDULE, SCHEDULE_CSV,
+    shared_app, spawn_app_with, with, Response, TestApp, SCHEDULE, SCHEDULE_CSV,
 };
 
 /// A valid 10-year loan with `changes` merged in (a `null` removes a field).
 fn loan_with(changes: Value) -> Value {
-    let mut body = json!({"principal": "100000", "annual_rate_percent": "6", "term_months": 120});
-    for (k, v) in changes.as_object().expect("an object of changes") {
-        if v.is_null() {
-            body.as_object_mut().unwrap().remove(k);
-        } else {
-            body[k] = v.clone();
-        }
-    }
-    body
+    with(
+        &json!({"principal": "100000", "annual_rate_percent": "6", "term_months": 120}),
+        changes,
+    )
 }
 
 /// Posts the loan with `changes` and returns the answer.

@@ -159,6 +159,22 @@ impl TestApp {
         self.post(path, "application/json", &bytes)
     }
 
+    /// `POST path` with a JSON body; the answer must be 200 JSON, and is returned parsed.
+    pub fn post_ok(&self, path: &str, body: &Value) -> Value {
+        let r = self.post_json(path, body);
+        assert_eq!(r.status, 200, "POST {path} {body}: {}", r.text());
+        assert_eq!(r.media_type(), "application/json", "POST {path} {body}");
+        r.json()
+    }
+
+    /// `GET path`; the answer must be 200 JSON, and is returned parsed.
+    pub fn get_ok(&self, path: &str) -> Value {
+        let r = self.get(path);
+        assert_eq!(r.status, 200, "GET {path}: {}", r.text());
+        assert_eq!(r.media_type(), "application/json", "GET {path}");
+        r.json()
+    }
+
     /// `POST path` with any media type and body bytes.
     pub fn post(&self, path: &str, content_type: &str, body: &[u8]) -> Response {
         self.request("POST", path, &[("Content-Type", content_type)], Some(body))
@@ -317,27 +333,39 @@ pub fn dec_of(v: &Value) -> Decimal {
 
 /// Asserts a problem-details answer: status, media type, `type`, `title`, `status`.
 pub fn assert_problem(r: &Response, status: u16, slug: &str) -> Value {
+    assert_problem_of("the answer", r, status, slug)
+}
+
+/// [`assert_problem`], its messages naming `what` was asked.
+pub fn assert_problem_of(what: &str, r: &Response, status: u16, slug: &str) -> Value {
     assert_eq!(
         r.status,
         status,
-        "unexpected status; body: {}",
+        "{what}: unexpected status; body: {}",
         String::from_utf8_lossy(&r.body)
     );
     assert_eq!(
         r.header("content-type"),
         Some("application/problem+json"),
-        "a problem is application/problem+json"
+        "{what}: a problem is application/problem+json"
     );
     let p = r.json();
-    assert_eq!(p["type"], format!("/api#problem-{slug}"), "problem: {p}");
+    assert_eq!(
+        p["type"],
+        format!("/api#problem-{slug}"),
+        "{what}: problem: {p}"
+    );
     assert!(
         p["title"].as_str().is_some_and(|t| !t.is_empty()),
-        "a problem has a title: {p}"
+        "{what}: a problem has a title: {p}"
     );
-    assert_eq!(p["status"], status, "the body's status matches: {p}");
+    assert_eq!(
+        p["status"], status,
+        "{what}: the body's status matches: {p}"
+    );
     assert!(
         p["detail"].as_str().is_some_and(|t| !t.is_empty()),
-        "a problem has a detail: {p}"
+        "{what}: a problem has a detail: {p}"
     );
     p
 }
@@ -373,6 +401,114 @@ pub fn assert_field_problem(r: &Response, status: u16, slug: &str, pointer: &str
         "expected an error at pointer {pointer:?}, got {found:?}: {p}"
     );
     p
+}
+
+/// `base` with `changes` merged in (a `null` removes a field).
+pub fn with(base: &Value, changes: Value) -> Value {
+    let mut body = base.clone();
+    for (k, v) in changes.as_object().expect("an object of changes") {
+        if v.is_null() {
+            body.as_object_mut().unwrap().remove(k);
+        } else {
+            body[k] = v.clone();
+        }
+    }
+    body
+}
+
+/// What a case of a table asks.
+#[derive(Debug)]
+pub enum Ask {
+    /// `POST path` with this JSON body.
+    Json(&'static str, Value),
+    /// `POST path` with these bytes as `application/json`.
+    Bytes(&'static str, &'static [u8]),
+    /// `GET path?query`.
+    Get(String),
+}
+
+impl Ask {
+    pub fn send(&self, app: &TestApp) -> Response {
+        match self {
+            Ask::Json(path, body) => app.post_json(path, body),
+            Ask::Bytes(path, bytes) => app.post(path, "application/json", bytes),
+            Ask::Get(target) => app.get(target),
+        }
+    }
+
+    /// The request as a failure message names it.
+    pub fn describe(&self) -> String {
+        match self {
+            Ask::Json(path, body) => format!("POST {path} {body}"),
+            Ask::Bytes(path, bytes) => {
+                format!("POST {path} {:?}", String::from_utf8_lossy(bytes))
+            }
+            Ask::Get(target) => format!("GET {target}"),
+        }
+    }
+}
+
+/// A refusal a table expects: the status, the problem type, the pointers the
+/// problem must name (JSON Pointers for a body, parameter names for a query)
+/// and, if given, words of its first field error's message.
+#[derive(Debug)]
+pub struct Refusal {
+    pub ask: Ask,
+    pub status: u16,
+    pub slug: &'static str,
+    pub pointers: Vec<&'static str>,
+    pub message: Option<&'static str>,
+}
+
+impl Refusal {
+    /// `ask` refused with `status` and the problem type `slug`.
+    pub fn new(ask: Ask, status: u16, slug: &'static str) -> Self {
+        Self {
+            ask,
+            status,
+            slug,
+            pointers: Vec::new(),
+            message: None,
+        }
+    }
+
+    /// `ask` refused 422 invalid-fields, naming `pointer`.
+    pub fn invalid(ask: Ask, pointer: &'static str) -> Self {
+        Self::new(ask, 422, "invalid-fields").at(pointer)
+    }
+
+    /// The problem also names `pointer`.
+    pub fn at(mut self, pointer: &'static str) -> Self {
+        self.pointers.push(pointer);
+        self
+    }
+
+    /// The first field error's message holds `words`.
+    pub fn saying(mut self, words: &'static str) -> Self {
+        self.message = Some(words);
+        self
+    }
+}
+
+/// Sends every case of a table and asserts its refusal; after each, the server
+/// still answers `/healthz`.
+pub fn assert_refusals(app: &TestApp, cases: &[Refusal]) {
+    for case in cases {
+        let what = case.ask.describe();
+        let p = assert_problem_of(&what, &case.ask.send(app), case.status, case.slug);
+        let found = pointers(&p);
+        for pointer in &case.pointers {
+            assert!(
+                found.iter().any(|f| f == pointer),
+                "{what}: expected an error at pointer {pointer:?}, got {found:?}: {p}"
+            );
+        }
+        if let Some(words) = case.message {
+            let message = p["errors"][0]["message"].as_str().unwrap_or("");
+            assert!(message.contains(words), "{what}: {words:?} in {p}");
+        }
+        assert_still_healthy(app);
+    }
 }
 
 /// Asserts the server still answers `/healthz` (a bad request did not break it).
