@@ -5,7 +5,9 @@
 
 use serde_json::{json, Value};
 
-use crate::helpers::{assert_problem, pointers, spawn_app, spawn_app_with, TestApp, SCHEDULE};
+use crate::helpers::{
+    assert_problem, pointers, shared_app, spawn_app, spawn_app_with, TestApp, SCHEDULE,
+};
 
 /// Recurring extras every 2nd to 121st payment and 120 rate changes on 6,000
 /// weekly payments: nearly every payment starts a segment.
@@ -34,7 +36,7 @@ fn store_hits(app: &TestApp) -> u64 {
 
 #[test]
 fn a_plan_of_thousands_of_segments_lists_the_first_in_full_and_stays_small() {
-    let app = spawn_app();
+    let app = shared_app();
     let r = app.post_json(SCHEDULE, &maximal_loan());
     assert_eq!(r.status, 200, "{}", r.text());
     // Was 12.9 MB with every segment's derivation; rows alone are about 0.7 MB.
@@ -93,7 +95,7 @@ fn a_host_header_never_reaches_the_guide_and_made_up_queries_share_one_stored_an
 
 #[test]
 fn a_label_with_control_characters_is_refused_and_a_formula_behind_blanks_is_guarded() {
-    let app = spawn_app();
+    let app = shared_app();
     let base = "principal=100000&annual_rate_percent=6&term_months=360";
     for bad in ["a%00b", "x%1B%5B31m", "del%7F"] {
         let r = app.get(&format!("{SCHEDULE}?{base}&label={bad}"));
@@ -167,7 +169,7 @@ fn a_malformed_chunk_is_a_400_and_a_batch_cut_short_says_so() {
 fn numbers_follow_one_grammar_in_json_and_query() {
     // The guide: digits, an optional point, an optional exponent; a count is such
     // a number without a fraction, as a JSON number or a string.
-    let app = spawn_app();
+    let app = shared_app();
     let by_query = app.get(&format!(
         "{SCHEDULE}?principal=1e5&annual_rate_percent=6&term_months=3.6e2"
     ));
@@ -215,7 +217,7 @@ fn sixteen_maximal_plans_at_once_are_weighed_not_all_computed() {
 
 #[test]
 fn the_recurrence_states_the_precision_and_range_it_really_keeps_near_close_poles() {
-    let app = spawn_app();
+    let app = shared_app();
     let ask = |ratio: &str, k: u32| {
         app.post_json(
             "/api/v1/recurrence",
@@ -259,7 +261,7 @@ fn the_recurrence_states_the_precision_and_range_it_really_keeps_near_close_pole
 
 #[test]
 fn the_page_of_a_plan_of_thousands_of_segments_folds_its_years_and_stays_small() {
-    let app = spawn_app();
+    let app = shared_app();
     let loan = maximal_loan();
     let mut query = vec![
         "principal=900000".to_string(),

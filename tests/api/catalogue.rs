@@ -12,7 +12,8 @@ use residue::server::Config;
 use serde_json::{json, Value};
 
 use crate::helpers::{
-    assert_still_healthy, parse_response, pointers, spawn_app, spawn_app_with, Response, TestApp,
+    assert_still_healthy, parse_response, pointers, shared_app, spawn_app, spawn_app_with,
+    Response, TestApp,
 };
 
 const SCHEDULE: &str = "/api/v1/loans/schedule";
@@ -557,7 +558,7 @@ fn every_catalogued_bad_input_gets_its_status_problem_and_pointer_and_the_server
 #[test]
 fn an_extra_payment_after_payoff_is_answered_200_with_one_more_note() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let plain = app.post(SCHEDULE, "application/json", &loan(json!({})));

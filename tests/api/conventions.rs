@@ -14,7 +14,7 @@ use std::time::Duration;
 use serde_json::{json, Value};
 
 use crate::helpers::{
-    assert_problem, config_with_body_limit, dec, pointers, spawn_app, spawn_app_with, TestApp,
+    assert_problem, config_with_body_limit, dec, pointers, shared_app, spawn_app_with, TestApp,
     SCHEDULE,
 };
 
@@ -36,7 +36,7 @@ fn semimonthly(funding: &str, first: &str, extra: &str) -> String {
 fn a_semimonthly_loan_funded_on_its_previous_due_date_has_no_odd_days() {
     // Arrange: a 5th/20th schedule; the due date before 5 March is 20 February, and
     // the one before 5 April is 20 March (calendar, by hand).
-    let app = spawn_app();
+    let app = shared_app();
     for (funding, first) in [("2027-02-20", "2027-03-05"), ("2027-03-20", "2027-04-05")] {
         // Act
         let s = schedule(&app, &semimonthly(funding, first, ""));
@@ -60,7 +60,7 @@ fn a_semimonthly_loan_funded_on_its_previous_due_date_has_no_odd_days() {
 fn a_semimonthly_odd_period_counts_from_the_schedules_own_previous_due_date() {
     // Arrange: 15th/30th; the due date before 15 February 2027 is 30 January, so
     // funding on 3 January leaves 27 days by 30/360 (30·0 + 30 − 3) and 27 actual days.
-    let app = spawn_app();
+    let app = shared_app();
     for day_count in ["thirty_360", "thirty_360_bond_basis", "actual_365"] {
         // Act
         let s = schedule(
@@ -99,7 +99,7 @@ fn each_thirty_360_variant_is_offered_under_its_own_name() {
     // 30 April, so the regular period starts on 30 March. By hand from each rule:
     // bond basis 30·1 + (30 − 28) = 32; US 30 (D1, February's last day, becomes 30);
     // 30E/360 32 (February is not adjusted).
-    let app = spawn_app();
+    let app = shared_app();
     let base = "principal=100000&annual_rate_percent=6&term_months=360&funding_date=2027-02-28&first_payment_date=2027-04-30";
     for (day_count, days) in [
         ("thirty_360_bond_basis", 32),
@@ -141,7 +141,7 @@ fn aprc(app: &TestApp, body: Value) -> Value {
 fn the_annex_iii_examples_of_98_7_ec_hold_on_the_days_basis_in_the_full_figure() {
     // Directive 98/7/EC Annex III examples 1-3 (as summarised in REGULATIONS.md):
     // 12.96 %, 16.90 %, 13.07 %.
-    let app = spawn_app();
+    let app = shared_app();
     let cases = [
         (
             json!([{"amount": "1000", "date": "1994-01-01"}]),
@@ -178,7 +178,7 @@ fn the_annex_iii_examples_of_98_7_ec_hold_on_the_days_basis_in_the_full_figure()
 
 #[test]
 fn the_time_basis_may_be_chosen_and_auto_says_why_it_chose() {
-    let app = spawn_app();
+    let app = shared_app();
     // Whole months after the drawdown: auto takes equal months and says so.
     let flows = "advance=1000@2027-01-10&payment=520@2027-02-10,520@2027-03-10";
     let r = app.get(&format!("{APR}?method=eu_aprc&{flows}"));
@@ -207,7 +207,7 @@ fn the_time_basis_may_be_chosen_and_auto_says_why_it_chose() {
 
 #[test]
 fn every_bad_field_is_named_at_once_in_a_query_and_in_a_body() {
-    let app = spawn_app();
+    let app = shared_app();
     // Act: the query of the report.
     let r = app.get(&format!(
         "{SCHEDULE}?principal=-5&annual_rate_percent=x&term_months=0"
@@ -329,7 +329,7 @@ fn a_body_declared_far_beyond_the_limit_or_waiting_for_continue_is_refused_at_on
 
 #[test]
 fn the_savings_check_and_apy_operations_name_every_bad_field_at_once_too() {
-    let app = spawn_app();
+    let app = shared_app();
     for (path, query, mut want) in [
         (
             "/api/v1/savings/plan",

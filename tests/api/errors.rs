@@ -5,20 +5,15 @@ use serde_json::{json, Value};
 
 use crate::helpers::{
     assert_field_problem, assert_problem, assert_still_healthy, config_with_body_limit, pointers,
-    spawn_app, spawn_app_with, Response, TestApp, SCHEDULE, SCHEDULE_CSV,
+    shared_app, spawn_app_with, with, Response, TestApp, SCHEDULE, SCHEDULE_CSV,
 };
 
 /// A valid 10-year loan with `changes` merged in (a `null` removes a field).
 fn loan_with(changes: Value) -> Value {
-    let mut body = json!({"principal": "100000", "annual_rate_percent": "6", "term_months": 120});
-    for (k, v) in changes.as_object().expect("an object of changes") {
-        if v.is_null() {
-            body.as_object_mut().unwrap().remove(k);
-        } else {
-            body[k] = v.clone();
-        }
-    }
-    body
+    with(
+        &json!({"principal": "100000", "annual_rate_percent": "6", "term_months": 120}),
+        changes,
+    )
 }
 
 /// Posts the loan with `changes` and returns the answer.
@@ -37,7 +32,7 @@ fn assert_invalid_field(app: &TestApp, r: &Response, pointer: &str) -> Value {
 
 fn a_negative_principal_is_refused_at_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "-1000"}));
@@ -50,7 +45,7 @@ fn a_negative_principal_is_refused_at_principal() {
 
 fn a_zero_principal_is_refused_at_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "0"}));
@@ -62,7 +57,7 @@ fn a_zero_principal_is_refused_at_principal() {
 #[test]
 fn a_negative_rate_is_refused_at_annual_rate_percent() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"annual_rate_percent": "-0.5"}));
@@ -74,7 +69,7 @@ fn a_negative_rate_is_refused_at_annual_rate_percent() {
 #[test]
 fn a_rate_just_above_1000_percent_is_refused_at_annual_rate_percent() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"annual_rate_percent": "1000.0001"}));
@@ -86,7 +81,7 @@ fn a_rate_just_above_1000_percent_is_refused_at_annual_rate_percent() {
 #[test]
 fn a_rate_that_is_not_a_number_is_refused_at_annual_rate_percent() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"annual_rate_percent": "abc"}));
@@ -98,7 +93,7 @@ fn a_rate_that_is_not_a_number_is_refused_at_annual_rate_percent() {
 #[test]
 fn a_principal_with_a_thousands_separator_is_refused_in_json() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "1,000"}));
@@ -118,7 +113,7 @@ fn a_principal_with_a_thousands_separator_is_refused_in_json() {
 
 fn a_usd_principal_with_three_decimals_is_refused_at_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "100.001"}));
@@ -130,7 +125,7 @@ fn a_usd_principal_with_three_decimals_is_refused_at_principal() {
 #[test]
 fn a_jpy_principal_in_whole_yen_is_accepted() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "1000000", "currency": "JPY"}));
@@ -143,7 +138,7 @@ fn a_jpy_principal_in_whole_yen_is_accepted() {
 
 fn a_jpy_principal_with_a_fraction_of_a_yen_is_refused_at_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "1000000.5", "currency": "JPY"}));
@@ -155,7 +150,7 @@ fn a_jpy_principal_with_a_fraction_of_a_yen_is_refused_at_principal() {
 #[test]
 fn a_term_of_zero_months_is_refused_at_term_months() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"term_months": 0}));
@@ -167,7 +162,7 @@ fn a_term_of_zero_months_is_refused_at_term_months() {
 #[test]
 fn a_term_of_6001_months_is_refused_at_term_months() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"term_months": 6001}));
@@ -179,7 +174,7 @@ fn a_term_of_6001_months_is_refused_at_term_months() {
 #[test]
 fn a_term_and_a_payment_together_are_refused_at_payment() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"payment": "1110.21"}));
@@ -191,7 +186,7 @@ fn a_term_and_a_payment_together_are_refused_at_payment() {
 #[test]
 fn neither_a_term_nor_a_payment_is_refused_at_term_months() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"term_months": null}));
@@ -204,7 +199,7 @@ fn neither_a_term_nor_a_payment_is_refused_at_term_months() {
 
 fn schedule_returns_422_when_the_payment_never_repays() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"term_months": null, "payment": "500.00"}));
@@ -217,7 +212,7 @@ fn schedule_returns_422_when_the_payment_never_repays() {
 #[test]
 fn an_unknown_currency_is_refused_at_currency() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"currency": "XYZ"}));
@@ -229,7 +224,7 @@ fn an_unknown_currency_is_refused_at_currency() {
 #[test]
 fn an_unknown_payment_frequency_is_refused_at_payment_frequency() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"payment_frequency": "fortnightly"}));
@@ -241,7 +236,7 @@ fn an_unknown_payment_frequency_is_refused_at_payment_frequency() {
 #[test]
 fn an_unknown_field_is_refused_at_its_own_pointer() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": null, "princpal": "100000"}));
@@ -257,7 +252,7 @@ fn an_unknown_field_is_refused_at_its_own_pointer() {
 #[test]
 fn malformed_json_is_a_400_malformed_json_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post(SCHEDULE, "application/json", br#"{"principal": "100000","#);
@@ -270,7 +265,7 @@ fn malformed_json_is_a_400_malformed_json_problem() {
 #[test]
 fn a_bare_nan_token_is_malformed_json() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post(
@@ -287,7 +282,7 @@ fn a_bare_nan_token_is_malformed_json() {
 #[test]
 fn a_duplicate_key_is_a_400_malformed_json_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post(
@@ -308,7 +303,7 @@ fn a_duplicate_key_is_a_400_malformed_json_problem() {
 #[test]
 fn a_text_plain_body_is_a_415_unsupported_media_type_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post(
@@ -360,7 +355,7 @@ fn a_body_within_the_limit_is_accepted_by_a_small_limit() {
 #[test]
 fn deeply_nested_json_is_a_400_malformed_json_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = format!(
         r#"{{"principal": {}1{}}}"#,
         "[".repeat(10_000),
@@ -378,7 +373,7 @@ fn deeply_nested_json_is_a_400_malformed_json_problem() {
 #[test]
 fn a_json_array_body_is_refused_at_the_empty_pointer() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post_json(
@@ -393,7 +388,7 @@ fn a_json_array_body_is_refused_at_the_empty_pointer() {
 #[test]
 fn nan_as_a_string_is_refused_at_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_loan(&app, json!({"principal": "NaN"}));
@@ -405,7 +400,7 @@ fn nan_as_a_string_is_refused_at_principal() {
 #[test]
 fn a_number_beyond_decimal_range_like_1e400_is_refused_at_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.post(
@@ -421,7 +416,7 @@ fn a_number_beyond_decimal_range_like_1e400_is_refused_at_principal() {
 #[test]
 fn a_repeated_query_parameter_is_refused_by_name() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get(&format!(
@@ -435,7 +430,7 @@ fn a_repeated_query_parameter_is_refused_by_name() {
 #[test]
 fn a_query_with_bad_percent_encoding_is_a_400_malformed_query_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get(&format!(
@@ -450,7 +445,7 @@ fn a_query_with_bad_percent_encoding_is_a_400_malformed_query_problem() {
 #[test]
 fn an_unknown_path_is_a_404_not_found_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get("/api/v1/loans/nothing-here");
@@ -463,7 +458,7 @@ fn an_unknown_path_is_a_404_not_found_problem() {
 #[test]
 fn delete_on_the_schedule_is_a_405_method_not_allowed_problem() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.request("DELETE", SCHEDULE, &[], None);
@@ -481,7 +476,7 @@ fn delete_on_the_schedule_is_a_405_method_not_allowed_problem() {
 #[test]
 fn range_errors_in_a_query_string_are_named_by_the_parameter() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let cases = [
         (
             "principal=-1000&annual_rate_percent=6&term_months=120",
@@ -547,7 +542,7 @@ fn range_errors_in_a_query_string_are_named_by_the_parameter() {
 #[test]
 fn the_csv_operation_answers_bad_fields_with_problem_json_not_csv() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get(&format!(
@@ -561,7 +556,7 @@ fn the_csv_operation_answers_bad_fields_with_problem_json_not_csv() {
 #[test]
 fn a_chunked_request_body_is_read_like_any_other() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = br#"{"principal":"100000","annual_rate_percent":"6","term_months":120}"#;
     let (first, second) = body.split_at(20);
     let mut raw = format!(
@@ -615,7 +610,7 @@ fn a_chunked_body_over_the_limit_is_a_413_too_large_problem() {
 
 fn huge_principals_are_refused_with_422_and_never_500() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let huge = [
         json!("999999999999999999999999"),
         json!("1000000000000.01"),
@@ -643,7 +638,7 @@ fn huge_principals_are_refused_with_422_and_never_500() {
 #[test]
 fn extreme_but_valid_terms_are_answered_without_a_server_error() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let extremes = [
         json!({"principal": "1000000000000", "annual_rate_percent": "1000", "term_months": 6000}),
         json!({"principal": "1000000000000", "annual_rate_percent": "1000", "term_months": 6000,
@@ -675,7 +670,7 @@ fn extreme_but_valid_terms_are_answered_without_a_server_error() {
 #[test]
 fn an_accept_header_taking_none_of_the_media_types_gets_406() {
     // RFC 9110 §12.5.1: the media ranges with their weights; q=0 is "not acceptable".
-    let app = spawn_app();
+    let app = shared_app();
     let schedule = "/api/v1/loans/schedule?principal=1000&annual_rate_percent=6&term_months=12";
     let apy = "/api/v1/apy?principal=1000&interest=61.68&days=365";
     let csv = "/api/v1/loans/schedule.csv?principal=1000&annual_rate_percent=6&term_months=12";

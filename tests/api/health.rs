@@ -3,13 +3,14 @@
 use serde_json::json;
 
 use crate::helpers::{
-    config_with_body_limit, spawn_app, spawn_app_with, Response, RECURRENCE, SCHEDULE, SCHEDULE_CSV,
+    config_with_body_limit, shared_app, spawn_app_with, Response, RECURRENCE, SCHEDULE,
+    SCHEDULE_CSV,
 };
 
 #[test]
 fn healthz_answers_200_with_status_ok_as_json() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = app.get("/healthz");

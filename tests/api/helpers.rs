@@ -6,7 +6,7 @@
 
 use std::io::{ErrorKind, Read, Write};
 use std::net::{SocketAddr, TcpStream};
-use std::sync::mpsc;
+use std::sync::{mpsc, OnceLock};
 use std::time::Duration;
 
 use residue::server::Config;
@@ -22,9 +22,35 @@ pub struct TestApp {
     pub addr: SocketAddr,
 }
 
-/// Starts the server with the default limits.
+/// Starts a server of its own with the default limits, for a test that changes
+/// the server's state, shuts it down, overloads it, counts its metrics or runs
+/// batches (of which a server runs two at once); a test that only asks takes
+/// [`shared_app`].
 pub fn spawn_app() -> TestApp {
     spawn_app_with(Config::default())
+}
+
+/// The shared server's in-flight limit. Every test thread asks it at the same
+/// time, one request each, weighed by its expected work (a maximal plan of 6,000
+/// payments and 240 rules takes 15 permits), where each test had a server of
+/// 16 permits to itself before: with 1,024, even 68 test threads asking for
+/// maximal plans at once are not answered 503 for each other's requests. The
+/// limit shapes no answer, only whether one is 503.
+const SHARED_IN_FLIGHT: usize = 1024;
+
+/// The server the read-only tests share: the default limits but a larger
+/// in-flight limit ([`SHARED_IN_FLIGHT`]), started once by the first test that
+/// asks, on its own thread and tokio runtime, and serving until the test binary
+/// exits. Its answers depend on the request alone (stored GET answers carry
+/// the hash of their bytes as their ETag), so tests cannot see each other.
+pub fn shared_app() -> TestApp {
+    static SHARED: OnceLock<TestApp> = OnceLock::new();
+    *SHARED.get_or_init(|| {
+        spawn_app_with(Config {
+            max_in_flight: SHARED_IN_FLIGHT,
+            ..Config::default()
+        })
+    })
 }
 
 /// Starts the server with the given limits (its `addr` is replaced by 127.0.0.1:0).
@@ -131,6 +157,22 @@ impl TestApp {
     pub fn post_json(&self, path: &str, body: &Value) -> Response {
         let bytes = serde_json::to_vec(body).expect("a JSON value serializes");
         self.post(path, "application/json", &bytes)
+    }
+
+    /// `POST path` with a JSON body; the answer must be 200 JSON, and is returned parsed.
+    pub fn post_ok(&self, path: &str, body: &Value) -> Value {
+        let r = self.post_json(path, body);
+        assert_eq!(r.status, 200, "POST {path} {body}: {}", r.text());
+        assert_eq!(r.media_type(), "application/json", "POST {path} {body}");
+        r.json()
+    }
+
+    /// `GET path`; the answer must be 200 JSON, and is returned parsed.
+    pub fn get_ok(&self, path: &str) -> Value {
+        let r = self.get(path);
+        assert_eq!(r.status, 200, "GET {path}: {}", r.text());
+        assert_eq!(r.media_type(), "application/json", "GET {path}");
+        r.json()
     }
 
     /// `POST path` with any media type and body bytes.
@@ -291,27 +333,39 @@ pub fn dec_of(v: &Value) -> Decimal {
 
 /// Asserts a problem-details answer: status, media type, `type`, `title`, `status`.
 pub fn assert_problem(r: &Response, status: u16, slug: &str) -> Value {
+    assert_problem_of("the answer", r, status, slug)
+}
+
+/// [`assert_problem`], its messages naming `what` was asked.
+pub fn assert_problem_of(what: &str, r: &Response, status: u16, slug: &str) -> Value {
     assert_eq!(
         r.status,
         status,
-        "unexpected status; body: {}",
+        "{what}: unexpected status; body: {}",
         String::from_utf8_lossy(&r.body)
     );
     assert_eq!(
         r.header("content-type"),
         Some("application/problem+json"),
-        "a problem is application/problem+json"
+        "{what}: a problem is application/problem+json"
     );
     let p = r.json();
-    assert_eq!(p["type"], format!("/api#problem-{slug}"), "problem: {p}");
+    assert_eq!(
+        p["type"],
+        format!("/api#problem-{slug}"),
+        "{what}: problem: {p}"
+    );
     assert!(
         p["title"].as_str().is_some_and(|t| !t.is_empty()),
-        "a problem has a title: {p}"
+        "{what}: a problem has a title: {p}"
     );
-    assert_eq!(p["status"], status, "the body's status matches: {p}");
+    assert_eq!(
+        p["status"], status,
+        "{what}: the body's status matches: {p}"
+    );
     assert!(
         p["detail"].as_str().is_some_and(|t| !t.is_empty()),
-        "a problem has a detail: {p}"
+        "{what}: a problem has a detail: {p}"
     );
     p
 }
@@ -347,6 +401,114 @@ pub fn assert_field_problem(r: &Response, status: u16, slug: &str, pointer: &str
         "expected an error at pointer {pointer:?}, got {found:?}: {p}"
     );
     p
+}
+
+/// `base` with `changes` merged in (a `null` removes a field).
+pub fn with(base: &Value, changes: Value) -> Value {
+    let mut body = base.clone();
+    for (k, v) in changes.as_object().expect("an object of changes") {
+        if v.is_null() {
+            body.as_object_mut().unwrap().remove(k);
+        } else {
+            body[k] = v.clone();
+        }
+    }
+    body
+}
+
+/// What a case of a table asks.
+#[derive(Debug)]
+pub enum Ask {
+    /// `POST path` with this JSON body.
+    Json(&'static str, Value),
+    /// `POST path` with these bytes as `application/json`.
+    Bytes(&'static str, &'static [u8]),
+    /// `GET path?query`.
+    Get(String),
+}
+
+impl Ask {
+    pub fn send(&self, app: &TestApp) -> Response {
+        match self {
+            Ask::Json(path, body) => app.post_json(path, body),
+            Ask::Bytes(path, bytes) => app.post(path, "application/json", bytes),
+            Ask::Get(target) => app.get(target),
+        }
+    }
+
+    /// The request as a failure message names it.
+    pub fn describe(&self) -> String {
+        match self {
+            Ask::Json(path, body) => format!("POST {path} {body}"),
+            Ask::Bytes(path, bytes) => {
+                format!("POST {path} {:?}", String::from_utf8_lossy(bytes))
+            }
+            Ask::Get(target) => format!("GET {target}"),
+        }
+    }
+}
+
+/// A refusal a table expects: the status, the problem type, the pointers the
+/// problem must name (JSON Pointers for a body, parameter names for a query)
+/// and, if given, words of its first field error's message.
+#[derive(Debug)]
+pub struct Refusal {
+    pub ask: Ask,
+    pub status: u16,
+    pub slug: &'static str,
+    pub pointers: Vec<&'static str>,
+    pub message: Option<&'static str>,
+}
+
+impl Refusal {
+    /// `ask` refused with `status` and the problem type `slug`.
+    pub fn new(ask: Ask, status: u16, slug: &'static str) -> Self {
+        Self {
+            ask,
+            status,
+            slug,
+            pointers: Vec::new(),
+            message: None,
+        }
+    }
+
+    /// `ask` refused 422 invalid-fields, naming `pointer`.
+    pub fn invalid(ask: Ask, pointer: &'static str) -> Self {
+        Self::new(ask, 422, "invalid-fields").at(pointer)
+    }
+
+    /// The problem also names `pointer`.
+    pub fn at(mut self, pointer: &'static str) -> Self {
+        self.pointers.push(pointer);
+        self
+    }
+
+    /// The first field error's message holds `words`.
+    pub fn saying(mut self, words: &'static str) -> Self {
+        self.message = Some(words);
+        self
+    }
+}
+
+/// Sends every case of a table and asserts its refusal; after each, the server
+/// still answers `/healthz`.
+pub fn assert_refusals(app: &TestApp, cases: &[Refusal]) {
+    for case in cases {
+        let what = case.ask.describe();
+        let p = assert_problem_of(&what, &case.ask.send(app), case.status, case.slug);
+        let found = pointers(&p);
+        for pointer in &case.pointers {
+            assert!(
+                found.iter().any(|f| f == pointer),
+                "{what}: expected an error at pointer {pointer:?}, got {found:?}: {p}"
+            );
+        }
+        if let Some(words) = case.message {
+            let message = p["errors"][0]["message"].as_str().unwrap_or("");
+            assert!(message.contains(words), "{what}: {words:?} in {p}");
+        }
+        assert_still_healthy(app);
+    }
 }
 
 /// Asserts the server still answers `/healthz` (a bad request did not break it).

@@ -1,8 +1,11 @@
 //! Black-box tests of the HTTP interface: the real server on a socket of 127.0.0.1.
 //!
-//! Each test starts its own server (`helpers::spawn_app`) on a free port and
-//! talks to it with a tiny HTTP/1.1 client, so the tests see exactly the bytes a
-//! client sees: status line, headers and body.
+//! The tests that only ask share one server (`helpers::shared_app`), started
+//! once on a free port; a test that changes the server's state, needs limits of
+//! its own, shuts it down, overloads it, counts its metrics or runs batches
+//! starts its own (`helpers::spawn_app`, `helpers::spawn_app_with`). Each talks
+//! to its server with a tiny HTTP/1.1 client, so the tests see exactly the bytes
+//! a client sees: status line, headers and body.
 
 mod batch;
 mod bounds;

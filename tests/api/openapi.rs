@@ -4,7 +4,7 @@
 
 use serde_json::{Map, Value};
 
-use crate::helpers::{spawn_app, TestApp};
+use crate::helpers::{shared_app, spawn_app, TestApp};
 
 /// The routes of `src/server.rs` the document must describe, with their methods.
 const ROUTES: [(&str, &[&str]); 15] = [
@@ -77,7 +77,7 @@ fn served_under_the_api(path: &str) -> bool {
 
 #[test]
 fn the_document_is_openapi_3_1_json() {
-    let app = spawn_app();
+    let app = shared_app();
     let doc = document(&app);
     let version = doc["openapi"].as_str().expect("an openapi version");
     assert!(version.starts_with("3.1"), "{version}");
@@ -99,7 +99,7 @@ fn the_document_is_openapi_3_1_json() {
 
 #[test]
 fn every_route_the_router_serves_is_a_path_with_its_methods() {
-    let app = spawn_app();
+    let app = shared_app();
     let doc = document(&app);
     let paths = doc["paths"].as_object().expect("paths");
     let root = env!("CARGO_MANIFEST_DIR");
@@ -537,7 +537,7 @@ fn every_operations_example_is_answered_200_and_fits_its_schema() {
 
 #[test]
 fn get_parameters_are_the_fields_of_the_json_request() {
-    let app = spawn_app();
+    let app = shared_app();
     let doc = document(&app);
     let names = |op: &Value| -> Vec<String> {
         op["parameters"]

@@ -5,7 +5,9 @@ use std::time::Duration;
 
 use serde_json::{json, Value};
 
-use crate::helpers::{assert_field_problem, dec, dec_of, spawn_app, spawn_app_with, TestApp};
+use crate::helpers::{
+    assert_field_problem, dec, dec_of, shared_app, spawn_app, spawn_app_with, TestApp,
+};
 use residue::server::Config;
 
 const SCHEDULE_GET: &str =
@@ -13,7 +15,7 @@ const SCHEDULE_GET: &str =
 
 #[test]
 fn a_repeated_get_gets_the_same_bytes_and_tag_and_a_304_when_the_client_holds_them() {
-    let app = spawn_app();
+    let app = shared_app();
     let first = app.get(SCHEDULE_GET);
     let second = app.get(SCHEDULE_GET);
     assert_eq!(first.status, 200);
@@ -34,7 +36,7 @@ fn a_repeated_get_gets_the_same_bytes_and_tag_and_a_304_when_the_client_holds_th
 
 #[test]
 fn the_store_keeps_json_and_csv_apart_and_different_loans_apart() {
-    let app = spawn_app();
+    let app = shared_app();
     let json = app.get(SCHEDULE_GET);
     let csv = app.get_with(SCHEDULE_GET, &[("Accept", "text/csv")]);
     assert!(
@@ -52,7 +54,7 @@ fn the_store_keeps_json_and_csv_apart_and_different_loans_apart() {
 
 #[test]
 fn problems_and_posts_are_not_stored() {
-    let app = spawn_app();
+    let app = shared_app();
     let bad = "/api/v1/loans/schedule?principal=abc&annual_rate_percent=6&term_months=360";
     assert_eq!(app.get(bad).status, 422);
     assert!(app.get(bad).header("etag").is_none());
@@ -84,7 +86,7 @@ fn cors_app() -> TestApp {
 
 #[test]
 fn cors_is_off_by_default() {
-    let app = spawn_app();
+    let app = shared_app();
     let r = app.get_with(SCHEDULE_GET, &[("Origin", "https://desk.example")]);
     assert_eq!(r.status, 200);
     assert!(r.header("access-control-allow-origin").is_none());
@@ -147,7 +149,7 @@ fn check(app: &TestApp, body: &Value) -> Value {
 
 #[test]
 fn a_check_with_a_regular_first_period_by_dates_gives_the_undated_apr() {
-    let app = spawn_app();
+    let app = shared_app();
     let terms = json!({"principal": "212000", "annual_rate_percent": "6.25", "term_months": 360,
         "prepaid_finance_charges": [{"name": "origination", "amount": "2120.00"}]});
     let undated = check(&app, &terms);
@@ -168,7 +170,7 @@ fn a_checks_dated_apr_is_the_apr_of_its_own_dated_flows() {
     // An odd first period of 45 days, its interest added to the first payment:
     // the check's APR must be the APR endpoint's answer for the amount financed
     // on the funding date and the schedule's payments on their due dates.
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({"principal": "98000", "annual_rate_percent": "7.1", "term_months": 120,
         "funding_date": "2027-05-17", "first_payment_date": "2027-07-01",
         "prepaid_finance_charges": [{"name": "points", "amount": "980"}]});
@@ -204,7 +206,7 @@ fn a_checks_dated_apr_is_the_apr_of_its_own_dated_flows() {
 
 #[test]
 fn prepaid_interest_is_a_prepaid_finance_charge_and_counts_in_the_tip() {
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({"principal": "150000", "annual_rate_percent": "6", "term_months": 360,
         "funding_date": "2027-05-20", "first_payment_date": "2027-07-01",
         "odd_days_interest": "prepaid", "day_count": "actual_365"});
@@ -227,7 +229,7 @@ fn prepaid_interest_is_a_prepaid_finance_charge_and_counts_in_the_tip() {
 
 #[test]
 fn a_check_refuses_extra_payments() {
-    let app = spawn_app();
+    let app = shared_app();
     let r = app.post_json(
         CHECK,
         &json!({"principal": "150000", "annual_rate_percent": "6", "term_months": 360,
@@ -267,7 +269,7 @@ fn a_batch_sent_with_expect_100_continue_is_answered_without_waiting() {
 #[test]
 fn every_csv_answer_carries_the_caution_the_json_answer_leads_its_notes_with() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let loan = "principal=27400&annual_rate_percent=7.2&term_months=60";
     let plan = "deposit=125&annual_rate_percent=3.5&term_months=36";
     let compare = "principal=27400&annual_rate_percent=7.2&term_months=60,72";

@@ -3,7 +3,7 @@
 use serde_json::{json, Value};
 
 use crate::helpers::{
-    assert_field_problem, assert_still_healthy, dec, dec_of, spawn_app, RECURRENCE,
+    assert_field_problem, assert_still_healthy, dec, dec_of, shared_app, RECURRENCE,
 };
 
 /// The multiplicity of the partial fraction at `pole`, if there is one.
@@ -19,7 +19,7 @@ fn multiplicity_at(answer: &Value, pole: &str) -> Option<u64> {
 #[test]
 fn a_level_payment_at_zero_interest_has_a_double_pole_at_one() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "a": "1",
         "x0": "1200",
@@ -48,7 +48,7 @@ fn a_level_payment_at_zero_interest_has_a_double_pole_at_one() {
 #[test]
 fn a_geometric_input_growing_at_the_factor_a_has_a_double_pole_at_a() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "a": "1.01",
         "x0": "0",
@@ -78,7 +78,7 @@ fn a_geometric_input_growing_at_the_factor_a_has_a_double_pole_at_a() {
 #[test]
 fn an_unknown_input_kind_is_refused_at_its_pointer() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "a": "1",
         "x0": "1200",

@@ -10,7 +10,7 @@ use rust_decimal::{Decimal, MathematicalOps, RoundingStrategy};
 use serde_json::{json, Value};
 
 use crate::helpers::{
-    assert_field_problem, assert_problem, assert_still_healthy, dec, dec_of, spawn_app, TestApp,
+    assert_field_problem, assert_problem, assert_still_healthy, dec, dec_of, shared_app, TestApp,
 };
 
 const PLAN: &str = "/api/v1/savings/plan";
@@ -110,7 +110,7 @@ fn has_note(s: &Value, text: &str) -> bool {
 #[test]
 fn post_and_get_give_identical_json_for_the_same_savings_fields() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "opening_balance": "1000",
         "deposit": "350",
@@ -143,7 +143,7 @@ fn post_and_get_give_identical_json_for_the_same_savings_fields() {
 #[test]
 fn three_hundred_fifty_a_month_for_eight_years_at_4_1_percent_matches_the_ordinary_annuity() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("4.1");
 
     // Act
@@ -202,7 +202,7 @@ fn three_hundred_fifty_a_month_for_eight_years_at_4_1_percent_matches_the_ordina
 #[test]
 fn deposits_at_the_start_of_each_period_match_the_annuity_due_and_say_so() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("6");
 
     // Act
@@ -233,7 +233,7 @@ fn deposits_at_the_start_of_each_period_match_the_annuity_due_and_say_so() {
 #[test]
 fn the_csv_schedule_has_a_header_crlf_lines_dates_and_the_json_figures() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "deposit=350&annual_rate_percent=4.1&term_months=24&start_date=2027-01-31";
     let s = app.get(&format!("{PLAN}?{query}")).json();
 
@@ -271,7 +271,7 @@ fn the_csv_schedule_has_a_header_crlf_lines_dates_and_the_json_figures() {
 #[test]
 fn accept_text_csv_on_the_plain_get_gives_the_csv_schedule_with_empty_dates() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "deposit=50&annual_rate_percent=2&term_periods=3";
 
     // Act
@@ -288,7 +288,7 @@ fn accept_text_csv_on_the_plain_get_gives_the_csv_schedule_with_empty_dates() {
 #[test]
 fn the_deposit_for_40000_by_june_2031_is_solved_and_reaches_the_goal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("4.1");
 
     // Act
@@ -331,7 +331,7 @@ fn the_deposit_for_40000_by_june_2031_is_solved_and_reaches_the_goal() {
 #[test]
 fn a_goal_already_met_by_the_opening_balance_answers_a_zero_deposit_with_a_note() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = plan_of(
@@ -348,7 +348,7 @@ fn a_goal_already_met_by_the_opening_balance_answers_a_zero_deposit_with_a_note(
 #[test]
 fn growing_deposits_reach_the_goal_after_the_periods_the_ledger_shows() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("4.1");
 
     // Act
@@ -390,7 +390,7 @@ fn growing_deposits_reach_the_goal_after_the_periods_the_ledger_shows() {
 #[test]
 fn level_deposits_reach_the_goal_through_the_logarithm_confirmed_exactly() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("5");
     // n = ln((G·i + P)/P)/ln(1 + i) (common practice, no source), rounded up: the
     // closed form confirms it at n − 1 and n.
@@ -413,7 +413,7 @@ fn level_deposits_reach_the_goal_through_the_logarithm_confirmed_exactly() {
 #[test]
 fn eighteen_hundred_a_month_from_310000_at_3_5_percent_lasts_240_withdrawals() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("3.5");
 
     // Act
@@ -451,7 +451,7 @@ fn eighteen_hundred_a_month_from_310000_at_3_5_percent_lasts_240_withdrawals() {
 #[test]
 fn withdrawals_below_the_interest_last_indefinitely_as_a_note_not_an_error() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = plan_of(
@@ -468,7 +468,7 @@ fn withdrawals_below_the_interest_last_indefinitely_as_a_note_not_an_error() {
 #[test]
 fn the_withdrawal_that_exhausts_310000_over_20_years_is_solved() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let i = monthly("3.5");
 
     // Act
@@ -494,7 +494,7 @@ fn the_withdrawal_that_exhausts_310000_over_20_years_is_solved() {
 #[test]
 fn monthly_deposits_with_daily_compounding_use_the_equivalent_rate_and_the_daily_apy() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = plan_of(
@@ -526,7 +526,7 @@ fn post_plan(app: &TestApp, body: Value) -> crate::helpers::Response {
 #[test]
 fn negative_amounts_are_refused_each_at_its_field() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_plan(
@@ -554,7 +554,7 @@ fn negative_amounts_are_refused_each_at_its_field() {
 #[test]
 fn growth_above_100_percent_a_year_is_refused_at_deposit_growth_percent() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let yearly = post_plan(
@@ -574,7 +574,7 @@ fn growth_above_100_percent_a_year_is_refused_at_deposit_growth_percent() {
 #[test]
 fn terms_over_6000_periods_are_refused_at_the_term_field() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let periods = post_plan(
@@ -595,7 +595,7 @@ fn terms_over_6000_periods_are_refused_at_the_term_field() {
 #[test]
 fn a_goal_that_can_never_be_reached_is_no_solution_naming_the_deposit() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_plan(
@@ -615,7 +615,7 @@ fn a_goal_that_can_never_be_reached_is_no_solution_naming_the_deposit() {
 #[test]
 fn too_many_or_too_few_fields_to_fix_the_unknown_are_refused_with_pointers() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let both_flows = post_plan(
@@ -639,7 +639,7 @@ fn too_many_or_too_few_fields_to_fix_the_unknown_are_refused_with_pointers() {
 #[test]
 fn unknown_fields_bad_dates_and_bad_choices_are_all_reported_at_once() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_plan(
@@ -667,7 +667,7 @@ fn unknown_fields_bad_dates_and_bad_choices_are_all_reported_at_once() {
 #[test]
 fn a_drawdown_without_an_opening_balance_is_refused_at_opening_balance() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let r = post_plan(

@@ -3,7 +3,7 @@
 use rust_decimal::Decimal;
 use serde_json::{json, Value};
 
-use crate::helpers::{dec, dec_of, spawn_app, TestApp, SCHEDULE, SCHEDULE_CSV};
+use crate::helpers::{dec, dec_of, shared_app, TestApp, SCHEDULE, SCHEDULE_CSV};
 
 /// The schedule of these terms, posted as JSON; the answer must be 200 JSON.
 fn schedule_of(app: &TestApp, body: Value) -> Value {
@@ -93,7 +93,7 @@ fn money_figures(s: &Value) -> Vec<String> {
 #[test]
 fn post_and_get_give_identical_json_for_the_same_fields() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "principal": "250000",
         "annual_rate_percent": "6.5",
@@ -122,7 +122,7 @@ fn post_and_get_give_identical_json_for_the_same_fields() {
 #[test]
 fn post_and_get_give_identical_json_when_the_payment_is_solved() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({"principal": "100000", "annual_rate_percent": "6", "payment": "1110.21"});
     let query = "principal=100000&annual_rate_percent=6&payment=1110.21";
 
@@ -141,7 +141,7 @@ fn post_and_get_give_identical_json_when_the_payment_is_solved() {
 #[test]
 fn a_ten_year_loan_of_100000_at_6_percent_pays_1110_21_a_month() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -162,7 +162,7 @@ fn a_ten_year_loan_of_100000_at_6_percent_pays_1110_21_a_month() {
 #[test]
 fn a_thirty_year_loan_of_100000_at_6_percent_pays_599_55_a_month() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -179,7 +179,7 @@ fn a_thirty_year_loan_of_100000_at_6_percent_pays_599_55_a_month() {
 #[test]
 fn the_final_balance_is_zero_and_the_principal_parts_add_up_to_the_principal() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     for months in [120, 360] {
         // Act
@@ -201,7 +201,7 @@ fn the_final_balance_is_zero_and_the_principal_parts_add_up_to_the_principal() {
 #[test]
 fn the_csv_schedule_has_a_header_crlf_lines_and_the_json_figures() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "principal=100000&annual_rate_percent=6&term_months=120";
     let s = app.get(&format!("{SCHEDULE}?{query}")).json();
 
@@ -247,7 +247,7 @@ fn the_csv_schedule_has_a_header_crlf_lines_and_the_json_figures() {
 #[test]
 fn accept_text_csv_on_the_plain_get_gives_the_csv_schedule() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "principal=100000&annual_rate_percent=6&term_months=360";
     let csv = app.get(&format!("{SCHEDULE_CSV}?{query}"));
 
@@ -263,7 +263,7 @@ fn accept_text_csv_on_the_plain_get_gives_the_csv_schedule() {
 #[test]
 fn accept_preferring_json_over_csv_on_the_plain_get_gives_json() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let query = "principal=100000&annual_rate_percent=6&term_months=360";
 
     // Act
@@ -281,7 +281,7 @@ fn accept_preferring_json_over_csv_on_the_plain_get_gives_json() {
 #[test]
 fn a_zero_percent_loan_repays_in_level_payments_without_interest() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -323,7 +323,7 @@ fn simulate(principal: Decimal, monthly_rate: Decimal, payment: Decimal) -> (usi
 #[test]
 fn a_given_payment_solves_the_number_of_payments() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let (expected_n, expected_last) = simulate(dec("100000"), dec("0.005"), dec("1110.21"));
 
     // Act
@@ -359,7 +359,7 @@ fn a_given_payment_solves_the_number_of_payments() {
 #[test]
 fn a_given_payment_that_leaves_a_small_last_payment_keeps_it_below_the_regular_one() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let (expected_n, expected_last) = simulate(dec("100000"), dec("0.005"), dec("2000.00"));
 
     // Act
@@ -381,7 +381,7 @@ fn a_given_payment_that_leaves_a_small_last_payment_keeps_it_below_the_regular_o
 
 fn a_given_payment_posts_until_repaid_and_never_ends_above_the_regular_payment() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     for payment in ["10.01", "10.02", "10.50", "11.00"] {
         let (expected_n, expected_last) = simulate(dec("1000"), dec("0.01"), dec(payment));
@@ -412,7 +412,7 @@ fn a_given_payment_posts_until_repaid_and_never_ends_above_the_regular_payment()
 #[test]
 fn jpy_amounts_are_whole_yen() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -432,7 +432,7 @@ fn jpy_amounts_are_whole_yen() {
 #[test]
 fn kwd_amounts_have_three_decimals() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -452,7 +452,7 @@ fn kwd_amounts_have_three_decimals() {
 #[test]
 fn biweekly_payments_with_monthly_compounding_use_the_equivalent_periodic_rate() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     // Act
     let s = schedule_of(
@@ -499,7 +499,7 @@ fn biweekly_payments_with_monthly_compounding_use_the_equivalent_periodic_rate()
 #[test]
 fn every_json_result_says_first_that_it_is_not_an_offer() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let requests = [
         json!({"principal": "100000", "annual_rate_percent": "6", "term_months": 120}),
         json!({"principal": "100000", "annual_rate_percent": "6", "payment": "1110.21"}),

@@ -3,7 +3,7 @@
 
 use serde_json::json;
 
-use crate::helpers::{assert_still_healthy, spawn_app};
+use crate::helpers::{assert_still_healthy, shared_app};
 
 const MARKUP: &str = "<script>alert(1)</script>";
 const PAGES: [&str; 7] = [
@@ -19,7 +19,7 @@ const PAGES: [&str; 7] = [
 #[test]
 fn path_traversal_on_static_never_serves_a_file_outside_static() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let attempts = [
         "/static/../Cargo.toml",
         "/static/%2e%2e/Cargo.toml",
@@ -57,7 +57,7 @@ fn path_traversal_on_static_never_serves_a_file_outside_static() {
 #[test]
 fn markup_in_a_compare_label_is_escaped_on_the_page() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let label = "%3Cscript%3Ealert(1)%3C%2Fscript%3E%22%3E%3Cimg%20src%3Dx%20onerror%3Dalert(2)%3E";
 
     // Act
@@ -79,7 +79,7 @@ fn markup_in_a_compare_label_is_escaped_on_the_page() {
 #[test]
 fn markup_in_json_labels_comes_back_as_the_same_plain_string() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
     let body = json!({
         "base": {"principal": "278000", "annual_rate_percent": "6.375", "term_months": 360, "label": MARKUP},
         "variants": [{"label": format!("{MARKUP}\"'&"), "term_months": 180}]
@@ -105,7 +105,7 @@ fn markup_in_json_labels_comes_back_as_the_same_plain_string() {
 #[test]
 fn every_page_has_a_csp_that_forbids_inline_scripts_and_outside_origins() {
     // Arrange
-    let app = spawn_app();
+    let app = shared_app();
 
     for path in PAGES {
         // Act

@@ -8,8 +8,6 @@
 //! term made positive: what the figures are made of, so that a balance that
 //! crosses zero is still judged against the size of what produced it).
 
-use num_bigint::BigInt;
-use num_traits::{Signed, Zero};
 use proptest::prelude::*;
 use residue::engine::ledger::post_level;
 use residue::engine::loan::{payment_for_term, rate_for_payment, term_for_payment};
@@ -18,60 +16,7 @@ use residue::engine::recurrence::{Input, Recurrence};
 use rust_decimal::prelude::{FromPrimitive, ToPrimitive};
 use rust_decimal::Decimal;
 
-/// An exact decimal: num / 10^scale (big integers, no rounding, no gcd).
-#[derive(Debug, Clone)]
-struct Exact {
-    num: BigInt,
-    scale: u32,
-}
-
-impl Exact {
-    fn of(d: Decimal) -> Self {
-        Self {
-            num: BigInt::from(d.mantissa()),
-            scale: d.scale(),
-        }
-    }
-    fn zero() -> Self {
-        Self {
-            num: BigInt::zero(),
-            scale: 0,
-        }
-    }
-    fn at_scale(&self, scale: u32) -> BigInt {
-        &self.num * BigInt::from(10).pow(scale - self.scale)
-    }
-    fn add(&self, o: &Self) -> Self {
-        let s = self.scale.max(o.scale);
-        Self {
-            num: self.at_scale(s) + o.at_scale(s),
-            scale: s,
-        }
-    }
-    fn sub(&self, o: &Self) -> Self {
-        let s = self.scale.max(o.scale);
-        Self {
-            num: self.at_scale(s) - o.at_scale(s),
-            scale: s,
-        }
-    }
-    fn mul(&self, o: &Self) -> Self {
-        Self {
-            num: &self.num * &o.num,
-            scale: self.scale + o.scale,
-        }
-    }
-    fn abs(&self) -> Self {
-        Self {
-            num: self.num.abs(),
-            scale: self.scale,
-        }
-    }
-    fn le(&self, o: &Self) -> bool {
-        let s = self.scale.max(o.scale);
-        self.at_scale(s) <= o.at_scale(s)
-    }
-}
+use crate::helpers::{d, money, proptest_config, rate, Exact};
 
 /// Exact x[k] and its magnitude scale for every k ≤ n.
 fn step_exact(r: &Recurrence, n: u32) -> Vec<(Exact, Exact)> {
@@ -79,7 +24,7 @@ fn step_exact(r: &Recurrence, n: u32) -> Vec<(Exact, Exact)> {
     let mut x = Exact::of(r.x0);
     let mut m = x.abs();
     // Running powers of each geometric ratio.
-    let mut powers: Vec<Exact> = r.inputs.iter().map(|_| Exact::of(Decimal::ONE)).collect();
+    let mut powers: Vec<Exact> = r.inputs.iter().map(|_| Exact::one()).collect();
     let mut out = vec![(x.clone(), m.clone())];
     for k in 0..n {
         let mut f = Exact::zero();
@@ -114,7 +59,7 @@ fn step_exact(r: &Recurrence, n: u32) -> Vec<(Exact, Exact)> {
 /// Σ over the closed form's modes of |coefficient|·k^j·|pole|^k, plus its impulses.
 fn closed_form_terms(cf: &residue::engine::zdomain::ClosedForm, k: u32) -> Exact {
     let kd = Decimal::from(k);
-    let mut total = Exact::of(Decimal::ZERO);
+    let mut total = Exact::zero();
     for mode in &cf.modes {
         let mut power_of_k = Decimal::ONE;
         let mut size = Decimal::ZERO;
@@ -142,7 +87,7 @@ fn closed_form_terms(cf: &residue::engine::zdomain::ClosedForm, k: u32) -> Exact
 fn check_against_exact(r: &Recurrence, n: u32, tolerance: &str) -> Result<(), TestCaseError> {
     let s = r.solve().map_err(|e| TestCaseError::fail(e.to_string()))?;
     let reference = step_exact(r, n);
-    let tol = Exact::of(tolerance.parse().unwrap());
+    let tol = Exact::of(d(tolerance));
     // Every k up to 60, then a spread of k up to n.
     let mut ks: Vec<u32> = (0..=n.min(60)).collect();
     ks.extend([n / 3, n / 2, n.saturating_sub(1), n]);
@@ -159,7 +104,7 @@ fn check_against_exact(r: &Recurrence, n: u32, tolerance: &str) -> Result<(), Te
         // coefficients carry about 1e-28 of their size each (1e-26 allows a
         // hundred such roundings).
         let bound = tol
-            .mul(&scale.add(&Exact::of(Decimal::ONE)))
+            .mul(&scale.add(&Exact::one()))
             .add(&Exact::of(Decimal::new(1, 26)).mul(&closed_form_terms(&s.closed_form, k)));
         let diff = cf.sub(want).abs();
         prop_assert!(
@@ -170,20 +115,8 @@ fn check_against_exact(r: &Recurrence, n: u32, tolerance: &str) -> Result<(), Te
     Ok(())
 }
 
-fn rate() -> impl Strategy<Value = Decimal> {
-    // Periodic rates from 0 to about 2 % with up to 8 decimals, plus exact 0.
-    prop_oneof![
-        Just(Decimal::ZERO),
-        (1u64..200_000).prop_map(|m| Decimal::new(m as i64, 7))
-    ]
-}
-
-fn money(max_units: i64) -> impl Strategy<Value = Decimal> {
-    (1i64..max_units * 100).prop_map(|c| Decimal::new(c, 2))
-}
-
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 1000, ..ProptestConfig::default() })]
+    #![proptest_config(proptest_config(1000))]
 
     /// Level loans: simple poles at a and 1, or the double pole at 1 when the rate is 0.
     #[test]
@@ -286,11 +219,11 @@ proptest! {
 /// 6,000 monthly payments at 6 %: the longest term, checked at its end against exact fractions.
 #[test]
 fn the_longest_term_matches_exact_stepping() {
-    let i: Decimal = "0.005".parse().unwrap();
-    let p = payment_for_term("250000".parse().unwrap(), i, 6000).unwrap();
+    let i = d("0.005");
+    let p = payment_for_term(d("250000"), i, 6000).unwrap();
     let r = Recurrence {
         a: Decimal::ONE + i,
-        x0: "250000".parse().unwrap(),
+        x0: d("250000"),
         inputs: vec![Input::Step { amount: -p }],
     };
     check_against_exact(&r, 6000, "1e-20").unwrap();

@@ -13,6 +13,8 @@ use residue::api::loans::{schedule_csv, LoanScheduleDto};
 use residue::input::fields::{Fields, Source};
 use residue::input::loan::schedule_request_from;
 
+use crate::helpers::proptest_config;
+
 /// An amount with `decimals` decimals and `digits` digits in all (at least one).
 fn amount(units: u64, digits: u32, decimals: u32) -> String {
     let v = units % 10u64.pow(digits.clamp(1, 19));
@@ -128,7 +130,7 @@ fn query() -> impl Strategy<Value = String> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 400, ..ProptestConfig::default() })]
+    #![proptest_config(proptest_config(400))]
 
     #[test]
     fn the_written_answers_are_the_serialized_answer(q in query()) {

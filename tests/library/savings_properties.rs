@@ -1,7 +1,7 @@
 //! Property tests of savings plans against exact rational arithmetic.
 //!
 //! Reference: exact big-integer arithmetic from `num-bigint` (general-purpose,
-//! crates.io), as in `tests/engine_properties.rs`. Every coefficient is a decimal,
+//! crates.io), as in `engine_properties.rs`. Every coefficient is a decimal,
 //! so every balance is an exact decimal fraction num/10^s. Each plan is stepped
 //! exactly as it is described to a saver, period by period, with deposits at the
 //! start (x[k+1] = a·(x[k] + d[k])) or the end (x[k+1] = a·x[k] + d[k]) and
@@ -11,7 +11,7 @@
 //! positive, plus one).
 
 use num_bigint::BigInt;
-use num_traits::{Signed, Zero};
+use num_traits::Signed;
 use proptest::prelude::*;
 use residue::engine::money::Currency;
 use residue::engine::rate::{AnnualRate, Frequency};
@@ -21,63 +21,7 @@ use residue::engine::savings::{
 use residue::engine::ErrorKind;
 use rust_decimal::Decimal;
 
-/// An exact decimal: num / 10^scale (big integers, no rounding, no gcd).
-#[derive(Debug, Clone)]
-struct Exact {
-    num: BigInt,
-    scale: u32,
-}
-
-impl Exact {
-    fn of(d: Decimal) -> Self {
-        Self {
-            num: BigInt::from(d.mantissa()),
-            scale: d.scale(),
-        }
-    }
-    fn zero() -> Self {
-        Self {
-            num: BigInt::zero(),
-            scale: 0,
-        }
-    }
-    fn one() -> Self {
-        Self::of(Decimal::ONE)
-    }
-    fn at_scale(&self, scale: u32) -> BigInt {
-        &self.num * BigInt::from(10).pow(scale - self.scale)
-    }
-    fn add(&self, o: &Self) -> Self {
-        let s = self.scale.max(o.scale);
-        Self {
-            num: self.at_scale(s) + o.at_scale(s),
-            scale: s,
-        }
-    }
-    fn sub(&self, o: &Self) -> Self {
-        let s = self.scale.max(o.scale);
-        Self {
-            num: self.at_scale(s) - o.at_scale(s),
-            scale: s,
-        }
-    }
-    fn mul(&self, o: &Self) -> Self {
-        Self {
-            num: &self.num * &o.num,
-            scale: self.scale + o.scale,
-        }
-    }
-    fn abs(&self) -> Self {
-        Self {
-            num: self.num.abs(),
-            scale: self.scale,
-        }
-    }
-    fn le(&self, o: &Self) -> bool {
-        let s = self.scale.max(o.scale);
-        self.at_scale(s) <= o.at_scale(s)
-    }
-}
+use crate::helpers::{d, money, proptest_config, rate, Exact};
 
 /// The plan stepped exactly: (x[k], magnitude scale) for every k ≤ n, with the
 /// deposit of period k made as the saver makes it.
@@ -213,18 +157,6 @@ fn yearly_step_tolerance(a: Decimal, m: u32, step: Decimal) -> Decimal {
     Decimal::new(1, 19) * step * Decimal::from(m) / gap / gap
 }
 
-fn rate() -> impl Strategy<Value = Decimal> {
-    // Periodic rates from 0 to about 2 % with up to 7 decimals, plus exact 0.
-    prop_oneof![
-        Just(Decimal::ZERO),
-        (1u64..200_000).prop_map(|m| Decimal::new(m as i64, 7))
-    ]
-}
-
-fn money(max_units: i64) -> impl Strategy<Value = Decimal> {
-    (1i64..max_units * 100).prop_map(|c| Decimal::new(c, 2))
-}
-
 fn timing() -> impl Strategy<Value = Timing> {
     prop_oneof![Just(Timing::End), Just(Timing::Start)]
 }
@@ -253,7 +185,7 @@ fn frequency() -> impl Strategy<Value = Frequency> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
+    #![proptest_config(proptest_config(300))]
 
     /// Level deposits and deposits growing every period, made at the start or the end
     /// of each period: poles at a, 1 and g (the start-of-period plan is the
@@ -505,17 +437,17 @@ fn a_balance_beyond_decimal_range_is_an_error_not_a_panic() {
     let terms = SavingsTerms {
         opening_balance: Decimal::ZERO,
         currency: Currency::USD,
-        rate: AnnualRate::from_percent(Decimal::new(1, 2)).unwrap(),
+        rate: AnnualRate::from_percent(d("0.01")).unwrap(),
         frequency: Frequency::Monthly,
         compounding: None,
         timing: Timing::Start,
         growth: Some(Growth {
-            percent: Decimal::new(4553, 2),
+            percent: d("45.53"),
             every: GrowthEvery::Year,
         }),
         deposit_step: Decimal::ZERO,
         question: Question::FinalBalance {
-            flow: Flow::Deposit(Decimal::new(1, 2)),
+            flow: Flow::Deposit(d("0.01")),
             periods: 2023,
         },
         start_date: Some("2027-01-31".parse().unwrap()),
@@ -523,5 +455,10 @@ fn a_balance_beyond_decimal_range_is_an_error_not_a_panic() {
     // Deposits growing 45.53 % a year for 168 years leave the decimal range: the
     // plan says so as an overflow error naming what overflowed, and does not panic.
     let e = plan(&terms).expect_err("a balance beyond the decimal range");
-    assert_eq!(e.kind, residue::engine::error::ErrorKind::Overflow, "{e:?}");
+    assert_eq!(e.kind, ErrorKind::Overflow, "{e:?}");
+    let what = e
+        .message
+        .strip_suffix(" leaves the range of 28-digit decimal arithmetic")
+        .unwrap_or_else(|| panic!("the overflow's own message: {e:?}"));
+    assert!(!what.is_empty(), "the error names what overflowed: {e:?}");
 }

@@ -14,10 +14,7 @@ use residue::engine::rate::{AnnualRate, Frequency};
 use residue::engine::schedule::{schedule_with, scheduled_payments, LoanTerm, LoanTerms};
 use rust_decimal::{Decimal, RoundingStrategy};
 
-/// num / 10^scale, exact.
-fn exact(d: Decimal, scale: u32) -> BigInt {
-    BigInt::from(d.mantissa()) * BigInt::from(10).pow(scale - d.scale())
-}
+use crate::helpers::{proptest_config, Exact};
 
 fn terms(principal: Decimal, percent: Decimal, n: u32) -> LoanTerms {
     LoanTerms {
@@ -131,7 +128,7 @@ fn lean_against_full(t: &LoanTerms, o: &PlanOptions) -> Result<(), TestCaseError
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
+    #![proptest_config(proptest_config(300))]
 
     #[test]
     fn segment_closed_forms_equal_exact_stepping(
@@ -148,7 +145,7 @@ proptest! {
         };
         // Exact stepping of the posted payments: x_k = a_k·x_{k−1} − (payment_k + extra_k), from the start.
         const S: u32 = 28 * 4;
-        let mut x = exact(principal, S);
+        let mut x = Exact::of(principal).at_scale(S);
         let mut m = x.abs();
         let mut k = 0usize;
         for seg in &plan.segments {
@@ -158,10 +155,10 @@ proptest! {
                 let row = &plan.rows[k];
                 let out = row.payment + row.extra;
                 // x_k = a·x_{k−1} − out, at growing scale (a has up to 28 decimals).
-                x = (&x * exact(a, 28)) / BigInt::from(10).pow(28) - exact(out, S);
-                m = (&m * exact(a, 28)) / BigInt::from(10).pow(28) + exact(out, S);
+                x = (&x * Exact::of(a).at_scale(28)) / BigInt::from(10).pow(28) - Exact::of(out).at_scale(S);
+                m = (&m * Exact::of(a).at_scale(28)) / BigInt::from(10).pow(28) + Exact::of(out).at_scale(S);
                 k += 1;
-                let diff = (exact(*value, S.max(value.scale())) - &x * BigInt::from(10).pow(S.max(value.scale()) - S)).abs();
+                let diff = (Exact::of(*value).at_scale(S.max(value.scale())) - &x * BigInt::from(10).pow(S.max(value.scale()) - S)).abs();
                 // 1e-20 of the magnitude, plus the 1e-84 truncation of this reference per step.
                 let bound = (&m + BigInt::from(10).pow(S)) / BigInt::from(10).pow(20) * BigInt::from(10).pow(S.max(value.scale()) - S);
                 prop_assert!(diff <= bound, "payment {} (segment {}–{}, local {local}): {value} vs exact", row.number, seg.first_payment, seg.last_payment);
