@@ -12,8 +12,7 @@ use super::error::{EngineError, OrOverflow, Result};
 use super::recurrence::{Input, Recurrence, Solution};
 use super::zdomain::ClosedForm;
 
-/// The most payments a schedule may have.
-pub const MAX_PAYMENTS: u32 = 6000;
+pub use super::terms::MAX_PAYMENTS;
 
 /// The closed forms h[k] (unit principal) and u[k] (unit payment) of a rate.
 #[derive(Debug, Clone, PartialEq, Eq)]

@@ -23,6 +23,8 @@ pub mod rate;
 pub mod recurrence;
 pub mod savings;
 pub mod schedule;
+
+pub mod terms;
 #[cfg(test)]
 pub(crate) mod testing;
 pub mod zdomain;

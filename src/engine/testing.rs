@@ -4,7 +4,7 @@ use rust_decimal::Decimal;
 
 use super::money::{Currency, InterestRounding, PaymentRounding};
 use super::rate::{AnnualRate, Frequency};
-use super::schedule::{LoanTerm, LoanTerms};
+use super::terms::{LoanTerm, LoanTerms};
 
 /// A monthly USD loan with the default roundings.
 pub fn loan_terms(principal: &str, percent: &str, term: LoanTerm) -> LoanTerms {

@@ -445,6 +445,54 @@ pub fn pow(p: Decimal, k: u32) -> Result<Decimal> {
     super::power::pow(p, k).or_overflow("a pole power")
 }
 
+impl ClosedForm {
+    /// x[k] in binary floating point: for estimates only, never for an answer.
+    pub fn estimate(&self, k: u32) -> f64 {
+        Estimator::new(self).at(k)
+    }
+}
+
+/// A closed form's coefficients and poles in binary floating point, converted
+/// once for a search that estimates x[k] at many k.
+pub(crate) struct Estimator {
+    modes: Vec<(Vec<f64>, f64)>,
+    impulses: Vec<(u32, f64)>,
+}
+
+impl Estimator {
+    pub(crate) fn new(cf: &ClosedForm) -> Self {
+        use rust_decimal::prelude::ToPrimitive;
+        let f = |d: &Decimal| d.to_f64().unwrap_or(0.0);
+        Self {
+            modes: cf
+                .modes
+                .iter()
+                .map(|m| (m.polynomial.iter().map(f).collect(), f(&m.pole)))
+                .collect(),
+            impulses: cf.impulses.iter().map(|(j, c)| (*j, f(c))).collect(),
+        }
+    }
+
+    /// x[k] in binary floating point.
+    pub(crate) fn at(&self, k: u32) -> f64 {
+        let kf = f64::from(k);
+        let mut total = 0.0;
+        for (polynomial, pole) in &self.modes {
+            let mut poly = 0.0;
+            for c in polynomial.iter().rev() {
+                poly = poly * kf + c;
+            }
+            total += poly * pole.powf(kf);
+        }
+        for (j, c) in &self.impulses {
+            if *j == k {
+                total += c;
+            }
+        }
+        total
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
