@@ -562,16 +562,8 @@ mod tests {
     use crate::engine::calendar::DayCount;
     use crate::engine::money::InterestRounding;
     use crate::engine::plan::options::RateChange;
-    use crate::engine::testing::loan_terms;
+    use crate::engine::testing::{d, level_loan as terms};
     use jiff::civil::date;
-
-    fn d(s: &str) -> Decimal {
-        s.parse().unwrap()
-    }
-
-    fn terms(principal: &str, percent: &str, n: u32) -> LoanTerms {
-        loan_terms(principal, percent, LoanTerm::Payments(n))
-    }
 
     fn total_principal(p: &Plan) -> Decimal {
         p.rows.iter().map(|r| r.principal).sum()
