@@ -23,6 +23,7 @@ pub mod rate;
 pub mod recurrence;
 pub mod savings;
 pub mod schedule;
+pub mod search;
 
 pub mod terms;
 #[cfg(test)]

@@ -187,6 +187,9 @@ pub fn nth_root(c: Decimal, n: u32) -> Result<Decimal> {
     }
     let nd = Decimal::from(n);
     // Start above the root (Bernoulli: (1 + (c−1)/n)^n ≥ c), so Newton's steps fall monotonically.
+    // Not the bracketed search of `search`: no bracket is needed from above, and the
+    // loop stops at the first step that no longer falls, where a bracket's tolerance
+    // would stop elsewhere and change the last digits.
     let mut y = Decimal::ONE + (c - Decimal::ONE).checked_div(nd).or_overflow("a root")?;
     for _ in 0..200 {
         let y_n1 = y.checked_powi(i64::from(n - 1)).or_overflow("a root")?;

@@ -9,6 +9,7 @@ use super::equation::{check_unit_flows, unit_equation, unit_value, BinaryFlows};
 use super::flows::UnitFlow;
 use super::unit_period::UnitPeriod;
 use crate::engine::error::{EngineError, OrOverflow, Result};
+use crate::engine::search::{narrow, widen, Midpoint, Side, Trial, Widened};
 
 /// Steps of the decimal iteration stop below this change in the rate.
 const TOLERANCE: Decimal = Decimal::from_parts(1, 0, 0, false, 22); // 1e-22
@@ -187,57 +188,52 @@ fn polish(
 /// 1e-13. `None` when the arithmetic fails; the decimal solver then starts from
 /// the middle of its bracket.
 pub(super) fn estimate_rate(g: impl Fn(f64) -> Option<(f64, f64)>) -> Option<Decimal> {
-    let mut lo = 0.0_f64;
-    let mut hi = 1.0_f64;
-    let mut doublings = 0;
-    loop {
-        let (value, _) = g(hi)?;
-        if value < 0.0 {
-            break;
-        }
-        if value == 0.0 {
-            return Decimal::from_f64(hi);
-        }
-        lo = hi;
-        hi *= 2.0;
-        doublings += 1;
-        if doublings > MAX_DOUBLINGS {
-            return None;
-        }
-    }
+    let side = |x: f64| g(x).map(|(value, _)| falling(value)).ok_or(());
+    let (lo, hi) = match widen(0.0, 1.0, MAX_DOUBLINGS, side, |hi| Ok(Some(hi * 2.0))).ok()? {
+        Widened::Bracket { low, high, .. } => (low, high),
+        Widened::Root { at, .. } => return Decimal::from_f64(at),
+        Widened::Unbounded => return None,
+    };
     // Newton's step from 0 where it lands inside the bracket: g is falling and,
     // for the flows of a loan, convex, so the step stays below the root and the
     // steps after it climb to it; the middle of the bracket otherwise.
-    let mut x = (lo + hi) / 2.0;
+    let mut x = f64::midpoint(lo, hi);
     if let Some((g0, s0)) = g(0.0) {
         let from_zero = -g0 / s0;
         if from_zero.is_finite() && from_zero > lo && from_zero < hi {
             x = from_zero;
         }
     }
-    for _ in 0..200 {
-        let (value, slope) = g(x)?;
-        if value == 0.0 {
-            break;
-        }
-        if value > 0.0 {
-            lo = x;
-        } else {
-            hi = x;
-        }
-        let newton = x - value / slope;
-        let next = if newton > lo && newton < hi && newton.is_finite() {
-            newton
-        } else {
-            (lo + hi) / 2.0
-        };
-        let done = (next - x).abs() <= 1e-13 * x.abs().max(1e-9);
-        x = next;
-        if done {
-            break;
-        }
+    let found = narrow::<f64, ()>(
+        lo,
+        hi,
+        x,
+        200,
+        |x| {
+            let (value, slope) = g(x).ok_or(())?;
+            Ok(Trial {
+                side: falling(value),
+                next: Some(x - value / slope).filter(|n| n.is_finite()),
+            })
+        },
+        |_, _, x, next| (next - x).abs() <= 1e-13 * x.abs().max(1e-9),
+    )
+    .ok()?;
+    Decimal::from_f64(found.at)
+}
+
+/// Where a point lies for an equation that falls through its root: a value
+/// above zero is below the root. (The equations' values are finite: their
+/// evaluations fail otherwise.)
+fn falling<T: PartialOrd + Default>(value: T) -> Side {
+    let zero = T::default();
+    if value > zero {
+        Side::Below
+    } else if value == zero {
+        Side::Root
+    } else {
+        Side::Above
     }
-    Decimal::from_f64(x)
 }
 
 /// The root at or above 0 of an equation g with g(0) > 0, by Newton's method kept
@@ -275,60 +271,47 @@ pub(super) fn solve_falling(
             x = next;
         }
     }
-    let mut lo = Decimal::ZERO;
-    let mut hi = Decimal::ONE;
-    let mut doublings = 0;
-    loop {
-        let (value, _) = g(hi)?;
-        if value.is_zero() {
-            return Ok((hi, 0));
-        }
-        if value < Decimal::ZERO {
-            break;
-        }
-        lo = hi;
-        hi = hi
-            .checked_mul(Decimal::TWO)
-            .or_overflow("the rate bracket")?;
-        doublings += 1;
-        if doublings > MAX_DOUBLINGS {
+    let side = |x: Decimal| Ok(falling(g(x)?.0));
+    let wider = |hi: Decimal| {
+        hi.checked_mul(Decimal::TWO)
+            .or_overflow("the rate bracket")
+            .map(Some)
+    };
+    let (lo, hi) = match widen(Decimal::ZERO, Decimal::ONE, MAX_DOUBLINGS, side, wider)? {
+        Widened::Bracket { low, high, .. } => (low, high),
+        Widened::Root { at, .. } => return Ok((at, 0)),
+        Widened::Unbounded => {
             return Err(EngineError::no_solution(
                 Some(field),
                 "no rate makes the payments' present value equal the advances'",
-            ));
+            ))
         }
-    }
-    let mid = |lo: Decimal, hi: Decimal| lo + (hi - lo) / Decimal::TWO;
-    let mut x = match estimate {
-        Some(e) if e > lo && e < hi => e,
-        _ => mid(lo, hi),
     };
-    for step in 1..=MAX_ITERATIONS {
-        let (value, slope) = g(x)?;
-        if value.is_zero() {
-            return Ok((x, step));
-        }
-        if value > Decimal::ZERO {
-            lo = x;
-        } else {
-            hi = x;
-        }
-        let newton = if slope.is_zero() {
-            None
-        } else {
-            value.checked_div(slope).and_then(|s| x.checked_sub(s))
-        };
-        let next = match newton {
-            Some(n) if n > lo && n < hi => n,
-            _ => mid(lo, hi),
-        };
-        if (next - x).abs() < TOLERANCE || hi - lo < TOLERANCE {
-            return Ok((next, step));
-        }
-        x = next;
-    }
-    // Not reached: bisection alone closes the bracket well within the steps allowed.
-    Ok((x, MAX_ITERATIONS))
+    let start = match estimate {
+        Some(e) if e > lo && e < hi => e,
+        _ => Decimal::midpoint(lo, hi),
+    };
+    let found = narrow(
+        lo,
+        hi,
+        start,
+        MAX_ITERATIONS,
+        |x| {
+            let (value, slope) = g(x)?;
+            let next = if slope.is_zero() {
+                None
+            } else {
+                value.checked_div(slope).and_then(|s| x.checked_sub(s))
+            };
+            Ok(Trial {
+                side: falling(value),
+                next,
+            })
+        },
+        |lo, hi, x, next| (next - x).abs() < TOLERANCE || hi - lo < TOLERANCE,
+    )?;
+    // Bisection alone closes the bracket well within the steps allowed.
+    Ok((found.at, found.trials))
 }
 
 #[cfg(test)]

@@ -3,12 +3,15 @@
 //! midpoint of the Homeowners Protection Act, and the figures of the first five
 //! years; found on the closed forms and confirmed on the posted rows.
 
+use std::convert::Infallible;
+
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
 use super::posting::{Plan, PlanRow};
 use crate::engine::error::Result;
 use crate::engine::money::Currency;
+use crate::engine::search::first_whole;
 use crate::engine::zdomain::{ClosedForm, Estimator};
 
 /// A milestone: a payment number and its date.
@@ -56,16 +59,7 @@ pub fn first_at_or_below(
     }
     let t = threshold.to_f64().unwrap_or(0.0);
     let estimator = Estimator::new(cf);
-    let (mut a, mut b) = (lo, hi);
-    while a < b {
-        let mid = a + (b - a) / 2;
-        if estimator.at(mid) <= t {
-            b = mid;
-        } else {
-            a = mid + 1;
-        }
-    }
-    let mut m = a;
+    let mut m = first_by_halving(lo, hi, |m| estimator.at(m) <= t);
     for _ in 0..(hi - lo + 2) {
         if cf.eval(m)? > threshold {
             m += 1;
@@ -76,6 +70,19 @@ pub fn first_at_or_below(
         }
     }
     Ok(Some(m))
+}
+
+/// The first m in lo..=hi at which `holds`, by halving, `holds(hi)` taken as true.
+///
+/// Counted down from hi (y = hi − m), "`holds` fails at m" fails at y = 0 and is
+/// taken to hold at y = hi − lo + 1 (m = lo − 1); the first y where it holds is
+/// one past the m sought. Halving y rounded down tries the m that halving up
+/// from lo rounded down tries (a + (b − a)/2 with m in [a, b]), so with a test
+/// in binary floating point that is not exactly monotone the candidate is still
+/// the one those steps give.
+fn first_by_halving(lo: u32, hi: u32, holds: impl Fn(u32) -> bool) -> u32 {
+    let Ok((y, _)) = first_whole::<Infallible>(0, hi - lo + 1, |y| Ok(!holds(hi - y)));
+    hi + 1 - y
 }
 
 /// The milestones of a posted plan; `base` is the same plan without extras (the
@@ -225,5 +232,45 @@ mod tests {
         assert!(p.rows[kp - 1].principal > p.rows[kp - 1].interest);
         assert!(p.rows[kp - 2].principal <= p.rows[kp - 2].interest);
         assert_eq!(m.payments_counted, 60);
+    }
+
+    #[test]
+    fn halving_down_from_hi_tries_the_points_of_halving_up_from_lo() {
+        // The loop first_by_halving replaced, on tests that need not be monotone.
+        let up = |lo: u32, hi: u32, holds: &dyn Fn(u32) -> bool| {
+            let (mut a, mut b) = (lo, hi);
+            while a < b {
+                let mid = a + (b - a) / 2;
+                if holds(mid) {
+                    b = mid;
+                } else {
+                    a = mid + 1;
+                }
+            }
+            a
+        };
+        let mut state = 0x9e37_79b9_u32;
+        for (lo, hi) in [
+            (0, 0),
+            (0, 1),
+            (1, 1),
+            (0, 359),
+            (1, 360),
+            (5, 6),
+            (3, 1000),
+        ] {
+            for _ in 0..200 {
+                state ^= state << 13;
+                state ^= state >> 17;
+                state ^= state << 5;
+                let seed = state;
+                let holds = move |m: u32| (m.wrapping_mul(seed) >> 7) % 3 != 0 || m == hi;
+                assert_eq!(
+                    first_by_halving(lo, hi, holds),
+                    up(lo, hi, &holds),
+                    "{lo}..{hi}"
+                );
+            }
+        }
     }
 }

@@ -9,6 +9,7 @@ use rust_decimal::Decimal;
 use super::closed_form::PlanForm;
 use super::terms::MAX_PERIODS;
 use crate::engine::error::{ErrorKind, OrOverflow, Result};
+use crate::engine::search::{first_whole, widen, Side, Widened};
 
 /// How the number of periods was found from the closed form.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -97,29 +98,15 @@ fn confirm_from(estimate: u32, done: &dyn Fn(u32) -> Result<bool>) -> Result<Opt
 /// before the 6,000-period limit, and early periods have cheaper powers), then
 /// bisected.
 fn bisect(done: &dyn Fn(u32) -> Result<bool>) -> Result<Option<(u32, u32)>> {
-    let mut evaluations = 0;
-    let (mut lo, mut hi) = (0u32, 16u32);
-    loop {
-        evaluations += 1;
-        if done(hi)? {
-            break;
-        }
-        if hi == MAX_PERIODS {
-            return Ok(None);
-        }
-        lo = hi;
-        hi = (hi * 2).min(MAX_PERIODS);
-    }
-    while hi - lo > 1 {
-        let mid = lo + (hi - lo) / 2;
-        evaluations += 1;
-        if done(mid)? {
-            hi = mid;
-        } else {
-            lo = mid;
-        }
-    }
-    Ok(Some((hi, evaluations)))
+    let side = |n: u32| Ok(if done(n)? { Side::Above } else { Side::Below });
+    let wider = |n: u32| Ok((n < MAX_PERIODS).then(|| (n * 2).min(MAX_PERIODS)));
+    let (lo, hi, doubling) = match widen(0, 16, u32::MAX, side, wider)? {
+        Widened::Bracket { low, high, trials } => (low, high, trials),
+        Widened::Root { at, trials } => return Ok(Some((at, trials))),
+        Widened::Unbounded => return Ok(None),
+    };
+    let (n, halving) = first_whole(lo, hi, done)?;
+    Ok(Some((n, doubling + halving)))
 }
 
 /// The first k ≥ 1 whose closed-form balance is at or below zero, scanning in growing
