@@ -18,8 +18,11 @@ pub use super::terms::MAX_PAYMENTS;
 /// The closed forms h[k] (unit principal) and u[k] (unit payment) of a rate.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct UnitResponses {
+    /// The interest factor a = 1 + i.
     pub a: Decimal,
+    /// h[k]: a unit principal after k periods with no payment, a^k.
     pub principal_response: ClosedForm,
+    /// u[k]: a unit payment each period accumulated over k periods, Σ_{j<k} a^j.
     pub payment_response: ClosedForm,
 }
 

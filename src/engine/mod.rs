@@ -1,3 +1,4 @@
+#![warn(missing_docs)]
 //! The engine: pure computation over decimal arithmetic. No HTTP, no I/O, no clock.
 //!
 //! Precision: every figure is a `rust_decimal::Decimal` (28 significant digits).

@@ -34,6 +34,7 @@ pub const SEGMENTS_LISTED: usize = 600;
 /// How the payment was found from the closed form (when it was solved).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PaymentDerivation {
+    /// The number of payments.
     pub n: u32,
     /// h[n]/s^n: a unit principal after n periods with no payment (s = max(a, 1)).
     pub principal_response: Decimal,
@@ -41,28 +42,38 @@ pub struct PaymentDerivation {
     pub payment_response: Decimal,
     /// principal·h[n]/u[n], unrounded.
     pub exact_payment: Decimal,
+    /// The closed forms h and u of the periodic rate.
     pub unit: UnitResponses,
 }
 
 /// The answer to a loan schedule request.
 #[derive(Debug, Clone)]
 pub struct LoanSchedule {
+    /// The terms, as given.
     pub terms: LoanTerms,
+    /// The periodic rate i for the payment frequency.
     pub periodic_rate: Decimal,
+    /// The regular payment, as posted.
     pub payment: Decimal,
+    /// The number of payments posted.
     pub number_of_payments: u32,
+    /// The last payment, which absorbs the residue (or carries a balloon).
     pub final_payment: Decimal,
+    /// How the payment was solved, when it was.
     pub payment_derivation: Option<PaymentDerivation>,
     /// The balance recurrence with the posted payment, solved.
     pub solution: Solution,
+    /// The posted ledger.
     pub ledger: Ledger,
     /// `None` when the closed form's powers leave the decimal range (very long terms at high rates).
     pub reconciliation: Option<Reconciliation>,
+    /// The caution, then the assumptions made and what they give.
     pub notes: Vec<String>,
     /// The date of the last payment, when dated.
     pub payoff_date: Option<jiff::civil::Date>,
     /// Against the same loan without extra payments, when there are extras.
     pub savings: Option<Savings>,
+    /// Payments and dates worth naming.
     pub milestones: Milestones,
     /// The posted plan with its closed-form segments (its rows are moved into `ledger`).
     pub plan: Plan,
@@ -378,13 +389,17 @@ fn closing_notes(terms: &LoanTerms, options: &PlanOptions, plan: &Plan) -> Vec<S
 /// what a disclosure check needs (see [`scheduled_payments`]).
 #[derive(Debug, Clone)]
 pub struct ScheduledPayments {
+    /// The terms, as given.
     pub terms: LoanTerms,
     /// The regular payment at the start of amortization.
     pub payment: Decimal,
+    /// The number of payments posted.
     pub number_of_payments: u32,
     /// The last payment, which absorbs the residue (or carries a balloon).
     pub final_payment: Decimal,
+    /// Everything paid: payments, extra payments and odd-days interest.
     pub total_paid: Decimal,
+    /// Every period's interest, odd-days interest included.
     pub total_interest: Decimal,
     /// Odd-days interest collected at closing (zero unless prepaid).
     pub prepaid_interest: Decimal,
@@ -431,7 +446,9 @@ pub fn scheduled_payments(terms: &LoanTerms, options: &PlanOptions) -> Result<Sc
 /// Interest and payments saved by extra payments, against the same loan without them.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Savings {
+    /// The interest the extra payments save.
     pub interest_saved: Decimal,
+    /// The payments they save.
     pub payments_saved: u32,
 }
 

@@ -26,14 +26,21 @@ pub enum LoanTerm {
 /// A level-payment loan, parsed and in range.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct LoanTerms {
+    /// The amount lent.
     pub principal: Decimal,
+    /// The currency of every amount.
     pub currency: Currency,
+    /// The nominal annual rate.
     pub rate: AnnualRate,
+    /// How often payments fall due.
     pub payment_frequency: Frequency,
     /// `None`: interest compounds at the payment frequency.
     pub compounding: Option<Frequency>,
+    /// The number of payments, or the payment.
     pub term: LoanTerm,
+    /// How the payment is rounded.
     pub payment_rounding: PaymentRounding,
+    /// How each period's interest is rounded.
     pub interest_rounding: InterestRounding,
 }
 

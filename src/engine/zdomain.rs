@@ -22,22 +22,29 @@ use super::poly::{series_quotient, Poly};
 /// A pole of a rational function and how often it is repeated.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Pole {
+    /// Where the pole lies.
     pub at: Decimal,
+    /// How often it is repeated.
     pub multiplicity: u32,
 }
 
 /// A strictly proper rational function N(z) / Π (z − p)^m, denominator kept factored.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Rational {
+    /// N(z).
     pub numerator: Poly,
+    /// The poles of the denominator.
     pub poles: Vec<Pole>,
 }
 
 /// The partial fractions at one pole: `coefficients[j − 1]` belongs to 1/(z − p)^j.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PoleFractions {
+    /// The pole p.
     pub pole: Decimal,
+    /// Its multiplicity m.
     pub multiplicity: u32,
+    /// The coefficients of 1/(z − p)^j, j = 1 to m.
     pub coefficients: Vec<Decimal>,
 }
 
@@ -125,6 +132,7 @@ impl Rational {
 /// One term of a closed form: (polynomial in k) · pole^k, or an impulse when the pole is 0.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Mode {
+    /// The pole p (0 for impulses).
     pub pole: Decimal,
     /// Coefficients of the polynomial in k, ascending.
     pub polynomial: Vec<Decimal>,
@@ -133,6 +141,7 @@ pub struct Mode {
 /// x[k] = Σ (polynomial in k)·p^k + Σ c·δ[k − j], valid for every k ≥ 0.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
 pub struct ClosedForm {
+    /// The terms (polynomial in k)·p^k.
     pub modes: Vec<Mode>,
     /// (j, c): c·δ[k − j], from poles at z = 0.
     pub impulses: Vec<(u32, Decimal)>,

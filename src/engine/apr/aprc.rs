@@ -20,6 +20,7 @@ pub const MAX_APRC_YEARS: u32 = 100;
 /// A drawdown or a repayment (or charge) at a time in years from the first drawdown.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct YearFlow {
+    /// The amount drawn down or repaid.
     pub amount: Decimal,
     /// Years from the first drawdown (t_k or s_l of Annex I).
     pub years: Decimal,
@@ -94,7 +95,9 @@ pub struct AprcResult {
 /// The APRC of dated flows, with the times used.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct DatedAprcResult {
+    /// The APRC found.
     pub aprc: AprcResult,
+    /// The time basis the years were counted on.
     pub time_basis: AprcTimeBasis,
     /// Each drawdown, in the order given, at its time in years.
     pub drawdowns: Vec<YearFlow>,

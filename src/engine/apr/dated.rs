@@ -12,7 +12,9 @@ use crate::engine::error::{EngineError, Result};
 /// The APR of dated flows, with the unit-period found and each flow's (t, f).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct DatedAprResult {
+    /// The APR found.
     pub apr: AprResult,
+    /// The unit-period the flows were placed in.
     pub unit_period: UnitPeriod,
     /// The rule of (b)(4) that chose the unit-period; `None` when the caller gave it.
     pub rule: Option<UnitPeriodRule>,
@@ -26,7 +28,8 @@ pub struct DatedAprResult {
 
 /// The APR of dated advances and payments by Appendix J: the unit-period by
 /// [`find_unit_period`], each flow's (t, f) from the first advance by
-/// [`unit_periods_between`], then [`solve_apr`].
+/// [`unit_periods_between`](super::unit_period::unit_periods_between), then
+/// [`solve_apr`].
 ///
 /// # Errors
 /// As [`find_unit_period`] and [`solve_apr`].

@@ -15,6 +15,7 @@ use crate::engine::rate::Frequency;
 /// first at (`periods`, `fraction`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct UnitFlow {
+    /// The amount of each flow.
     pub amount: Decimal,
     /// Full unit-periods from the start of the term (t or q of (b)(8)).
     pub periods: u32,
@@ -49,16 +50,22 @@ impl UnitFlow {
 /// An advance or a payment on a date.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct DatedFlow {
+    /// The amount advanced or paid.
     pub amount: Decimal,
+    /// The date of the flow.
     pub date: Date,
 }
 
 /// `count` payments of `amount` from `first_date` at `frequency`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct PaymentSeries {
+    /// The amount of each payment.
     pub amount: Decimal,
+    /// How many payments.
     pub count: u32,
+    /// The date of the first payment.
     pub first_date: Date,
+    /// How often the payments fall due.
     pub frequency: Frequency,
 }
 

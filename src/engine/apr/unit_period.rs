@@ -14,19 +14,26 @@ use crate::engine::error::{EngineError, Result};
 /// or, for a single advance and single payment, a term of so many days.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum UnitPeriod {
+    /// A day: 365 a year.
     Day,
     /// n days: the term of a single-advance, single-payment transaction that is
     /// not a whole number of months ((b)(5)(vii)), or a common period of n days
     /// that is not a multiple of a week (counted by days, 365/n per year: the
     /// reading of (b)(5)(iv) extended to it).
     Days(u32),
+    /// A week: 52 a year.
     Week,
+    /// n weeks: 52/n a year.
     Weeks(u32),
+    /// Half a month: 24 a year.
     Semimonth,
+    /// A month: 12 a year.
     Month,
+    /// n months: 12/n a year.
     Months(u32),
     /// The same as `Months(3)`.
     Quarter,
+    /// A year.
     Year,
 }
 

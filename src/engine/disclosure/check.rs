@@ -67,14 +67,18 @@ fn gcd(a: u32, b: u32) -> u32 {
 /// The quotes a check compares.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct Quotes {
+    /// The quoted regular payment.
     pub payment: Option<Decimal>,
+    /// The quoted APR, in percent.
     pub apr_percent: Option<Decimal>,
+    /// The quoted finance charge.
     pub finance_charge: Option<Decimal>,
 }
 
 /// A quoted payment against the posted one.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PaymentCheck {
+    /// The quoted payment.
     pub quoted: Decimal,
     /// Quoted − computed.
     pub difference: Decimal,
@@ -90,11 +94,18 @@ pub struct PaymentCheck {
 pub struct LoanCheck {
     /// The loan's scheduled payments and totals.
     pub scheduled: ScheduledPayments,
+    /// The disclosure figures computed from the schedule.
     pub disclosure: LoanDisclosure,
+    /// Whether the loan is a mortgage (the finance-charge tolerance of §1026.18(d)(1)).
     pub mortgage: bool,
+    /// The quoted payment compared, when one was quoted.
     pub payment: Option<PaymentCheck>,
+    /// The quoted APR compared, when one was quoted.
     pub apr: Option<AprCheck>,
+    /// The quoted finance charge compared, when one was quoted.
     pub finance_charge: Option<FinanceChargeCheck>,
+    /// The caution and the check's own sentence, then the schedule's notes and how
+    /// each figure was found.
     pub notes: Vec<String>,
 }
 

@@ -15,7 +15,9 @@ use crate::engine::schedule::ScheduledPayments;
 /// A prepaid finance charge (points, an origination fee), by name.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PrepaidFinanceCharge {
+    /// What the charge is (points, an origination fee).
     pub name: String,
+    /// The amount charged.
     pub amount: Decimal,
 }
 
@@ -70,18 +72,27 @@ pub struct InFiveYears {
 /// The disclosure figures of a posted loan.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct LoanDisclosure {
+    /// The prepaid finance charges, prepaid interest of an odd first period included.
     pub prepaid_finance_charges: Vec<PrepaidFinanceCharge>,
+    /// Their total.
     pub prepaid_total: Decimal,
+    /// The principal less the prepaid finance charges (§1026.18(b)).
     pub amount_financed: Decimal,
+    /// The sum of the scheduled payments (§1026.18(h)).
     pub total_of_payments: Decimal,
+    /// Total of payments less the amount financed.
     pub finance_charge: Decimal,
     /// The scheduled interest of the posted ledger.
     pub total_interest: Decimal,
     /// Unrounded: total interest ÷ principal × 100.
     pub total_interest_percentage: Decimal,
+    /// The APR by Appendix J.
     pub apr: AprResult,
+    /// The unit-period the APR was found in.
     pub unit_period: UnitPeriod,
+    /// The APR tolerance that applies, and why.
     pub apr_tolerance: AprTolerance,
+    /// What is paid in the first five years (§1026.37(l)(1)).
     pub in_five_years: InFiveYears,
     /// Prepaid interest of an odd first period collected at closing: a prepaid
     /// finance charge (listed among `prepaid_finance_charges`), counted in the

@@ -15,9 +15,11 @@ pub const IRREGULAR_APR_TOLERANCE: Decimal = Decimal::from_parts(25, 0, 0, false
 /// Whether a transaction is regular for the APR tolerance, and why.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct AprTolerance {
+    /// True for a regular transaction (§1026.22(a)(2)).
     pub regular: bool,
     /// 0.125 (regular) or 0.25 (irregular) percentage point.
     pub points: Decimal,
+    /// The classification in words, with its citation.
     pub reason: String,
 }
 
@@ -109,6 +111,7 @@ pub fn apr_tolerance(
 /// A quoted APR against the computed one.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct AprCheck {
+    /// The quoted APR, in percent.
     pub quoted_percent: Decimal,
     /// Quoted − computed, in percentage points (the computed APR unrounded).
     pub difference_points: Decimal,
@@ -182,11 +185,15 @@ impl FinanceChargeRule {
 /// A quoted finance charge against the computed one.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct FinanceChargeCheck {
+    /// The quoted finance charge.
     pub quoted: Decimal,
     /// Quoted − computed: negative when the quote understates the finance charge.
     pub difference: Decimal,
+    /// The rule of §1026.18(d) that applies.
     pub rule: FinanceChargeRule,
+    /// Its tolerance, in dollars.
     pub tolerance: Decimal,
+    /// Whether the quote is accurate under that rule.
     pub within_tolerance: bool,
 }
 

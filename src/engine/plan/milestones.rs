@@ -17,7 +17,9 @@ use crate::engine::zdomain::{ClosedForm, Estimator};
 /// A milestone: a payment number and its date.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Milestone {
+    /// The payment number.
     pub payment: u32,
+    /// Its due date, when the plan is dated.
     pub date: Option<Date>,
 }
 
@@ -33,10 +35,13 @@ pub struct Milestones {
     pub balance_78_percent: Option<Milestone>,
     /// The midpoint of the amortization period, and the first day of the next month.
     pub midpoint: Option<Milestone>,
+    /// The first day of the month after the midpoint (HPA final termination).
     pub final_termination_date: Option<Date>,
     /// Through payment 60 (or the whole term when shorter).
     pub payments_counted: u32,
+    /// Payments and extra payments through `payments_counted`.
     pub total_paid_60: Decimal,
+    /// Principal repaid through `payments_counted`.
     pub principal_paid_60: Decimal,
 }
 

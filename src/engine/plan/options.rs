@@ -35,34 +35,55 @@ pub enum RateChangeKeeps {
 pub enum Extra {
     /// `amount` with payments `from`, `from + every`, … up to `to` (or the end).
     Recurring {
+        /// The extra paid each time.
         amount: Decimal,
+        /// The first payment it comes with.
         from: u32,
+        /// The last payment it may come with; `None`: to the end.
         to: Option<u32>,
+        /// Every how many payments.
         every: u32,
     },
     /// `amount` once, with payment `at`.
-    Lump { amount: Decimal, at: u32 },
+    Lump {
+        /// The extra paid.
+        amount: Decimal,
+        /// The payment it comes with.
+        at: u32,
+    },
 }
 
 /// A new nominal annual rate from payment `at` on.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct RateChange {
+    /// The first payment at the new rate.
     pub at: u32,
+    /// The new nominal annual rate.
     pub rate: AnnualRate,
 }
 
 /// Everything a plan adds to level-loan terms.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
 pub struct PlanOptions {
+    /// The date the loan is funded; with the first payment date it sets the odd first period.
     pub funding_date: Option<Date>,
+    /// The due date of the first payment: the rows are dated from it.
     pub first_payment_date: Option<Date>,
+    /// How the odd days are counted.
     pub day_count: DayCount,
+    /// Where the odd first period's interest goes.
     pub odd_days_interest: OddDaysInterest,
+    /// Extra payments.
     pub extras: Vec<Extra>,
+    /// How many payments at the start are of interest only.
     pub interest_only_payments: u32,
+    /// The rest of the balance falls due with this payment (a balloon).
     pub balloon_after_payments: Option<u32>,
+    /// Rate steps, at increasing payments.
     pub rate_changes: Vec<RateChange>,
+    /// What a rate step keeps: the term or the payment.
     pub rate_change_keeps: RateChangeKeeps,
+    /// The original value of the property, for the HPA milestones.
     pub property_value: Option<Decimal>,
 }
 

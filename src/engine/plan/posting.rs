@@ -23,7 +23,9 @@ pub type PlanRow = crate::engine::ledger::Row;
 /// Consecutive scheduled payments of the same amount.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct PaymentRun {
+    /// The amount of each payment.
     pub amount: Decimal,
+    /// How many in a row.
     pub count: u32,
 }
 
@@ -163,22 +165,32 @@ fn never_falls(k: u32, terms: &LoanTerms, pay: i128) -> EngineError {
 pub struct Plan {
     /// The posted rows (empty when posted by [`post_summary`]).
     pub rows: Vec<PlanRow>,
+    /// What a disclosure needs, gathered while posting.
     pub summary: PaymentSummary,
+    /// The closed-form segments (empty unless solved).
     pub segments: Vec<Segment>,
     /// The regular payment at the start of amortization (after any interest-only period).
     pub payment: Decimal,
+    /// Every payment, extra payment and odd-days interest paid.
     pub total_paid: Decimal,
+    /// Every period's interest, odd-days interest included.
     pub total_interest: Decimal,
+    /// The extra payments.
     pub total_extra: Decimal,
+    /// The balloon beyond the regular payment, when one falls due.
     pub balloon: Option<Decimal>,
     /// Odd-days interest (signed: a short first period gives a credit).
     pub odd_days: i64,
+    /// The odd-days interest, rounded to the minor unit.
     pub odd_days_interest: Decimal,
     /// The due date one regular period before the first payment, by the rule that
     /// dates the rows: the odd days run from funding to it.
     pub regular_period_start: Option<Date>,
+    /// Odd-days interest collected at closing (zero unless prepaid).
     pub prepaid_interest: Decimal,
+    /// The largest |posted − closed-form| balance and its payment; `None` when not reconciled.
     pub largest_drift: Option<(Decimal, u32)>,
+    /// What the posting assumed or ignored.
     pub notes: Vec<String>,
 }
 

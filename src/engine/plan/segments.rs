@@ -12,13 +12,17 @@ use crate::engine::recurrence::{Input, Recurrence, Solution};
 /// A run of payments solved by one closed form.
 #[derive(Debug, Clone)]
 pub struct Segment {
+    /// The first payment of the segment.
     pub first_payment: u32,
+    /// The last payment of the segment.
     pub last_payment: u32,
+    /// The periodic rate over the segment.
     pub periodic_rate: Decimal,
     /// Regular payment plus recurring extra, each period.
     pub outflow: Decimal,
     /// A lump sum or interest credit at the segment's first payment (negative: paid in).
     pub impulse: Decimal,
+    /// The segment's balance recurrence, solved.
     pub solution: Solution,
     /// The closed form's balance after the segment's last payment.
     pub end_balance: Decimal,

@@ -17,10 +17,14 @@ pub struct FlowShape {
     /// a = 1 + i.
     pub a: Decimal,
     /// i as the exact ratio of integers it rounds, when it is one
-    /// ([`SavingsTerms::periodic_ratio`]): the posting multiplies by it.
+    /// ([`SavingsTerms::periodic_ratio`](super::terms::SavingsTerms::periodic_ratio)):
+    /// the posting multiplies by it.
     pub exact_rate: Option<(i128, i128)>,
+    /// Periods (deposits) a year.
     pub periods_per_year: u32,
+    /// When in each period the deposit is made.
     pub timing: Timing,
+    /// How the deposits move over time.
     pub pattern: Pattern,
 }
 
@@ -37,6 +41,7 @@ pub struct YearlyForm {
     pub unit: UnitResponses,
     /// c: the first year's deposit as the recurrence sees it (times a when at the start).
     pub flow: Decimal,
+    /// g: the yearly growth ratio.
     pub ratio: Decimal,
     /// s: the yearly step as the recurrence sees it.
     pub step: Decimal,
@@ -45,6 +50,7 @@ pub struct YearlyForm {
 /// The closed form of a plan: its balance after any period, in O(1).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PlanForm {
+    /// The shape it was solved for.
     pub shape: FlowShape,
     /// The period recurrence, solved. With yearly growth it is that of the first
     /// year (valid for k ≤ m); later years start from B[y] with their own deposit.

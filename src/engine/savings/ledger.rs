@@ -15,23 +15,30 @@ use crate::engine::money::{Currency, InterestRounding};
 /// One posted period.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct SavingsRow {
+    /// The period number, from 1.
     pub number: u32,
     /// The end of the period: `start_date` + `number` periods.
     pub date: Option<Date>,
     /// The money put in this period: negative for a withdrawal.
     pub deposit: Decimal,
+    /// The interest credited, rounded to the minor unit.
     pub interest: Decimal,
+    /// The balance at the end of the period.
     pub balance: Decimal,
 }
 
 /// The posted ledger and its totals.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct SavingsLedger {
+    /// The posted periods, in order.
     pub rows: Vec<SavingsRow>,
+    /// Deposits made.
     pub total_deposited: Decimal,
     /// Withdrawals, as a positive total.
     pub total_withdrawn: Decimal,
+    /// Interest credited.
     pub total_interest: Decimal,
+    /// The balance after the last period posted.
     pub final_balance: Decimal,
     /// True when a withdrawal took the last of the balance (the last one may be smaller).
     pub exhausted: bool,

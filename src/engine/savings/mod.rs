@@ -23,11 +23,13 @@
 //!   ```
 //!
 //!   (c the first year's deposit, g = 1 + yearly growth, s the fixed amount added
-//!   each year), a geometric and a ramp input solved by [`Recurrence::solve`] (a
-//!   double pole when g = A). Inside year y the balance is the period closed form
-//!   from B[y] with that year's level deposit: balance[y·m + r] = a^r·B[y] + c_y·u[r],
-//!   where a^r and u[r] = Σ_{j<r} a^j are the closed forms of a unit balance and a
-//!   unit deposit ([`UnitResponses`]). Every period's balance is O(1).
+//!   each year), a geometric and a ramp input solved by
+//!   [`Recurrence::solve`](super::recurrence::Recurrence::solve) (a double pole
+//!   when g = A). Inside year y the balance is the period closed form from B[y]
+//!   with that year's level deposit: balance[y·m + r] = a^r·B[y] + c_y·u[r], where
+//!   a^r and u[r] = Σ_{j<r} a^j are the closed forms of a unit balance and a unit
+//!   deposit ([`UnitResponses`](super::loan::UnitResponses)). Every period's
+//!   balance is O(1).
 //!
 //! Deposits at the **start** of a period earn that period's interest:
 //! x[k+1] = a·(x[k] + d) = a·x[k] + a·d, which is the end-of-period plan with the

@@ -22,31 +22,40 @@ use crate::engine::zdomain::pow;
 /// When the goal is first reached.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct GoalReached {
+    /// The period the posted balance first reaches the goal (0: the opening balance).
     pub period: u32,
+    /// The end of that period, when the plan is dated.
     pub date: Option<Date>,
 }
 
 /// The answer to a savings plan.
 #[derive(Debug, Clone)]
 pub struct SavingsPlan {
+    /// The terms, as given.
     pub terms: SavingsTerms,
+    /// The periodic rate i for the deposit frequency.
     pub periodic_rate: Decimal,
     /// The first (level) deposit as posted: negative for a withdrawal.
     pub flow: Decimal,
     /// The yearly step, with the flow's sign.
     pub step: Decimal,
+    /// How the deposit or withdrawal was solved, when it was.
     pub solved_flow: Option<FlowDerivation>,
+    /// How the number of periods was found, when it was.
     pub periods_search: Option<PeriodsDerivation>,
     /// The closed form with the posted deposit.
     pub form: PlanForm,
+    /// The posted ledger.
     pub ledger: SavingsLedger,
     /// `None` when the closed form leaves the range of 28-digit decimals.
     pub reconciliation: Option<SavingsReconciliation>,
+    /// When the goal is reached, for a question with a goal.
     pub goal_reached_at: Option<GoalReached>,
     /// Withdrawals that never exceed the interest: the balance never runs out.
     pub lasts_indefinitely: bool,
     /// Of the account rate, 12 CFR 1030 Appendix A.
     pub apy: ApyResult,
+    /// The caution, then the assumptions made and what they give.
     pub notes: Vec<String>,
 }
 

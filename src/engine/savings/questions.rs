@@ -16,6 +16,7 @@ use crate::engine::rate::Frequency;
 /// How a solved deposit or withdrawal was found: the balance is linear in it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct FlowDerivation {
+    /// The number of periods.
     pub n: u32,
     /// The balance wanted after n periods: the goal, or zero for a drawdown.
     pub target: Decimal,
@@ -64,7 +65,8 @@ impl Answer {
 }
 
 impl Setup<'_> {
-    /// The ledger of the first flow `amount` (negative for a withdrawal), posted until `rule` stops it.
+    /// The ledger of the first flow `amount` (negative for a withdrawal), posted
+    /// until `rule` stops it.
     fn post(&self, amount: Decimal, rule: Posting) -> Result<SavingsLedger> {
         let t = self.terms;
         post(
@@ -78,6 +80,7 @@ impl Setup<'_> {
         )
     }
 
+    /// An amount in the plan's currency, as the notes show it.
     fn money(&self, amount: Decimal) -> String {
         self.terms.currency.format(amount)
     }

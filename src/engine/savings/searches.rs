@@ -15,10 +15,16 @@ use crate::engine::search::{first_whole, widen, Side, Widened};
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum PeriodSearch {
     /// Level flows: a logarithm (estimated in binary floating point), confirmed exactly.
-    Logarithm { estimate: u32 },
+    Logarithm {
+        /// The estimate the walk started from.
+        estimate: u32,
+    },
     /// Growing deposits: bisection over whole periods on the O(1) closed form (in
     /// binary floating point, confirmed in decimal at n − 1 and n).
-    Bisection { evaluations: u32 },
+    Bisection {
+        /// Evaluations of the closed form.
+        evaluations: u32,
+    },
     /// Growing withdrawals (the balance may rise before it falls): a scan of the closed form.
     Scan,
 }
@@ -26,6 +32,7 @@ pub enum PeriodSearch {
 /// The number of periods from the closed form, and the balances around it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct PeriodsDerivation {
+    /// How n was found.
     pub method: PeriodSearch,
     /// The first n whose closed-form balance reaches the target.
     pub n: u32,
@@ -33,6 +40,7 @@ pub struct PeriodsDerivation {
     pub target: Decimal,
     /// x[n − 1] and x[n] from the closed form.
     pub before: Decimal,
+    /// x[n] from the closed form (the largest or smallest decimal past its range).
     pub at: Decimal,
 }
 

@@ -80,7 +80,9 @@ impl GrowthEvery {
 /// Deposits growing by a percentage, each period or each year.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Growth {
+    /// The growth in percent.
     pub percent: Decimal,
+    /// How often the deposits grow.
     pub every: GrowthEvery,
 }
 
@@ -94,7 +96,9 @@ impl Growth {
 /// A given flow: money put in or taken out each period.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Flow {
+    /// Money put in each period.
     Deposit(Decimal),
+    /// Money taken out each period.
     Withdrawal(Decimal),
 }
 
@@ -112,15 +116,36 @@ impl Flow {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Question {
     /// The balance after `periods` periods of the given flow.
-    FinalBalance { flow: Flow, periods: u32 },
+    FinalBalance {
+        /// The deposit or withdrawal each period.
+        flow: Flow,
+        /// How many periods.
+        periods: u32,
+    },
     /// The level (or first) deposit that reaches `goal` at the end of `periods` periods.
-    DepositForGoal { goal: Decimal, periods: u32 },
+    DepositForGoal {
+        /// The balance wanted.
+        goal: Decimal,
+        /// How many periods.
+        periods: u32,
+    },
     /// The number of periods `deposit` needs to reach `goal`.
-    PeriodsToGoal { deposit: Decimal, goal: Decimal },
+    PeriodsToGoal {
+        /// The level (or first) deposit.
+        deposit: Decimal,
+        /// The balance wanted.
+        goal: Decimal,
+    },
     /// The level (or first) withdrawal that exhausts the opening balance in `periods` periods.
-    WithdrawalForTerm { periods: u32 },
+    WithdrawalForTerm {
+        /// How many periods.
+        periods: u32,
+    },
     /// How many withdrawals of `withdrawal` the opening balance supports.
-    WithdrawalsSupported { withdrawal: Decimal },
+    WithdrawalsSupported {
+        /// The level (or first) withdrawal.
+        withdrawal: Decimal,
+    },
 }
 
 impl Question {
@@ -140,17 +165,23 @@ impl Question {
 /// A savings plan, parsed; [`SavingsTerms::check`] says whether it is in range.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct SavingsTerms {
+    /// The balance at the start.
     pub opening_balance: Decimal,
+    /// The currency of every amount.
     pub currency: Currency,
+    /// The nominal annual rate.
     pub rate: AnnualRate,
     /// How often deposits (or withdrawals) are made; also the ledger's period.
     pub frequency: Frequency,
     /// `None`: interest compounds at the deposit frequency.
     pub compounding: Option<Frequency>,
+    /// When in each period the deposit (or withdrawal) is made.
     pub timing: Timing,
+    /// How the deposits grow, when they do.
     pub growth: Option<Growth>,
     /// A fixed amount added to the deposit (or withdrawal) once a year; zero for none.
     pub deposit_step: Decimal,
+    /// What is asked.
     pub question: Question,
     /// The plan's opening date: row k is dated `start_date` + k periods.
     pub start_date: Option<Date>,
@@ -162,9 +193,15 @@ pub enum Pattern {
     /// The same deposit every period.
     Level,
     /// c·g^k in period k.
-    EachPeriod { ratio: Decimal },
+    EachPeriod {
+        /// g.
+        ratio: Decimal,
+    },
     /// c·g^y + s·y in every period of year y (s the yearly step; g may be 1).
-    EachYear { ratio: Decimal },
+    EachYear {
+        /// g.
+        ratio: Decimal,
+    },
 }
 
 /// The number of periods in `months` months at `frequency`, when it is a whole number.
