@@ -20,13 +20,16 @@ pub enum ErrorKind {
 /// An error from the engine: the kind, the input it concerns, and a message.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct EngineError {
+    /// What went wrong.
     pub kind: ErrorKind,
     /// The request field the error concerns, in the interface's own names.
     pub field: Option<&'static str>,
+    /// What went wrong, in words.
     pub message: String,
 }
 
 impl EngineError {
+    /// A value outside the accepted range, naming its field.
     pub fn out_of_range(field: &'static str, message: impl Into<String>) -> Self {
         Self {
             kind: ErrorKind::OutOfRange,
@@ -34,6 +37,7 @@ impl EngineError {
             message: message.into(),
         }
     }
+    /// Inputs with no answer, naming the field concerned when there is one.
     pub fn no_solution(field: Option<&'static str>, message: impl Into<String>) -> Self {
         Self {
             kind: ErrorKind::NoSolution,

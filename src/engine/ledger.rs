@@ -16,6 +16,7 @@ use super::zdomain::ClosedForm;
 /// One posted period.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Row {
+    /// The payment number, from 1.
     pub number: u32,
     /// The due date, when the loan is dated.
     pub date: Option<jiff::civil::Date>,
@@ -23,16 +24,23 @@ pub struct Row {
     pub payment: Decimal,
     /// Extra principal paid with it.
     pub extra: Decimal,
+    /// The period's interest (odd-days interest included on the first), rounded
+    /// to the minor unit.
     pub interest: Decimal,
+    /// The principal repaid: payment plus extra less interest.
     pub principal: Decimal,
+    /// The balance after the payment.
     pub balance: Decimal,
 }
 
 /// A posted schedule and its totals.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Ledger {
+    /// The posted payments, in order.
     pub rows: Vec<Row>,
+    /// Everything paid: payments, extra payments and odd-days interest.
     pub total_paid: Decimal,
+    /// Every period's interest, odd-days interest included.
     pub total_interest: Decimal,
 }
 
@@ -61,6 +69,7 @@ pub struct InterestPoster {
 }
 
 impl InterestPoster {
+    /// A poster of `rate` (the periodic rate), rounding to the minor units of `currency` by `rounding`.
     pub fn new(rate: Decimal, currency: Currency, rounding: InterestRounding) -> Self {
         Self {
             rate,
@@ -221,6 +230,7 @@ pub fn to_minor(amount: Decimal, minor_units: u32) -> Result<i128> {
 }
 
 #[inline(always)]
+/// An integer of minor units back to an amount.
 pub fn from_minor(amount: i128, minor_units: u32) -> Decimal {
     let magnitude = amount.unsigned_abs();
     if magnitude < (1u128 << 96) && minor_units <= 28 {

@@ -10,16 +10,19 @@ use rust_decimal::Decimal;
 
 use super::error::{EngineError, OrOverflow, Result};
 use super::recurrence::{Input, Recurrence, Solution};
+use super::search::{first_whole, narrow, Side, Trial};
 use super::zdomain::ClosedForm;
 
-/// The most payments a schedule may have.
-pub const MAX_PAYMENTS: u32 = 6000;
+pub use super::terms::MAX_PAYMENTS;
 
 /// The closed forms h[k] (unit principal) and u[k] (unit payment) of a rate.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct UnitResponses {
+    /// The interest factor a = 1 + i.
     pub a: Decimal,
+    /// h[k]: a unit principal after k periods with no payment, a^k.
     pub principal_response: ClosedForm,
+    /// u[k]: a unit payment each period accumulated over k periods, Σ_{j<k} a^j.
     pub payment_response: ClosedForm,
 }
 
@@ -204,16 +207,9 @@ fn bisect_term(cf: &ClosedForm) -> Result<u32> {
     if cf.eval(MAX_PAYMENTS)? > Decimal::ZERO {
         return Err(too_long());
     }
-    let (mut lo, mut hi) = (0u32, MAX_PAYMENTS); // x[lo] > 0 ≥ x[hi]
-    while hi - lo > 1 {
-        let mid = lo + (hi - lo) / 2;
-        if cf.eval(mid)? > Decimal::ZERO {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-    }
-    Ok(hi)
+    // x[0] > 0 ≥ x[MAX_PAYMENTS]: the first n with x[n] ≤ 0.
+    let (n, _) = first_whole(0, MAX_PAYMENTS, |n| Ok(cf.eval(n)? <= Decimal::ZERO))?;
+    Ok(n)
 }
 
 /// n ≈ −ln(1 − x0·i/P)/ln(1 + i), or x0/P at 0 %; an estimate only.
@@ -279,8 +275,8 @@ pub fn rate_for_payment(principal: Decimal, payment: Decimal, n: u32) -> Result<
             .or_overflow("the slope")?;
         Ok((value, slope))
     };
-    let mut lo = Decimal::ZERO;
-    let mut hi = payment
+    let lo = Decimal::ZERO;
+    let hi = payment
         .checked_div(principal)
         .or_overflow("the rate bracket")?;
     // Start from the first-order expansion of the annuity factor: i ≈ 2(nP − x0)/(P·n(n+1)).
@@ -292,31 +288,31 @@ pub fn rate_for_payment(principal: Decimal, payment: Decimal, n: u32) -> Result<
         i = hi / Decimal::TWO;
     }
     let tolerance = Decimal::new(1, 24);
-    for _ in 0..200 {
-        let (value, slope) = g(i)?;
-        if value.is_zero() {
-            return Ok(i);
-        }
-        if value > Decimal::ZERO {
-            hi = i;
-        } else {
-            lo = i;
-        }
-        let newton = if slope.is_zero() {
-            None
-        } else {
-            value.checked_div(slope).map(|s| i - s)
-        };
-        let next = match newton {
-            Some(x) if x > lo && x < hi => x,
-            _ => lo + (hi - lo) / Decimal::TWO,
-        };
-        if (next - i).abs() < tolerance || hi - lo < tolerance {
-            return Ok(next);
-        }
-        i = next;
-    }
-    Ok(i)
+    let found = narrow(
+        lo,
+        hi,
+        i,
+        200,
+        |i| {
+            let (value, slope) = g(i)?;
+            // g rises through its root: a value above zero is above it.
+            let side = if value.is_zero() {
+                Side::Root
+            } else if value > Decimal::ZERO {
+                Side::Above
+            } else {
+                Side::Below
+            };
+            let next = if slope.is_zero() {
+                None
+            } else {
+                value.checked_div(slope).map(|s| i - s)
+            };
+            Ok(Trial { side, next })
+        },
+        |lo, hi, i, next| (next - i).abs() < tolerance || hi - lo < tolerance,
+    )?;
+    Ok(found.at)
 }
 
 #[cfg(test)]

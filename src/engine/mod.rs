@@ -1,3 +1,4 @@
+#![warn(missing_docs)]
 //! The engine: pure computation over decimal arithmetic. No HTTP, no I/O, no clock.
 //!
 //! Precision: every figure is a `rust_decimal::Decimal` (28 significant digits).
@@ -23,6 +24,9 @@ pub mod rate;
 pub mod recurrence;
 pub mod savings;
 pub mod schedule;
+pub mod search;
+
+pub mod terms;
 #[cfg(test)]
 pub(crate) mod testing;
 pub mod zdomain;

@@ -107,6 +107,7 @@ const CURRENCIES: &[Currency] = &[
 ];
 
 impl Currency {
+    /// The US dollar.
     pub const USD: Currency = CURRENCIES[0];
 
     /// The currency with this ISO 4217 code (upper case).
@@ -122,6 +123,7 @@ impl Currency {
         CURRENCIES.iter().map(|c| c.code)
     }
 
+    /// The ISO 4217 code.
     pub fn code(&self) -> &'static str {
         self.code
     }
@@ -291,6 +293,7 @@ impl AmountText {
         &self.bytes[self.start as usize..]
     }
 
+    /// The text.
     pub fn as_str(&self) -> &str {
         // Only ASCII digits, '-' and '.' are ever written.
         std::str::from_utf8(&self.bytes[self.start as usize..]).unwrap_or("")
@@ -326,6 +329,7 @@ pub enum PaymentRounding {
 }
 
 impl PaymentRounding {
+    /// The rounding strategy of this rule.
     pub fn strategy(self) -> RoundingStrategy {
         match self {
             PaymentRounding::Nearest => RoundingStrategy::MidpointAwayFromZero,
@@ -345,6 +349,7 @@ pub enum InterestRounding {
 }
 
 impl InterestRounding {
+    /// The rounding strategy of this rule.
     pub fn strategy(self) -> RoundingStrategy {
         match self {
             InterestRounding::HalfUp => RoundingStrategy::MidpointAwayFromZero,

@@ -7,12 +7,19 @@ use super::error::{EngineError, OrOverflow, Result};
 /// How often payments fall due, or interest compounds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Frequency {
+    /// Once a year.
     Annual,
+    /// Twice a year.
     Semiannual,
+    /// Four times a year.
     Quarterly,
+    /// Twelve times a year.
     Monthly,
+    /// Twice a month: 24 times a year.
     Semimonthly,
+    /// Every two weeks: 26 times a year.
     Biweekly,
+    /// Every week: 52 times a year.
     Weekly,
     /// Compounding only: 365 times a year.
     Daily,
@@ -52,6 +59,7 @@ impl Frequency {
         Self::ALL.iter().copied().find(|f| f.name() == name)
     }
 
+    /// Every frequency, the least frequent first.
     pub const ALL: [Frequency; 8] = [
         Frequency::Annual,
         Frequency::Semiannual,
@@ -94,6 +102,7 @@ impl AnnualRate {
         })
     }
 
+    /// The rate in percent, as given.
     pub fn percent(&self) -> Decimal {
         self.percent
     }
@@ -187,6 +196,9 @@ pub fn nth_root(c: Decimal, n: u32) -> Result<Decimal> {
     }
     let nd = Decimal::from(n);
     // Start above the root (Bernoulli: (1 + (c−1)/n)^n ≥ c), so Newton's steps fall monotonically.
+    // Not the bracketed search of `search`: no bracket is needed from above, and the
+    // loop stops at the first step that no longer falls, where a bracket's tolerance
+    // would stop elsewhere and change the last digits.
     let mut y = Decimal::ONE + (c - Decimal::ONE).checked_div(nd).or_overflow("a root")?;
     for _ in 0..200 {
         let y_n1 = y.checked_powi(i64::from(n - 1)).or_overflow("a root")?;

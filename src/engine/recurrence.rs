@@ -32,13 +32,27 @@ use super::zdomain::{ClosedForm, Pole, PoleFractions, Rational};
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Input {
     /// c·δ[k]: an amount added once, in the first period.
-    Impulse { amount: Decimal },
+    Impulse {
+        /// c.
+        amount: Decimal,
+    },
     /// c for every k ≥ 0: a level payment (negative) or deposit (positive).
-    Step { amount: Decimal },
+    Step {
+        /// c.
+        amount: Decimal,
+    },
     /// c·g^k: an amount growing by the ratio g each period.
-    Geometric { amount: Decimal, ratio: Decimal },
+    Geometric {
+        /// c, the first amount.
+        amount: Decimal,
+        /// g.
+        ratio: Decimal,
+    },
     /// c·k: an amount growing by c each period (zero in the first).
-    Ramp { amount: Decimal },
+    Ramp {
+        /// c.
+        amount: Decimal,
+    },
 }
 
 impl Input {
@@ -98,14 +112,18 @@ pub const POLE_MERGE_DISTANCE: Decimal = Decimal::from_parts(1, 0, 0, false, 14)
 /// x[k+1] = a·x[k] + Σ inputs[k], x[0] = x0.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Recurrence {
+    /// a: the factor each period multiplies the balance by.
     pub a: Decimal,
+    /// The opening balance x[0].
     pub x0: Decimal,
+    /// The inputs, summed.
     pub inputs: Vec<Input>,
 }
 
 /// A solved recurrence: its transform, partial fractions and closed form.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Solution {
+    /// The recurrence solved.
     pub recurrence: Recurrence,
     /// X(z)/z over one denominator, before cancellation.
     pub transform: Rational,
@@ -115,6 +133,7 @@ pub struct Solution {
     pub merged: Vec<(Decimal, Decimal)>,
     /// The partial fractions of X(z)/z after cancellation.
     pub fractions: Vec<PoleFractions>,
+    /// x[k] for every k ≥ 0.
     pub closed_form: ClosedForm,
 }
 

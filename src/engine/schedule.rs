@@ -6,21 +6,21 @@ use rust_decimal::Decimal;
 use super::calendar::due_dates;
 use super::error::{EngineError, ErrorKind, OrOverflow, Result};
 use super::ledger::{Ledger, Reconciliation, Row};
-use super::loan::{payment_for_term, solve_balance, UnitResponses, MAX_PAYMENTS};
-use super::money::{Currency, InterestRounding, PaymentRounding};
+use super::loan::{payment_for_term, solve_balance, UnitResponses};
+use super::money::Currency;
 use super::plan::{
     milestones, post_summary, post_totals, post_with, Milestones, OddDaysInterest, PaymentSummary,
     Plan, PlanOptions,
 };
-use super::rate::{AnnualRate, Frequency};
 use super::recurrence::Solution;
+pub use super::terms::{
+    check_payment, check_payment_count, check_principal, payments_in_months, LoanTerm, LoanTerms,
+    MAX_PRINCIPAL,
+};
 
 /// The caution every result carries.
 pub const CAUTION: &str = "Estimates for discussion only: not an offer of credit, a disclosure, or financial, legal or tax advice. \
 The lender's system of record, local regulation and licensed professionals decide.";
-
-/// The largest principal accepted.
-pub const MAX_PRINCIPAL: Decimal = Decimal::from_parts(3_567_587_328, 232, 0, false, 0); // 1,000,000,000,000
 
 /// The segments an answer shows with their whole derivation (recurrence, poles,
 /// partial fractions, closed form); later ones are listed by their figures alone.
@@ -31,32 +31,10 @@ pub const SEGMENTS_IN_FULL: usize = 24;
 /// The segments an answer lists at all; the rows carry every figure of the rest.
 pub const SEGMENTS_LISTED: usize = 600;
 
-/// How long the loan runs, or what is paid: the other one is solved.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum LoanTerm {
-    /// This many payments; the payment is solved.
-    Payments(u32),
-    /// This regular payment; the number of payments is solved.
-    Payment(Decimal),
-}
-
-/// A level-payment loan, parsed and in range.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct LoanTerms {
-    pub principal: Decimal,
-    pub currency: Currency,
-    pub rate: AnnualRate,
-    pub payment_frequency: Frequency,
-    /// `None`: interest compounds at the payment frequency.
-    pub compounding: Option<Frequency>,
-    pub term: LoanTerm,
-    pub payment_rounding: PaymentRounding,
-    pub interest_rounding: InterestRounding,
-}
-
 /// How the payment was found from the closed form (when it was solved).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PaymentDerivation {
+    /// The number of payments.
     pub n: u32,
     /// h[n]/s^n: a unit principal after n periods with no payment (s = max(a, 1)).
     pub principal_response: Decimal,
@@ -64,161 +42,41 @@ pub struct PaymentDerivation {
     pub payment_response: Decimal,
     /// principal·h[n]/u[n], unrounded.
     pub exact_payment: Decimal,
+    /// The closed forms h and u of the periodic rate.
     pub unit: UnitResponses,
 }
 
 /// The answer to a loan schedule request.
 #[derive(Debug, Clone)]
 pub struct LoanSchedule {
+    /// The terms, as given.
     pub terms: LoanTerms,
+    /// The periodic rate i for the payment frequency.
     pub periodic_rate: Decimal,
+    /// The regular payment, as posted.
     pub payment: Decimal,
+    /// The number of payments posted.
     pub number_of_payments: u32,
+    /// The last payment, which absorbs the residue (or carries a balloon).
     pub final_payment: Decimal,
+    /// How the payment was solved, when it was.
     pub payment_derivation: Option<PaymentDerivation>,
     /// The balance recurrence with the posted payment, solved.
     pub solution: Solution,
+    /// The posted ledger.
     pub ledger: Ledger,
     /// `None` when the closed form's powers leave the decimal range (very long terms at high rates).
     pub reconciliation: Option<Reconciliation>,
+    /// The caution, then the assumptions made and what they give.
     pub notes: Vec<String>,
     /// The date of the last payment, when dated.
     pub payoff_date: Option<jiff::civil::Date>,
     /// Against the same loan without extra payments, when there are extras.
     pub savings: Option<Savings>,
+    /// Payments and dates worth naming.
     pub milestones: Milestones,
     /// The posted plan with its closed-form segments (its rows are moved into `ledger`).
     pub plan: Plan,
-}
-
-impl LoanTerms {
-    /// Checks ranges that need more than one field.
-    ///
-    /// # Errors
-    /// Principal out of range, a payment with too many decimals, a term out of range.
-    pub fn check(&self) -> Result<()> {
-        check_principal(self.principal, self.currency)?;
-        match self.term {
-            LoanTerm::Payments(n) => check_payment_count(n, "term_payments"),
-            LoanTerm::Payment(p) => check_payment(p, self.currency),
-        }
-    }
-
-    /// The periodic rate i for the payment frequency.
-    ///
-    /// # Errors
-    /// An overflow of the compounding factor.
-    pub fn periodic_rate(&self) -> Result<Decimal> {
-        self.rate
-            .periodic_rate(
-                self.payment_frequency,
-                self.compounding.unwrap_or(self.payment_frequency),
-            )
-            .map_err(|e| e.at("annual_rate_percent"))
-    }
-
-    /// [`Self::periodic_rate`] as the exact ratio it rounds, when it is one
-    /// ([`AnnualRate::periodic_ratio`](super::rate::AnnualRate::periodic_ratio)).
-    pub fn periodic_ratio(&self) -> Option<(i128, i128)> {
-        self.rate.periodic_ratio(
-            self.payment_frequency,
-            self.compounding.unwrap_or(self.payment_frequency),
-        )
-    }
-}
-
-/// The principal alone: more than zero, at most 1,000,000,000,000, and in the
-/// currency's minor units.
-///
-/// # Errors
-/// Each out of range, naming `principal`.
-pub fn check_principal(principal: Decimal, currency: Currency) -> Result<()> {
-    if principal <= Decimal::ZERO {
-        return Err(EngineError::out_of_range(
-            "principal",
-            "the principal must be more than zero",
-        ));
-    }
-    if principal > MAX_PRINCIPAL {
-        return Err(EngineError::out_of_range(
-            "principal",
-            "the principal cannot exceed 1,000,000,000,000",
-        ));
-    }
-    if !currency.fits(principal) {
-        return Err(EngineError::out_of_range(
-            "principal",
-            too_many_decimals(currency),
-        ));
-    }
-    Ok(())
-}
-
-/// A number of payments alone: 1 to [`MAX_PAYMENTS`].
-///
-/// # Errors
-/// Out of range, naming `field`.
-pub fn check_payment_count(n: u32, field: &'static str) -> Result<()> {
-    if n == 0 || n > MAX_PAYMENTS {
-        return Err(EngineError::out_of_range(
-            field,
-            format!("the number of payments must be 1 to {MAX_PAYMENTS}"),
-        ));
-    }
-    Ok(())
-}
-
-/// A payment alone: more than zero, in the currency's minor units.
-///
-/// # Errors
-/// Out of range, naming `payment`.
-pub fn check_payment(payment: Decimal, currency: Currency) -> Result<()> {
-    if payment <= Decimal::ZERO {
-        return Err(EngineError::out_of_range(
-            "payment",
-            "the payment must be more than zero",
-        ));
-    }
-    if !currency.fits(payment) {
-        return Err(EngineError::out_of_range(
-            "payment",
-            too_many_decimals(currency),
-        ));
-    }
-    Ok(())
-}
-
-fn too_many_decimals(currency: Currency) -> String {
-    match currency.minor_units() {
-        0 => format!("{} amounts have no decimals", currency.code()),
-        1 => format!("{} amounts have at most 1 decimal", currency.code()),
-        n => format!("{} amounts have at most {n} decimals", currency.code()),
-    }
-}
-
-/// Number of payments in `months` months at `frequency`, when it is a whole number.
-///
-/// # Errors
-/// A term that is not a whole number of payments, or out of range.
-pub fn payments_in_months(months: u32, frequency: Frequency) -> Result<u32> {
-    let scaled = u64::from(months) * u64::from(frequency.per_year());
-    if scaled % 12 != 0 {
-        return Err(EngineError::out_of_range(
-            "term_months",
-            format!(
-                "{months} months is not a whole number of {} payments",
-                frequency.name()
-            ),
-        ));
-    }
-    let n = scaled / 12;
-    if n == 0 || n > u64::from(MAX_PAYMENTS) {
-        return Err(EngineError::out_of_range(
-            "term_months",
-            format!("the term must give 1 to {MAX_PAYMENTS} payments"),
-        ));
-    }
-    Ok(n as u32)
 }
 
 /// Solves and posts a level-payment loan.
@@ -531,13 +389,17 @@ fn closing_notes(terms: &LoanTerms, options: &PlanOptions, plan: &Plan) -> Vec<S
 /// what a disclosure check needs (see [`scheduled_payments`]).
 #[derive(Debug, Clone)]
 pub struct ScheduledPayments {
+    /// The terms, as given.
     pub terms: LoanTerms,
     /// The regular payment at the start of amortization.
     pub payment: Decimal,
+    /// The number of payments posted.
     pub number_of_payments: u32,
     /// The last payment, which absorbs the residue (or carries a balloon).
     pub final_payment: Decimal,
+    /// Everything paid: payments, extra payments and odd-days interest.
     pub total_paid: Decimal,
+    /// Every period's interest, odd-days interest included.
     pub total_interest: Decimal,
     /// Odd-days interest collected at closing (zero unless prepaid).
     pub prepaid_interest: Decimal,
@@ -584,7 +446,9 @@ pub fn scheduled_payments(terms: &LoanTerms, options: &PlanOptions) -> Result<Sc
 /// Interest and payments saved by extra payments, against the same loan without them.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Savings {
+    /// The interest the extra payments save.
     pub interest_saved: Decimal,
+    /// The payments they save.
     pub payments_saved: u32,
 }
 
@@ -700,7 +564,7 @@ mod tests {
         // the extra of 72.26 at payment 18 it rounds above the interest, without
         // it to the interest itself. The loan as asked repays.
         let mut t = terms("8702.41", "13.93", LoanTerm::Payments(360));
-        t.payment_frequency = Frequency::Quarterly;
+        t.payment_frequency = crate::engine::rate::Frequency::Quarterly;
         let o = PlanOptions {
             interest_only_payments: 18,
             extras: vec![crate::engine::plan::Extra::Recurring {
@@ -733,9 +597,12 @@ mod tests {
     }
 
     #[test]
-    fn term_months_must_be_whole_payments() {
-        assert_eq!(payments_in_months(360, Frequency::Biweekly).unwrap(), 780);
-        assert!(payments_in_months(13, Frequency::Biweekly).is_err());
-        assert!(payments_in_months(6001, Frequency::Monthly).is_err());
+    fn a_plan_without_options_posts_like_the_level_ledger() {
+        let t = terms("100000", "6", LoanTerm::Payments(360));
+        let p = crate::engine::plan::post(&t, &PlanOptions::default(), true).unwrap();
+        let l = schedule(&t).unwrap();
+        assert_eq!(p.rows.len(), l.ledger.rows.len());
+        assert_eq!(p.total_interest, l.ledger.total_interest);
+        assert_eq!(p.segments.len(), 1);
     }
 }

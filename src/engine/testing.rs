@@ -4,7 +4,17 @@ use rust_decimal::Decimal;
 
 use super::money::{Currency, InterestRounding, PaymentRounding};
 use super::rate::{AnnualRate, Frequency};
-use super::schedule::{LoanTerm, LoanTerms};
+use super::terms::{LoanTerm, LoanTerms};
+
+/// A decimal from its text.
+pub fn d(s: &str) -> Decimal {
+    s.parse().unwrap()
+}
+
+/// A monthly USD loan of `n` payments with the default roundings.
+pub fn level_loan(principal: &str, percent: &str, n: u32) -> LoanTerms {
+    loan_terms(principal, percent, LoanTerm::Payments(n))
+}
 
 /// A monthly USD loan with the default roundings.
 pub fn loan_terms(principal: &str, percent: &str, term: LoanTerm) -> LoanTerms {

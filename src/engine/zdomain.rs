@@ -22,22 +22,29 @@ use super::poly::{series_quotient, Poly};
 /// A pole of a rational function and how often it is repeated.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Pole {
+    /// Where the pole lies.
     pub at: Decimal,
+    /// How often it is repeated.
     pub multiplicity: u32,
 }
 
 /// A strictly proper rational function N(z) / Π (z − p)^m, denominator kept factored.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Rational {
+    /// N(z).
     pub numerator: Poly,
+    /// The poles of the denominator.
     pub poles: Vec<Pole>,
 }
 
 /// The partial fractions at one pole: `coefficients[j − 1]` belongs to 1/(z − p)^j.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PoleFractions {
+    /// The pole p.
     pub pole: Decimal,
+    /// Its multiplicity m.
     pub multiplicity: u32,
+    /// The coefficients of 1/(z − p)^j, j = 1 to m.
     pub coefficients: Vec<Decimal>,
 }
 
@@ -125,6 +132,7 @@ impl Rational {
 /// One term of a closed form: (polynomial in k) · pole^k, or an impulse when the pole is 0.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Mode {
+    /// The pole p (0 for impulses).
     pub pole: Decimal,
     /// Coefficients of the polynomial in k, ascending.
     pub polynomial: Vec<Decimal>,
@@ -133,6 +141,7 @@ pub struct Mode {
 /// x[k] = Σ (polynomial in k)·p^k + Σ c·δ[k − j], valid for every k ≥ 0.
 #[derive(Debug, Clone, PartialEq, Eq, Default)]
 pub struct ClosedForm {
+    /// The terms (polynomial in k)·p^k.
     pub modes: Vec<Mode>,
     /// (j, c): c·δ[k − j], from poles at z = 0.
     pub impulses: Vec<(u32, Decimal)>,
@@ -443,6 +452,54 @@ fn quick_f64(d: Decimal) -> f64 {
 /// A power beyond the decimal range.
 pub fn pow(p: Decimal, k: u32) -> Result<Decimal> {
     super::power::pow(p, k).or_overflow("a pole power")
+}
+
+impl ClosedForm {
+    /// x[k] in binary floating point: for estimates only, never for an answer.
+    pub fn estimate(&self, k: u32) -> f64 {
+        Estimator::new(self).at(k)
+    }
+}
+
+/// A closed form's coefficients and poles in binary floating point, converted
+/// once for a search that estimates x[k] at many k.
+pub(crate) struct Estimator {
+    modes: Vec<(Vec<f64>, f64)>,
+    impulses: Vec<(u32, f64)>,
+}
+
+impl Estimator {
+    pub(crate) fn new(cf: &ClosedForm) -> Self {
+        use rust_decimal::prelude::ToPrimitive;
+        let f = |d: &Decimal| d.to_f64().unwrap_or(0.0);
+        Self {
+            modes: cf
+                .modes
+                .iter()
+                .map(|m| (m.polynomial.iter().map(f).collect(), f(&m.pole)))
+                .collect(),
+            impulses: cf.impulses.iter().map(|(j, c)| (*j, f(c))).collect(),
+        }
+    }
+
+    /// x[k] in binary floating point.
+    pub(crate) fn at(&self, k: u32) -> f64 {
+        let kf = f64::from(k);
+        let mut total = 0.0;
+        for (polynomial, pole) in &self.modes {
+            let mut poly = 0.0;
+            for c in polynomial.iter().rev() {
+                poly = poly * kf + c;
+            }
+            total += poly * pole.powf(kf);
+        }
+        for (j, c) in &self.impulses {
+            if *j == k {
+                total += c;
+            }
+        }
+        total
+    }
 }
 
 #[cfg(test)]

@@ -1,131 +1,31 @@
-//! Loans whose terms change over time: dates and an odd first period, extra
-//! payments, an interest-only start, a balloon, rate steps, milestones.
-//!
-//! The posted ledger steps through the payments as a servicing system would
-//! (the only stepping there is). The closed form is found per segment: a run of
-//! payments over which the rate, the regular payment and the recurring extra stay
-//! the same, a lump sum or odd-days interest starting a segment of its own as an
-//! impulse. Each segment is solved from the previous segment's closed-form end
-//! balance, and the ledger is reconciled with the chain.
+//! The posted plan: the ledger stepped payment by payment as a servicing system
+//! would (the only stepping there is), with the summary a disclosure needs, and
+//! the closed-form segments solved alongside.
 
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
-use super::calendar::{due_dates, period_before, DayCount};
-use super::error::{EngineError, OrOverflow, Result};
-use super::ledger::{from_minor, to_minor, InterestPoster};
-use super::loan::{payment_for_term, MAX_PAYMENTS};
-use super::money::Currency;
-use super::rate::AnnualRate;
-use super::recurrence::{Input, Recurrence, Solution};
-use super::schedule::{LoanTerm, LoanTerms};
-use super::zdomain::ClosedForm;
-
-/// Where the odd first period's interest goes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum OddDaysInterest {
-    /// Added to the first payment.
-    #[default]
-    FirstPayment,
-    /// Collected at closing as prepaid interest.
-    Prepaid,
-}
-
-/// What a rate step keeps.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum RateChangeKeeps {
-    /// The remaining term: the payment is re-amortized.
-    #[default]
-    Term,
-    /// The payment: the term changes.
-    Payment,
-}
-
-/// An extra payment.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Extra {
-    /// `amount` with payments `from`, `from + every`, … up to `to` (or the end).
-    Recurring {
-        amount: Decimal,
-        from: u32,
-        to: Option<u32>,
-        every: u32,
-    },
-    /// `amount` once, with payment `at`.
-    Lump { amount: Decimal, at: u32 },
-}
-
-/// A new nominal annual rate from payment `at` on.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct RateChange {
-    pub at: u32,
-    pub rate: AnnualRate,
-}
-
-/// Everything a plan adds to level-loan terms.
-#[derive(Debug, Clone, PartialEq, Eq, Default)]
-pub struct PlanOptions {
-    pub funding_date: Option<Date>,
-    pub first_payment_date: Option<Date>,
-    pub day_count: DayCount,
-    pub odd_days_interest: OddDaysInterest,
-    pub extras: Vec<Extra>,
-    pub interest_only_payments: u32,
-    pub balloon_after_payments: Option<u32>,
-    pub rate_changes: Vec<RateChange>,
-    pub rate_change_keeps: RateChangeKeeps,
-    pub property_value: Option<Decimal>,
-}
+use super::options::{
+    check, extras_at, last_extra, Extra, OddDaysInterest, PlanOptions, RateChangeKeeps,
+};
+use super::segments::{reconcile, solve_segments, Segment};
+use crate::engine::calendar::{due_dates, period_before};
+use crate::engine::error::{EngineError, Result};
+use crate::engine::ledger::{from_minor, to_minor, InterestPoster};
+use crate::engine::loan::payment_for_term;
+use crate::engine::rate::AnnualRate;
+use crate::engine::terms::{LoanTerm, LoanTerms, MAX_PAYMENTS};
 
 /// One posted payment: the ledger's row (the schedule moves the plan's rows into
 /// its ledger rather than copying them).
-pub type PlanRow = super::ledger::Row;
-
-/// A run of payments solved by one closed form.
-#[derive(Debug, Clone)]
-pub struct Segment {
-    pub first_payment: u32,
-    pub last_payment: u32,
-    pub periodic_rate: Decimal,
-    /// Regular payment plus recurring extra, each period.
-    pub outflow: Decimal,
-    /// A lump sum or interest credit at the segment's first payment (negative: paid in).
-    pub impulse: Decimal,
-    pub solution: Solution,
-    /// The closed form's balance after the segment's last payment.
-    pub end_balance: Decimal,
-}
-
-/// A milestone: a payment number and its date.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Milestone {
-    pub payment: u32,
-    pub date: Option<Date>,
-}
-
-/// The milestones of a plan.
-#[derive(Debug, Clone, PartialEq, Eq, Default)]
-pub struct Milestones {
-    /// The first regular payment whose principal part exceeds its interest part
-    /// (the final payoff and a balloon are not regular payments).
-    pub principal_exceeds_interest: Option<Milestone>,
-    /// Scheduled balance first at or below 80 % of the original value (HPA borrower request).
-    pub balance_80_percent: Option<Milestone>,
-    /// Scheduled balance first at or below 78 % of the original value (HPA automatic termination).
-    pub balance_78_percent: Option<Milestone>,
-    /// The midpoint of the amortization period, and the first day of the next month.
-    pub midpoint: Option<Milestone>,
-    pub final_termination_date: Option<Date>,
-    /// Through payment 60 (or the whole term when shorter).
-    pub payments_counted: u32,
-    pub total_paid_60: Decimal,
-    pub principal_paid_60: Decimal,
-}
+pub type PlanRow = crate::engine::ledger::Row;
 
 /// Consecutive scheduled payments of the same amount.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct PaymentRun {
+    /// The amount of each payment.
     pub amount: Decimal,
+    /// How many in a row.
     pub count: u32,
 }
 
@@ -265,212 +165,33 @@ fn never_falls(k: u32, terms: &LoanTerms, pay: i128) -> EngineError {
 pub struct Plan {
     /// The posted rows (empty when posted by [`post_summary`]).
     pub rows: Vec<PlanRow>,
+    /// What a disclosure needs, gathered while posting.
     pub summary: PaymentSummary,
+    /// The closed-form segments (empty unless solved).
     pub segments: Vec<Segment>,
     /// The regular payment at the start of amortization (after any interest-only period).
     pub payment: Decimal,
+    /// Every payment, extra payment and odd-days interest paid.
     pub total_paid: Decimal,
+    /// Every period's interest, odd-days interest included.
     pub total_interest: Decimal,
+    /// The extra payments.
     pub total_extra: Decimal,
+    /// The balloon beyond the regular payment, when one falls due.
     pub balloon: Option<Decimal>,
     /// Odd-days interest (signed: a short first period gives a credit).
     pub odd_days: i64,
+    /// The odd-days interest, rounded to the minor unit.
     pub odd_days_interest: Decimal,
     /// The due date one regular period before the first payment, by the rule that
     /// dates the rows: the odd days run from funding to it.
     pub regular_period_start: Option<Date>,
+    /// Odd-days interest collected at closing (zero unless prepaid).
     pub prepaid_interest: Decimal,
+    /// The largest |posted − closed-form| balance and its payment; `None` when not reconciled.
     pub largest_drift: Option<(Decimal, u32)>,
+    /// What the posting assumed or ignored.
     pub notes: Vec<String>,
-}
-
-/// The expected work of posting a plan, in payment-segments: its payments (the
-/// longest schedule when the term is solved from a payment) times one plus the
-/// rules that can start a segment (extra payments and rate changes). The server
-/// weighs its in-flight limit by it.
-pub fn expected_work(terms: &LoanTerms, o: &PlanOptions) -> u64 {
-    let payments = match terms.term {
-        LoanTerm::Payments(n) => n,
-        LoanTerm::Payment(_) => MAX_PAYMENTS,
-    };
-    u64::from(payments) * (1 + o.extras.len() as u64 + o.rate_changes.len() as u64)
-}
-
-fn err(field: &'static str, message: impl Into<String>) -> EngineError {
-    EngineError::out_of_range(field, message)
-}
-
-/// Checks a plan's options against its terms.
-///
-/// # Errors
-/// Each inconsistency, naming its field.
-pub fn check(terms: &LoanTerms, o: &PlanOptions, n: u32) -> Result<()> {
-    if o.interest_only_payments >= n && o.interest_only_payments > 0 {
-        return Err(err(
-            "interest_only_payments",
-            "the interest-only period must be shorter than the term",
-        ));
-    }
-    if let Some(b) = o.balloon_after_payments {
-        if b == 0 || b >= n {
-            return Err(err(
-                "balloon_after_payments",
-                format!(
-                    "the balloon must fall due after 1 to {} payments (the term has {n})",
-                    n.saturating_sub(1)
-                ),
-            ));
-        }
-        if b <= o.interest_only_payments {
-            return Err(err(
-                "balloon_after_payments",
-                "the balloon must fall due after the interest-only period",
-            ));
-        }
-    }
-    let mut last = 1;
-    for (index, rc) in o.rate_changes.iter().enumerate() {
-        if rc.at < 2 || rc.at > n {
-            return Err(err(
-                "rate_changes",
-                format!(
-                    "rate change {}: `at` must be a payment from 2 to {n}",
-                    index + 1
-                ),
-            ));
-        }
-        if rc.at <= last {
-            return Err(err(
-                "rate_changes",
-                format!(
-                    "rate change {}: rate changes must be at increasing payments, without overlap",
-                    index + 1
-                ),
-            ));
-        }
-        last = rc.at;
-    }
-    for (index, e) in o.extras.iter().enumerate() {
-        match *e {
-            Extra::Recurring {
-                amount,
-                from,
-                to,
-                every,
-            } => {
-                if amount <= Decimal::ZERO || !terms.currency.fits(amount) {
-                    return Err(err(
-                        "extra_payments",
-                        format!(
-                            "extra payment {}: the amount must be more than zero, in minor units",
-                            index + 1
-                        ),
-                    ));
-                }
-                if from == 0 || every == 0 || to.is_some_and(|t| t < from) {
-                    return Err(err(
-                        "extra_payments",
-                        format!(
-                            "extra payment {}: needs 1 ≤ from ≤ to and every ≥ 1",
-                            index + 1
-                        ),
-                    ));
-                }
-            }
-            Extra::Lump { amount, at } => {
-                if amount <= Decimal::ZERO || !terms.currency.fits(amount) {
-                    return Err(err(
-                        "extra_payments",
-                        format!(
-                            "extra payment {}: the amount must be more than zero, in minor units",
-                            index + 1
-                        ),
-                    ));
-                }
-                if at == 0 {
-                    return Err(err(
-                        "extra_payments",
-                        format!(
-                            "extra payment {}: `at` must be a payment number from 1",
-                            index + 1
-                        ),
-                    ));
-                }
-            }
-        }
-    }
-    match (o.funding_date, o.first_payment_date) {
-        (Some(f), Some(p)) => {
-            if p <= f {
-                return Err(err(
-                    "first_payment_date",
-                    "the first payment must fall after funding",
-                ));
-            }
-            if DayCount::Actual365.days(f, p) > 366 {
-                return Err(err(
-                    "first_payment_date",
-                    "the first period cannot be longer than a year",
-                ));
-            }
-        }
-        (Some(_), None) => {
-            return Err(err(
-                "first_payment_date",
-                "give the first payment date with the funding date",
-            ))
-        }
-        _ => {}
-    }
-    if let Some(v) = o.property_value {
-        if v <= Decimal::ZERO {
-            return Err(err(
-                "property_value",
-                "the property value must be more than zero",
-            ));
-        }
-    }
-    Ok(())
-}
-
-/// The extra paid with payment k: (recurring every period, everything else as a lump).
-fn extras_at(extras: &[Extra], k: u32) -> (Decimal, Decimal) {
-    let (mut recurring, mut lump) = (Decimal::ZERO, Decimal::ZERO);
-    for e in extras {
-        match *e {
-            Extra::Recurring {
-                amount,
-                from,
-                to,
-                every,
-            } => {
-                if k >= from && to.is_none_or(|t| k <= t) && (k - from) % every == 0 {
-                    if every == 1 {
-                        recurring += amount;
-                    } else {
-                        lump += amount;
-                    }
-                }
-            }
-            Extra::Lump { amount, at } => {
-                if at == k {
-                    lump += amount;
-                }
-            }
-        }
-    }
-    (recurring, lump)
-}
-
-/// The payment number of the last scheduled extra (to tell when extras come after payoff).
-fn last_extra(extras: &[Extra]) -> Option<u32> {
-    extras
-        .iter()
-        .map(|e| match *e {
-            Extra::Recurring { from, to, .. } => to.unwrap_or(from),
-            Extra::Lump { at, .. } => at,
-        })
-        .max()
 }
 
 /// The scheduled number of payments: the term, or (given a payment) what a level
@@ -481,8 +202,8 @@ fn scheduled_payments(terms: &LoanTerms, i: Decimal) -> Result<u32> {
         LoanTerm::Payment(p) => {
             // The closed form checks that the payment repays at all; the posted
             // ledger, whose rounded interest may need a payment more, then counts.
-            super::loan::term_for_payment(terms.principal, i, p)?;
-            let l = super::ledger::post_level(
+            crate::engine::loan::term_for_payment(terms.principal, i, p)?;
+            let l = crate::engine::ledger::post_level(
                 terms.principal,
                 i,
                 terms.periodic_ratio(),
@@ -847,307 +568,14 @@ fn post_inner(
     })
 }
 
-/// Splits the posted payments (all but the final payoff) into closed-form segments.
-fn solve_segments(
-    principal: Decimal,
-    rows: &[PlanRow],
-    inputs: &[(u32, i128, i128, i128)],
-    rates: &[Decimal],
-    e: u32,
-) -> Result<Vec<Segment>> {
-    let regular_count = rows.len().saturating_sub(1);
-    let mut segments: Vec<Segment> = Vec::new();
-    let mut start_balance = principal;
-    let mut k = 0;
-    while k < regular_count {
-        let (rate, regular, recurring, lump) = inputs[k];
-        let i = rates[rate as usize];
-        let outflow = from_minor(regular + recurring, e);
-        // Odd-days interest raises payment and interest alike: the balance does not see it.
-        let impulse = -from_minor(lump, e);
-        let mut end = k + 1;
-        while end < regular_count {
-            let (i2, r2, rec2, l2) = inputs[end];
-            if i2 != rate || r2 != regular || rec2 != recurring || l2 != 0 {
-                break;
-            }
-            end += 1;
-        }
-        let mut recurrence_inputs = vec![Input::Step { amount: -outflow }];
-        if !impulse.is_zero() {
-            recurrence_inputs.push(Input::Impulse { amount: impulse });
-        }
-        let a = Decimal::ONE
-            .checked_add(i)
-            .or_overflow("the interest factor")?;
-        let solution = Recurrence {
-            a,
-            x0: start_balance,
-            inputs: recurrence_inputs,
-        }
-        .solve()?;
-        let len = (end - k) as u32;
-        let end_balance = solution.closed_form.eval(len)?;
-        segments.push(Segment {
-            first_payment: k as u32 + 1,
-            last_payment: end as u32,
-            periodic_rate: i,
-            outflow,
-            impulse,
-            solution,
-            end_balance,
-        });
-        start_balance = end_balance;
-        k = end;
-    }
-    Ok(segments)
-}
-
-/// The largest |posted balance − closed-form balance| and where, or `None` past the decimal range.
-fn reconcile(rows: &[PlanRow], segments: &[Segment]) -> Result<Option<(Decimal, u32)>> {
-    let mut largest: Option<(Decimal, u32)> = None;
-    for s in segments {
-        let len = s.last_payment - s.first_payment + 1;
-        let offset = s.first_payment as usize;
-        let found = match s
-            .solution
-            .closed_form
-            .largest_gap(len, |m| rows[offset + m as usize - 2].balance)
-        {
-            Ok(v) => v,
-            Err(e) if e.kind == super::error::ErrorKind::Overflow => return Ok(None),
-            Err(e) => return Err(e),
-        };
-        if let Some((drift, m)) = found {
-            if largest.is_none_or(|(d, _)| drift > d) {
-                largest = Some((drift, rows[offset + m as usize - 2].number));
-            }
-        }
-    }
-    Ok(largest)
-}
-
-impl ClosedForm {
-    /// x[k] in binary floating point: for estimates only, never for an answer.
-    pub fn estimate(&self, k: u32) -> f64 {
-        Estimator::new(self).at(k)
-    }
-}
-
-/// A closed form's coefficients and poles in binary floating point, converted
-/// once for a search that estimates x[k] at many k.
-struct Estimator {
-    modes: Vec<(Vec<f64>, f64)>,
-    impulses: Vec<(u32, f64)>,
-}
-
-impl Estimator {
-    fn new(cf: &ClosedForm) -> Self {
-        use rust_decimal::prelude::ToPrimitive;
-        let f = |d: &Decimal| d.to_f64().unwrap_or(0.0);
-        Self {
-            modes: cf
-                .modes
-                .iter()
-                .map(|m| (m.polynomial.iter().map(f).collect(), f(&m.pole)))
-                .collect(),
-            impulses: cf.impulses.iter().map(|(j, c)| (*j, f(c))).collect(),
-        }
-    }
-
-    /// x[k] in binary floating point.
-    fn at(&self, k: u32) -> f64 {
-        let kf = f64::from(k);
-        let mut total = 0.0;
-        for (polynomial, pole) in &self.modes {
-            let mut poly = 0.0;
-            for c in polynomial.iter().rev() {
-                poly = poly * kf + c;
-            }
-            total += poly * pole.powf(kf);
-        }
-        for (j, c) in &self.impulses {
-            if *j == k {
-                total += c;
-            }
-        }
-        total
-    }
-}
-
-/// The first m in lo..=hi with x[m] ≤ threshold (x falling), or `None`.
-///
-/// A floating-point bisection picks the candidate; the decimal closed form then
-/// confirms it exactly at m − 1 and m, moving it until both agree.
-///
-/// # Errors
-/// An overflow.
-pub fn first_at_or_below(
-    cf: &ClosedForm,
-    threshold: Decimal,
-    lo: u32,
-    hi: u32,
-) -> Result<Option<u32>> {
-    use rust_decimal::prelude::ToPrimitive;
-    if lo > hi || cf.eval(hi)? > threshold {
-        return Ok(None);
-    }
-    let t = threshold.to_f64().unwrap_or(0.0);
-    let estimator = Estimator::new(cf);
-    let (mut a, mut b) = (lo, hi);
-    while a < b {
-        let mid = a + (b - a) / 2;
-        if estimator.at(mid) <= t {
-            b = mid;
-        } else {
-            a = mid + 1;
-        }
-    }
-    let mut m = a;
-    for _ in 0..(hi - lo + 2) {
-        if cf.eval(m)? > threshold {
-            m += 1;
-        } else if m > lo && cf.eval(m - 1)? <= threshold {
-            m -= 1;
-        } else {
-            return Ok(Some(m));
-        }
-    }
-    Ok(Some(m))
-}
-
-/// The milestones of a posted plan; `base` is the same plan without extras (the
-/// initial amortization schedule of the Homeowners Protection Act).
-///
-/// # Errors
-/// An overflow.
-pub fn milestones(
-    plan: &Plan,
-    base: &Plan,
-    property_value: Option<Decimal>,
-    currency: Currency,
-) -> Result<(Milestones, Vec<String>)> {
-    let mut notes = Vec::new();
-    let mut out = Milestones::default();
-    let at = |rows: &[PlanRow], k: u32| Milestone {
-        payment: k,
-        date: rows.get(k as usize - 1).and_then(|r| r.date),
-    };
-    // The principal part first exceeds the interest part where x[k−1] < P/(2i).
-    'segments: for s in &plan.segments {
-        if s.periodic_rate.is_zero() {
-            out.principal_exceeds_interest = Some(at(&plan.rows, s.first_payment));
-            break;
-        }
-        let regular = plan.rows[s.first_payment as usize - 1].payment
-            - if s.first_payment == 1 {
-                plan.rows[0].interest - base.rows[0].interest.min(plan.rows[0].interest)
-            } else {
-                Decimal::ZERO
-            };
-        let threshold = regular / (Decimal::TWO * s.periodic_rate);
-        let len = s.last_payment - s.first_payment + 1;
-        if let Some(m) = first_at_or_below(&s.solution.closed_form, threshold, 0, len - 1)? {
-            // Confirm on the posted rows, whose interest is rounded.
-            let mut k = s.first_payment + m;
-            while (k as usize) <= plan.rows.len() {
-                let r = &plan.rows[k as usize - 1];
-                if r.principal - r.extra > r.interest {
-                    out.principal_exceeds_interest = Some(at(&plan.rows, k));
-                    break 'segments;
-                }
-                k += 1;
-            }
-        }
-    }
-    if let Some(v) = property_value {
-        let principal = base
-            .rows
-            .first()
-            .map_or(Decimal::ZERO, |r| r.balance + r.principal);
-        if v < principal {
-            notes.push("The property value is below the principal: the balance starts above 100 % of the original value.".into());
-        }
-        let find = |share: Decimal| -> Result<Option<Milestone>> {
-            let threshold = currency.round(
-                v * share,
-                rust_decimal::RoundingStrategy::MidpointAwayFromZero,
-            );
-            for s in &base.segments {
-                let len = s.last_payment - s.first_payment + 1;
-                if let Some(m) = first_at_or_below(&s.solution.closed_form, threshold, 1, len)? {
-                    let mut k = s.first_payment + m - 1;
-                    // Confirm on the posted initial schedule.
-                    while k > 1 && base.rows[k as usize - 2].balance <= threshold {
-                        k -= 1;
-                    }
-                    while (k as usize) < base.rows.len()
-                        && base.rows[k as usize - 1].balance > threshold
-                    {
-                        k += 1;
-                    }
-                    return Ok(Some(at(&base.rows, k)));
-                }
-            }
-            Ok(base
-                .rows
-                .iter()
-                .find(|r| r.balance <= threshold)
-                .map(|r| at(&base.rows, r.number)))
-        };
-        out.balance_80_percent = find(Decimal::new(80, 2))?;
-        out.balance_78_percent = find(Decimal::new(78, 2))?;
-        let n = base.rows.len() as u32;
-        let mid = n.div_ceil(2);
-        out.midpoint = Some(at(&base.rows, mid));
-        out.final_termination_date = out
-            .midpoint
-            .and_then(|m| m.date)
-            .and_then(first_of_next_month);
-        notes.push("Mortgage-insurance points follow the Homeowners Protection Act of 1998 (12 U.S.C. 4901–4902) on the initial amortization schedule; lender and investor rules may differ, and cancellation has conditions (payment history, value).".into());
-    }
-    let counted = plan.rows.len().min(60);
-    out.payments_counted = counted as u32;
-    out.total_paid_60 = plan.rows[..counted]
-        .iter()
-        .map(|r| r.payment + r.extra)
-        .sum();
-    out.principal_paid_60 = plan.rows[..counted].iter().map(|r| r.principal).sum();
-    Ok((out, notes))
-}
-
-fn first_of_next_month(d: Date) -> Option<Date> {
-    let (y, m) = if d.month() == 12 {
-        (d.year().checked_add(1)?, 1)
-    } else {
-        (d.year(), d.month() + 1)
-    };
-    Date::new(y, m, 1).ok()
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::engine::money::{InterestRounding, PaymentRounding};
-    use crate::engine::rate::Frequency;
+    use crate::engine::calendar::DayCount;
+    use crate::engine::money::InterestRounding;
+    use crate::engine::plan::options::RateChange;
+    use crate::engine::testing::{d, level_loan as terms};
     use jiff::civil::date;
-
-    fn d(s: &str) -> Decimal {
-        s.parse().unwrap()
-    }
-
-    fn terms(principal: &str, percent: &str, n: u32) -> LoanTerms {
-        LoanTerms {
-            principal: d(principal),
-            currency: Currency::USD,
-            rate: AnnualRate::from_percent(d(percent)).unwrap(),
-            payment_frequency: Frequency::Monthly,
-            compounding: None,
-            term: LoanTerm::Payments(n),
-            payment_rounding: PaymentRounding::Nearest,
-            interest_rounding: InterestRounding::HalfUp,
-        }
-    }
 
     fn total_principal(p: &Plan) -> Decimal {
         p.rows.iter().map(|r| r.principal).sum()
@@ -1180,16 +608,6 @@ mod tests {
         let p = post(&terms, &PlanOptions::default(), true).unwrap();
         assert_eq!(p.payment, d("250636.98"));
         assert_eq!(p.rows[0].payment, d("250636.98"));
-    }
-
-    #[test]
-    fn a_plan_without_options_posts_like_the_level_ledger() {
-        let t = terms("100000", "6", 360);
-        let p = post(&t, &PlanOptions::default(), true).unwrap();
-        let l = super::super::schedule::schedule(&t).unwrap();
-        assert_eq!(p.rows.len(), l.ledger.rows.len());
-        assert_eq!(p.total_interest, l.ledger.total_interest);
-        assert_eq!(p.segments.len(), 1);
     }
 
     #[test]
@@ -1237,7 +655,7 @@ mod tests {
         assert_eq!(p.rows.len(), 360);
         assert_eq!(
             p.payment,
-            super::super::loan::payment_for_term(d("120000"), d("0.006"), 348)
+            payment_for_term(d("120000"), d("0.006"), 348)
                 .unwrap()
                 .round_dp(2)
         );
@@ -1320,88 +738,5 @@ mod tests {
         let p = post(&t, &o, true).unwrap();
         assert_eq!(p.rows[0].payment, p.payment);
         assert_eq!(p.prepaid_interest, d("350.00"));
-    }
-
-    #[test]
-    fn inconsistent_options_name_their_fields() {
-        let t = terms("100000", "6", 360);
-        let cases = [
-            (
-                PlanOptions {
-                    interest_only_payments: 360,
-                    ..PlanOptions::default()
-                },
-                "interest_only_payments",
-            ),
-            (
-                PlanOptions {
-                    balloon_after_payments: Some(400),
-                    ..PlanOptions::default()
-                },
-                "balloon_after_payments",
-            ),
-            (
-                PlanOptions {
-                    rate_changes: vec![
-                        RateChange {
-                            at: 60,
-                            rate: AnnualRate::from_percent(d("7")).unwrap(),
-                        },
-                        RateChange {
-                            at: 60,
-                            rate: AnnualRate::from_percent(d("8")).unwrap(),
-                        },
-                    ],
-                    ..PlanOptions::default()
-                },
-                "rate_changes",
-            ),
-            (
-                PlanOptions {
-                    funding_date: Some(date(2027, 3, 1)),
-                    first_payment_date: Some(date(2027, 2, 1)),
-                    ..PlanOptions::default()
-                },
-                "first_payment_date",
-            ),
-            (
-                PlanOptions {
-                    funding_date: Some(date(2026, 1, 1)),
-                    first_payment_date: Some(date(2027, 2, 1)),
-                    ..PlanOptions::default()
-                },
-                "first_payment_date",
-            ),
-        ];
-        for (o, field) in cases {
-            assert_eq!(post(&t, &o, true).unwrap_err().field, Some(field));
-        }
-    }
-
-    #[test]
-    fn hpa_milestones_on_the_initial_schedule() {
-        // 12 U.S.C. 4901–4902: 80 % (request) and 78 % (automatic) of the original value on the
-        // initial amortization schedule; final termination the first day of the month after the
-        // midpoint. Property 250,000, loan 225,000 (90 %): thresholds 200,000 and 195,000.
-        let t = terms("225000", "6", 360);
-        let o = PlanOptions {
-            first_payment_date: Some(date(2027, 1, 1)),
-            property_value: Some(d("250000")),
-            ..PlanOptions::default()
-        };
-        let p = post(&t, &o, true).unwrap();
-        let base = post(&t, &o, false).unwrap();
-        let (m, _) = milestones(&p, &base, o.property_value, Currency::USD).unwrap();
-        let k80 = m.balance_80_percent.unwrap().payment as usize;
-        assert!(p.rows[k80 - 1].balance <= d("200000") && p.rows[k80 - 2].balance > d("200000"));
-        let k78 = m.balance_78_percent.unwrap().payment as usize;
-        assert!(p.rows[k78 - 1].balance <= d("195000") && p.rows[k78 - 2].balance > d("195000"));
-        assert_eq!(m.midpoint.unwrap().payment, 180);
-        assert_eq!(m.midpoint.unwrap().date, Some(date(2041, 12, 1)));
-        assert_eq!(m.final_termination_date, Some(date(2042, 1, 1)));
-        let kp = m.principal_exceeds_interest.unwrap().payment as usize;
-        assert!(p.rows[kp - 1].principal > p.rows[kp - 1].interest);
-        assert!(p.rows[kp - 2].principal <= p.rows[kp - 2].interest);
-        assert_eq!(m.payments_counted, 60);
     }
 }
