@@ -61,6 +61,8 @@ def strip(text):
     text = re.sub(r'r(#*)".*?"\1', '""', text, flags=re.S)
     text = re.sub(r'b?"(?:\\.|[^"\\])*"', '""', text, flags=re.S)
     text = re.sub(r"b?'(?:\\.|[^'\\])'", "' '", text)
+    # A visibility restriction names a module without importing it.
+    text = re.sub(r"pub\(in [^)]*\)", "pub", text)
     return text
 
 

@@ -202,8 +202,8 @@ fn first_of_next_month(d: Date) -> Option<Date> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::engine::plan::options::PlanOptions;
     use crate::engine::plan::posting::post;
-    use crate::engine::plan::PlanOptions;
     use crate::engine::terms::LoanTerm;
     use crate::engine::testing::loan_terms;
     use jiff::civil::date;
