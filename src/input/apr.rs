@@ -504,24 +504,10 @@ fn read_common(f: &mut Fields<'_>) -> Common {
         Some(Method::EuAprc) => Currency::parse("EUR").unwrap_or(Currency::USD),
         _ => Currency::USD,
     };
-    let currency = match f.text("currency") {
-        None if f.errors.iter().any(|e| e.pointer.ends_with("currency")) => None,
-        None => Some(default_currency),
-        Some(code) => {
-            let c = Currency::parse(code);
-            if c.is_none() {
-                let known: Vec<&str> = Currency::codes().collect();
-                f.error(
-                    "currency",
-                    format!(
-                        "is not a currency Residue knows; use one of {}",
-                        known.join(", ")
-                    ),
-                );
-            }
-            c
-        }
-    };
+    // An absent currency after an error on the field (a repeated parameter) is no currency.
+    let currency = f
+        .currency(default_currency)
+        .filter(|_| !f.errors.iter().any(|e| e.pointer.ends_with("currency")));
     let unit_period = match f.raw("unit_period") {
         None => None,
         Some(raw) => {

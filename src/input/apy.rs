@@ -129,16 +129,7 @@ fn money(f: &mut Fields<'_>, name: &'static str, currency: Currency) -> Option<D
 /// # Errors
 /// Every bad field with its pointer (or parameter name).
 pub fn read_apy(mut f: Fields<'_>) -> Result<ApyRequest, ApiError> {
-    let currency = match f.text("currency") {
-        None => Some(Currency::USD),
-        Some(code) => {
-            let c = Currency::parse(code);
-            if c.is_none() {
-                f.error("currency", "is not a currency Residue knows");
-            }
-            c
-        }
-    };
+    let currency = f.currency(Currency::USD);
     let present: Vec<usize> = FORMS
         .iter()
         .enumerate()

@@ -225,6 +225,30 @@ impl<'a> Fields<'a> {
         }
     }
 
+    /// The request's currency: `default` when the field is absent, `None` (with
+    /// the error recorded, naming the codes Residue knows) when it is unknown.
+    pub fn currency(
+        &mut self,
+        default: crate::engine::money::Currency,
+    ) -> Option<crate::engine::money::Currency> {
+        use crate::engine::money::Currency;
+        let Some(code) = self.text("currency") else {
+            return Some(default);
+        };
+        let c = Currency::parse(code);
+        if c.is_none() {
+            let known: Vec<&str> = Currency::codes().collect();
+            self.error(
+                "currency",
+                format!(
+                    "is not a currency Residue knows; use one of {}",
+                    known.join(", ")
+                ),
+            );
+        }
+        c
+    }
+
     /// One of the choices its table row lists (`group`'s field `name`), read
     /// with `parse` (the engine type's own names); an unknown name is refused
     /// with the allowed ones, in the table's order.

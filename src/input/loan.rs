@@ -168,23 +168,7 @@ pub const RATE_CHANGE: Table = Table {
 /// # Errors
 /// Every bad or missing field, each with its pointer; then any engine range error.
 pub fn read_loan_terms(f: &mut Fields<'_>) -> Option<LoanTerms> {
-    let currency = match f.text("currency") {
-        None => Some(Currency::USD),
-        Some(code) => {
-            let c = Currency::parse(code);
-            if c.is_none() {
-                let known: Vec<&str> = Currency::codes().collect();
-                f.error(
-                    "currency",
-                    format!(
-                        "is not a currency Residue knows; use one of {}",
-                        known.join(", ")
-                    ),
-                );
-            }
-            c
-        }
-    };
+    let currency = f.currency(Currency::USD);
     let principal = f.decimal("principal");
     let rate = f.decimal("annual_rate_percent");
     let payment_frequency = f

@@ -181,23 +181,7 @@ fn present_without_error(f: &Fields<'_>, name: &str) -> bool {
 /// Returns `None` when a field is bad or missing; every problem is recorded in `f`
 /// with its pointer, range problems of the engine included.
 pub fn read_savings_terms(f: &mut Fields<'_>) -> Option<SavingsTerms> {
-    let currency = match f.text("currency") {
-        None => Some(Currency::USD),
-        Some(code) => {
-            let c = Currency::parse(code);
-            if c.is_none() {
-                let known: Vec<&str> = Currency::codes().collect();
-                f.error(
-                    "currency",
-                    format!(
-                        "is not a currency Residue knows; use one of {}",
-                        known.join(", ")
-                    ),
-                );
-            }
-            c
-        }
-    };
+    let currency = f.currency(Currency::USD);
     let opening = f.decimal("opening_balance");
     let deposit = f.decimal("deposit");
     let withdrawal = f.decimal("withdrawal");
