@@ -143,39 +143,27 @@ fn calendar_error(field: &'static str) -> EngineError {
     EngineError::out_of_range(field, "a date leaves the calendar (years −9999 to 9999)")
 }
 
-/// The month `delta` months from (year, month).
-///
-/// # Errors
-/// A month outside the calendar, naming `field`.
-pub(crate) fn shift_month(
-    year: i16,
-    month: i8,
-    delta: i64,
-    field: &'static str,
-) -> Result<(i16, i8)> {
-    let index = i64::from(year) * 12 + i64::from(month) - 1 + delta;
-    let y = i16::try_from(index.div_euclid(12)).map_err(|_| calendar_error(field))?;
-    // rem_euclid(12) + 1 is 1 to 12: it fits an i8.
-    let m = i8::try_from(index.rem_euclid(12) + 1).map_err(|_| calendar_error(field))?;
-    Ok((y, m))
-}
-
-/// Day `day` of a month, or its last day when the month is shorter.
-///
-/// # Errors
-/// A date outside the calendar, naming `field`.
-pub(crate) fn day_in_month(year: i16, month: i8, day: i8, field: &'static str) -> Result<Date> {
-    let first = Date::new(year, month, 1).map_err(|_| calendar_error(field))?;
-    Date::new(year, month, day.min(first.days_in_month())).map_err(|_| calendar_error(field))
-}
-
-/// The day `date` + `months` months on day `anchor` (clamped to the month's last day).
+/// The day `date` + `months` months on day `anchor` of that month, clamped to
+/// the month's last day (31 January + 1 month on anchor 31 is 28 February; + 2
+/// months is 31 March). The months are counted by jiff's calendar arithmetic
+/// from the first of `date`'s month, so the clamp never carries from one month
+/// into the next.
 ///
 /// # Errors
 /// A date outside the calendar, naming `field`.
 pub(crate) fn add_months(date: Date, months: i64, anchor: i8, field: &'static str) -> Result<Date> {
-    let (y, m) = shift_month(date.year(), date.month(), months, field)?;
-    day_in_month(y, m, anchor, field)
+    let span = Span::new()
+        .try_months(months)
+        .map_err(|_| calendar_error(field))?;
+    let month = date
+        .first_of_month()
+        .checked_add(span)
+        .map_err(|_| calendar_error(field))?;
+    month
+        .with()
+        .day(anchor.clamp(1, month.days_in_month()))
+        .build()
+        .map_err(|_| calendar_error(field))
 }
 
 /// The due date `k` periods from `first` (k may be negative: k = −1 is the regular
@@ -372,9 +360,12 @@ mod tests {
     }
 
     #[test]
-    fn monthly_due_dates_agree_with_jiffs_calendar_arithmetic() {
-        // Reference: jiff's own month arithmetic (Date + Span::months(k) clamps the day to
-        // the month's end), a general-purpose date library; ours is computed separately.
+    fn monthly_due_dates_agree_with_month_index_arithmetic() {
+        // The engine counts months with jiff (from the first of the month, then
+        // clamps). The reference here is computed apart: whole months as an index
+        // year × 12 + month − 1, back to a year and month by Euclidean division,
+        // and the day clamped to the month's length; and jiff's own
+        // Date + Span::months(k) from the first date, which clamps the same way.
         for first in [
             date(2027, 1, 31),
             date(2027, 1, 30),
@@ -391,10 +382,14 @@ mod tests {
             ] {
                 let ours = due_dates(first, 120, frequency).unwrap();
                 for (k, d) in ours.iter().enumerate() {
-                    let reference = first
-                        .checked_add(Span::new().months(months * k as i64))
-                        .unwrap();
-                    assert_eq!(*d, reference, "{first} + {k} × {months} months");
+                    let shift = months * k as i64;
+                    let by_jiff = first.checked_add(Span::new().months(shift)).unwrap();
+                    assert_eq!(*d, by_jiff, "{first} + {k} × {months} months");
+                    let index = i64::from(first.year()) * 12 + i64::from(first.month()) - 1 + shift;
+                    let (year, month) = (index.div_euclid(12), index.rem_euclid(12) + 1);
+                    let length = date(year as i16, month as i8, 1).days_in_month();
+                    let by_index = date(year as i16, month as i8, first.day().min(length));
+                    assert_eq!(*d, by_index, "{first} + {k} × {months} months");
                 }
             }
             let weekly = due_dates(first, 300, Frequency::Biweekly).unwrap();

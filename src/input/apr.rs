@@ -7,7 +7,7 @@ use crate::engine::apr::{
 use crate::engine::loan::MAX_PAYMENTS;
 use crate::engine::money::Currency;
 use crate::engine::rate::Frequency;
-use crate::input::fields::{parse_decimal, Fields, Raw, Source};
+use crate::input::fields::{parse_date, parse_decimal, Fields, Raw, Source};
 use crate::input::json::Json;
 use crate::input::problem::{ApiError, FieldError};
 use jiff::civil::Date;
@@ -101,59 +101,6 @@ pub struct AprRequest {
 // ---------------------------------------------------------------------------
 // Small parsers shared by the JSON and query readers
 // ---------------------------------------------------------------------------
-
-const MONTHS: [&str; 12] = [
-    "January",
-    "February",
-    "March",
-    "April",
-    "May",
-    "June",
-    "July",
-    "August",
-    "September",
-    "October",
-    "November",
-    "December",
-];
-
-/// Parses an ISO 8601 calendar date `YYYY-MM-DD` (years 0001 to 9999), saying
-/// what is wrong with one that is not on the calendar ("2027-02-30").
-///
-/// # Errors
-/// A message for a person.
-pub fn parse_iso_date(text: &str) -> Result<Date, String> {
-    let b = text.as_bytes();
-    let shape = b.len() == 10
-        && b[4] == b'-'
-        && b[7] == b'-'
-        && b.iter()
-            .enumerate()
-            .all(|(i, c)| i == 4 || i == 7 || c.is_ascii_digit());
-    if !shape {
-        return Err(format!(
-            "must be a date written YYYY-MM-DD, not \"{}\"",
-            shorten(text)
-        ));
-    }
-    let number = |r: std::ops::Range<usize>| -> i16 { text[r].parse().unwrap_or(0) };
-    let (year, month, day) = (number(0..4), number(5..7), number(8..10));
-    if year == 0 {
-        return Err("must be a date from the year 0001 on".into());
-    }
-    if !(1..=12).contains(&month) {
-        return Err(format!("{text} has no month {month}: months run 01 to 12"));
-    }
-    let first = Date::new(year, month as i8, 1).map_err(|_| format!("{text} is not a date"))?;
-    let days = i16::from(first.days_in_month());
-    if day < 1 || day > days {
-        return Err(format!(
-            "{text} is not a day of the calendar: {} {year} has {days} days",
-            MONTHS[(month - 1) as usize]
-        ));
-    }
-    Date::new(year, month as i8, day as i8).map_err(|_| format!("{text} is not a date"))
-}
 
 /// A fraction of a unit-period: a decimal (`0.4`) or a ratio of whole numbers
 /// (`19/30`), at least 0 and less than 1.
@@ -308,7 +255,7 @@ fn read_json_flow(g: &mut Fields<'_>, currency: Currency) -> Option<FlowSpec> {
     });
     let read_date = |g: &mut Fields<'_>, name: &'static str| -> Option<Date> {
         let text = g.text(name)?;
-        match parse_iso_date(text) {
+        match parse_date(text) {
             Ok(d) => Some(d),
             Err(m) => {
                 g.error(name, m);
@@ -600,7 +547,7 @@ pub fn parse_flow_text(text: &str, currency: Currency) -> Result<FlowSpec, Strin
             Some((d, f)) => (d.trim(), Some(f.trim())),
             None => (right, None),
         };
-        let date = parse_iso_date(date_text)?;
+        let date = parse_date(date_text)?;
         return match (count, frequency_text) {
             (None, None) => Ok(FlowSpec::Dated(DatedFlow { amount, date })),
             (Some(count), Some(name)) => {

@@ -460,7 +460,31 @@ fn scale_exact(m: Decimal, exp: i32) -> Option<Decimal> {
     }
 }
 
-/// Parses an ISO 8601 calendar date (`YYYY-MM-DD`), years 1900 to 2200.
+/// The first and last years a request's date may fall in. Every date a request
+/// gives (a loan's funding and first payment, an extra payment's date, an APR
+/// flow, a savings plan's start) is read by [`parse_date`] and held to these
+/// years; the schedules a date starts may run on past the last one.
+pub const DATE_YEARS: (i16, i16) = (1900, 2200);
+
+const MONTH_NAMES: [&str; 12] = [
+    "January",
+    "February",
+    "March",
+    "April",
+    "May",
+    "June",
+    "July",
+    "August",
+    "September",
+    "October",
+    "November",
+    "December",
+];
+
+/// Parses an ISO 8601 calendar date (`YYYY-MM-DD`) in the years [`DATE_YEARS`]:
+/// the one date parser of every request. Its messages say what is wrong: the
+/// shape, the year, a month past 12, or a day the month does not have
+/// ("2027-02-30 is not a day of the calendar: February 2027 has 28 days").
 ///
 /// # Errors
 /// A message for a person.
@@ -478,13 +502,32 @@ pub fn parse_date(text: &str) -> Result<jiff::civil::Date, String> {
             shorten(text)
         ));
     }
-    let d: jiff::civil::Date = text
-        .parse()
-        .map_err(|_| format!("{} is not a day of the calendar", shorten(text)))?;
-    if !(1900..=2200).contains(&d.year()) {
-        return Err("must be a date from 1900 to 2200".into());
+    // The shape holds ten ASCII bytes with digits at these places: each number
+    // parses, and fits its type (at most 9999, 99, 99).
+    let number = |r: std::ops::Range<usize>| -> i16 { text[r].parse().unwrap_or(0) };
+    let (year, month, day) = (number(0..4), number(5..7), number(8..10));
+    let (first_year, last_year) = DATE_YEARS;
+    if !(first_year..=last_year).contains(&year) {
+        return Err(format!(
+            "must be a date from {first_year} to {last_year}, not {text}"
+        ));
     }
-    Ok(d)
+    let Some(name) = usize::try_from(month - 1)
+        .ok()
+        .and_then(|i| MONTH_NAMES.get(i))
+    else {
+        return Err(format!("{text} has no month {month}: months run 01 to 12"));
+    };
+    let month = month as i8;
+    let days = jiff::civil::Date::new(year, month, 1)
+        .map_err(|_| format!("{text} is not a date"))?
+        .days_in_month();
+    if day < 1 || day > i16::from(days) {
+        return Err(format!(
+            "{text} is not a day of the calendar: {name} {year} has {days} days"
+        ));
+    }
+    jiff::civil::Date::new(year, month, day as i8).map_err(|_| format!("{text} is not a date"))
 }
 
 fn shorten(s: &str) -> String {
@@ -498,6 +541,53 @@ fn shorten(s: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The one date parser: ISO 8601 calendar dates (the proleptic Gregorian
+    /// calendar's leap years: 2024 and 2000 are leap years, 1900 and 2100 are not;
+    /// ISO 8601-1:2019, from memory), held to [`DATE_YEARS`], each refusal saying why.
+    #[test]
+    fn dates_are_iso_calendar_dates_and_refusals_say_why() {
+        let day = |s: &str| parse_date(s).map(|d| d.to_string());
+        for good in [
+            "1978-01-10",
+            "2024-02-29",
+            "2000-02-29",
+            "1900-01-01",
+            "2200-12-31",
+        ] {
+            assert_eq!(day(good).as_deref(), Ok(good));
+        }
+        let why = |s: &str| parse_date(s).unwrap_err();
+        assert!(
+            why("2027-02-30").contains("February 2027 has 28 days"),
+            "{}",
+            why("2027-02-30")
+        );
+        assert!(why("1900-02-29").contains("February 1900 has 28 days"));
+        assert!(why("2100-02-29").contains("February 2100 has 28 days"));
+        assert!(why("2027-04-31").contains("April 2027 has 30 days"));
+        assert!(why("2027-13-01").contains("no month 13"));
+        assert!(why("2027-00-10").contains("no month 0"));
+        assert!(why("2027-02-00").contains("February 2027 has 28 days"));
+        assert!(why("1899-12-31").contains("from 1900 to 2200"));
+        assert!(why("0000-01-01").contains("from 1900 to 2200"));
+        assert!(why("2201-01-01").contains("from 1900 to 2200"));
+        for shape in [
+            "27-2-3",
+            "2027-3-01",
+            "20270301",
+            "",
+            "2027-03-01T00:00",
+            "10000-01-01",
+            "２０２７-03-01",
+        ] {
+            assert!(
+                why(shape).starts_with("must be a date written YYYY-MM-DD"),
+                "{shape}: {}",
+                why(shape)
+            );
+        }
+    }
 
     fn d(s: &str) -> Decimal {
         s.parse().unwrap()

@@ -7,9 +7,8 @@ use crate::engine::savings::{
     check_amount, check_periods, periods_in_months, Flow, Growth, GrowthEvery, Question,
     SavingsTerms, Timing,
 };
-use crate::input::fields::Fields;
+use crate::input::fields::{parse_date, Fields};
 use crate::input::problem::{ApiError, FieldError};
-use jiff::civil::Date;
 use rust_decimal::Decimal;
 
 use super::table::{
@@ -153,23 +152,6 @@ pub const SAVINGS: Table = Table {
     except: &[],
     all_optional: false,
 };
-
-/// A date written as ISO 8601 `YYYY-MM-DD`, and a real calendar date.
-fn parse_date(text: &str) -> Result<Date, String> {
-    let b = text.as_bytes();
-    let shaped = b.len() == 10
-        && b[4] == b'-'
-        && b[7] == b'-'
-        && b.iter()
-            .enumerate()
-            .all(|(i, c)| i == 4 || i == 7 || c.is_ascii_digit());
-    if !shaped {
-        return Err("must be a date written YYYY-MM-DD (ISO 8601), e.g. 2027-03-01".into());
-    }
-    let number = |range: std::ops::Range<usize>| text[range].parse::<i16>().unwrap_or(0);
-    let (y, m, d) = (number(0..4), number(5..7), number(8..10));
-    Date::new(y, m as i8, d as i8).map_err(|_| format!("{text} is not a date of the calendar"))
-}
 
 fn present_without_error(f: &Fields<'_>, name: &str) -> bool {
     let pointer = f.pointer(name);
@@ -395,21 +377,6 @@ pub fn savings_terms_from(mut f: Fields<'_>) -> Result<SavingsTerms, ApiError> {
 mod tests {
     use super::*;
     use crate::input::fields::Source;
-
-    #[test]
-    fn dates_must_be_iso_calendar_dates() {
-        assert_eq!(parse_date("2027-03-01").unwrap().to_string(), "2027-03-01");
-        for bad in [
-            "2027-3-01",
-            "20270301",
-            "2027-02-30",
-            "2027-13-01",
-            "",
-            "2027-03-01T00:00",
-        ] {
-            assert!(parse_date(bad).is_err(), "{bad}");
-        }
-    }
 
     #[test]
     fn exactly_enough_fields_fix_the_unknown() {

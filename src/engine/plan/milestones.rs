@@ -191,12 +191,7 @@ pub fn milestones(
 }
 
 fn first_of_next_month(d: Date) -> Option<Date> {
-    let (y, m) = if d.month() == 12 {
-        (d.year().checked_add(1)?, 1)
-    } else {
-        (d.year(), d.month() + 1)
-    };
-    Date::new(y, m, 1).ok()
+    crate::engine::calendar::add_months(d, 1, 1, "first_payment_date").ok()
 }
 
 #[cfg(test)]
