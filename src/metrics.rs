@@ -26,6 +26,8 @@ pub struct Metrics {
     routes: Mutex<BTreeMap<String, Route>>,
     problems: Mutex<BTreeMap<&'static str, u64>>,
     batch_lines: AtomicU64,
+    /// Rows of checked files, by verdict: ok, differs, error.
+    pipeline_rows: [AtomicU64; 3],
     in_flight_refused: AtomicU64,
     cache_hits: AtomicU64,
 }
@@ -65,6 +67,13 @@ impl Metrics {
 
     pub fn add_batch_lines(&self, n: u64) {
         self.batch_lines.fetch_add(n, Ordering::Relaxed);
+    }
+
+    /// Counts rows of a checked file by verdict (`ok`, `differs`, `error`).
+    pub fn add_pipeline_rows(&self, counts: [u64; 3]) {
+        for (slot, n) in self.pipeline_rows.iter().zip(counts) {
+            slot.fetch_add(n, Ordering::Relaxed);
+        }
     }
 
     /// The text exposition format (version 0.0.4).
@@ -119,6 +128,14 @@ impl Metrics {
             "residue_batch_lines_total {}",
             self.batch_lines.load(Ordering::Relaxed)
         );
+        out.push_str("# HELP residue_pipeline_rows_total Rows of checked files (POST /api/v1/loans/checks), by verdict.\n# TYPE residue_pipeline_rows_total counter\n");
+        for (status, n) in ["ok", "differs", "error"].iter().zip(&self.pipeline_rows) {
+            let _ = writeln!(
+                out,
+                "residue_pipeline_rows_total{{status=\"{status}\"}} {}",
+                n.load(Ordering::Relaxed)
+            );
+        }
         out.push_str("# HELP residue_answer_cache_hits_total GET answers served from the answer store.\n# TYPE residue_answer_cache_hits_total counter\n");
         let _ = writeln!(
             out,
@@ -147,6 +164,7 @@ mod tests {
         m.record("/healthz", 200, Duration::from_millis(20));
         m.record_problem("invalid-fields");
         m.add_batch_lines(3);
+        m.add_pipeline_rows([5, 2, 1]);
         let text = m.render();
         assert!(text.contains("residue_requests_total{route=\"/healthz\",status=\"200\"} 2"));
         assert!(text.contains(
@@ -156,5 +174,6 @@ mod tests {
             .contains("residue_request_duration_seconds_bucket{route=\"/healthz\",le=\"+Inf\"} 2"));
         assert!(text.contains("residue_problems_total{type=\"invalid-fields\"} 1"));
         assert!(text.contains("residue_batch_lines_total 3"));
+        assert!(text.contains("residue_pipeline_rows_total{status=\"differs\"} 2"));
     }
 }

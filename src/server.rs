@@ -76,6 +76,10 @@ pub fn app(state: AppState) -> Router {
         ))
         // Outside the in-flight limit: batches have their own, health and metrics none.
         .route("/api/v1/batch", post(crate::api::batch::batch_post))
+        .route(
+            "/api/v1/loans/checks",
+            post(crate::api::checks::checks_post),
+        )
         .route("/healthz", get(handlers::healthz))
         .route("/readyz", get(handlers::readyz))
         .route("/metrics", get(metrics))

@@ -5,5 +5,6 @@
 pub mod check;
 pub mod compare;
 pub mod derivation;
+pub mod pipeline;
 pub mod savings;
 pub mod text;

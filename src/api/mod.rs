@@ -4,6 +4,7 @@ pub mod apr;
 pub mod apy;
 pub mod batch;
 pub mod check;
+pub mod checks;
 pub mod csv;
 
 pub mod emit;

@@ -77,6 +77,8 @@ pub enum Answer {
     Csv,
     /// `application/x-ndjson`, one [`BatchAnswerLine`] a line.
     Ndjson,
+    /// A file's verdicts: `text/csv` (default) or `application/x-ndjson`.
+    Verdicts,
     /// Prometheus text.
     Prometheus,
     /// The OpenAPI document.
@@ -93,6 +95,8 @@ pub enum Example {
     Body(fn() -> Value),
     /// NDJSON lines.
     Ndjson(&'static str),
+    /// A CSV file.
+    Csv(&'static str),
 }
 
 /// One operation of the API.
@@ -140,6 +144,8 @@ fn recurrence_body() -> Value {
 fn savings_body() -> Value {
     json!({"annual_rate_percent": "4", "goal": "10000", "term_months": 12, "start_date": "2027-01-01"})
 }
+
+const CHECKS_EXAMPLE: &str = "id,principal,annual_rate_percent,term_months,quoted_payment,quoted_apr_percent,prepaid_finance_charges.origination\r\nWillowmere-17,100000,6,360,599.55,6.1,1000\r\nQuarry Lane 4,240000,6.5,360,1517.40,6.5,\r\n";
 
 const BATCH_EXAMPLE: &str = concat!(
     r#"{"id": 1, "job": "loan_check", "request": {"principal": "100000", "annual_rate_percent": "6", "term_months": 360, "quoted_payment": "599.55"}}"#,
@@ -304,6 +310,15 @@ pub const OPERATIONS: &[Operation] = &[
         example: Example::Ndjson(BATCH_EXAMPLE),
     },
     Operation {
+        method: "post",
+        path: "/api/v1/loans/checks",
+        id: "checks_post",
+        summary: "A whole file of quotes checked: CSV in (RFC 4180, UTF-8, comma or semicolon separated; a header of `id` and the LoanCheckRequest fields, as in the check's query string, plus `prepaid_finance_charges.NAME` columns; an empty cell is a field not given), one verdict a row out in order, as CSV (default) or NDJSON (`Accept: application/x-ndjson`). Unknown columns are refused up front (422). Limits: 100,000 rows, 32 MiB, 120 s of computing (an answer cut short ends with a row saying how many rows were answered). The header residue-rows gives the count of rows; nothing is stored",
+        request: Some("LoanCheckRequest"),
+        answer: Answer::Verdicts,
+        example: Example::Csv(CHECKS_EXAMPLE),
+    },
+    Operation {
         method: "get",
         path: "/api/openapi.json",
         id: "openapi",
@@ -372,11 +387,18 @@ fn responses(op: &Operation) -> Value {
             "schema": {"type": "string", "description": "One BatchAnswerLine a line"},
             "x-line-schema": {"$ref": "#/components/schemas/BatchAnswerLine"}
         }}),
+        Answer::Verdicts => json!({
+            "text/csv": {"schema": {"type": "string", "description": format!("RFC 4180, CRLF line ends, a header row then one row a file row: {}. status is ok, differs or error; booleans true/false; empty where a figure does not apply; a text cell a spreadsheet would take for a formula starts with '", crate::api::checks::COLUMNS.join(", "))}},
+            "application/x-ndjson": {"schema": {"type": "string", "description": "One object a file row, with the CSV's columns as members (figures as strings, booleans, null where a figure does not apply) and the caution"}}
+        }),
         Answer::Prometheus => json!({"text/plain": {"schema": {"type": "string"}}}),
         Answer::OpenApi => json!({"application/json": {"schema": {"type": "object"}}}),
     };
     let mut ok = json!({"description": "The answer", "content": content});
-    if matches!(op.answer, Answer::JsonOrCsv(_) | Answer::Csv) {
+    if matches!(
+        op.answer,
+        Answer::JsonOrCsv(_) | Answer::Csv | Answer::Verdicts
+    ) {
         // A line of text in the file would be imported as a row of the table.
         ok["headers"] = json!({crate::api::handlers::CAUTION_HEADER: {
             "description": "With a CSV answer: the caution (estimates, not an offer, disclosure or advice) that a JSON answer leads its notes with",
@@ -528,7 +550,13 @@ pub fn document() -> Value {
                 o["parameters"] = Value::Array(params);
             }
         } else if let Some(schema) = op.request {
-            let (media, mut content) = if op.answer == Answer::Ndjson {
+            let (media, mut content) = if op.answer == Answer::Verdicts {
+                (
+                    "text/csv",
+                    json!({"schema": {"type": "string", "description": format!("RFC 4180: a header row of id and {schema} fields, then one row a quote")},
+                           "x-row-schema": {"$ref": format!("#/components/schemas/{schema}")}}),
+                )
+            } else if op.answer == Answer::Ndjson {
                 (
                     "application/x-ndjson",
                     json!({"schema": {"type": "string", "description": "One BatchLine a line"},
@@ -542,7 +570,7 @@ pub fn document() -> Value {
             };
             match op.example {
                 Example::Body(f) => content["example"] = f(),
-                Example::Ndjson(text) => content["example"] = json!(text),
+                Example::Ndjson(text) | Example::Csv(text) => content["example"] = json!(text),
                 _ => {}
             }
             o["requestBody"] = json!({"required": true, "content": {media: content}});
@@ -579,6 +607,11 @@ fn example_request(op: &Operation, csv: bool) -> Option<Request<Body>> {
         Example::Ndjson(text) => builder
             .uri(op.path)
             .header(header::CONTENT_TYPE, "application/x-ndjson")
+            .body(Body::from(text))
+            .ok(),
+        Example::Csv(text) => builder
+            .uri(op.path)
+            .header(header::CONTENT_TYPE, "text/csv")
             .body(Body::from(text))
             .ok(),
     }
@@ -629,6 +662,11 @@ pub async fn document_with_examples(app: Router) -> Value {
             Answer::Ndjson => {
                 if let Some(text) = answer_text(op, false, &app).await {
                     content["application/x-ndjson"]["example"] = json!(text);
+                }
+            }
+            Answer::Verdicts => {
+                if let Some(text) = answer_text(op, true, &app).await {
+                    content["text/csv"]["example"] = json!(text);
                 }
             }
             Answer::Prometheus => {

@@ -343,7 +343,7 @@ pub fn with_example(message: String, name: &str) -> String {
 /// ("250,000", "1 250.50"), the first group of one to three digits and not
 /// starting with 0. Anything else is refused rather than guessed at: "6,5" is a
 /// decimal comma (6.5, not 65), "1,5" is not 15.
-fn ungroup(text: &str) -> Result<String, String> {
+pub(crate) fn ungroup(text: &str) -> Result<String, String> {
     let separator = |c: char| matches!(c, ',' | ' ' | '\u{a0}' | '_');
     if !text.contains(separator) {
         return Ok(text.to_string());

@@ -21,6 +21,7 @@ pub mod home;
 pub mod loan;
 pub mod mathml;
 pub mod page;
+pub mod pipeline;
 pub mod savings;
 pub mod scenarios;
 pub mod view;
@@ -62,6 +63,8 @@ pub fn routes() -> Router<AppState> {
         .route("/compare", get(compare::page))
         .route("/check", get(check::page))
         .route("/savings", get(savings::page))
+        .route("/pipeline", get(pipeline::page).post(pipeline::post))
+        .route("/pipeline/template.csv", get(pipeline::template))
         .route("/about", get(about::page))
         .route("/api", get(api_guide::page))
         .route("/static/residue.css", get(stylesheet))

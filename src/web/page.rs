@@ -7,11 +7,12 @@ use axum::response::{Html, IntoResponse, Response};
 use crate::engine::schedule::CAUTION;
 
 /// The pages in the navigation, in order: (path, name).
-pub const NAV: [(&str, &str); 7] = [
+pub const NAV: [(&str, &str); 8] = [
     ("/", "Home"),
     ("/loan", "Loan schedule"),
     ("/compare", "Compare plans"),
     ("/check", "Check a quote"),
+    ("/pipeline", "Check a pipeline"),
     ("/savings", "Savings plan"),
     ("/about", "The method"),
     ("/api", "API guide"),
