@@ -1,6 +1,8 @@
 // Residue: small progressive enhancements; every page works without this file.
 // 1. Empty fields are left out of the submitted address, so shared links stay short.
 // 2. Every year of a schedule is unfolded before printing, and folded back after.
+// 3. The pipeline page posts its file to the API and shows the verdicts as they
+//    stream in, with a progress bar; without this, its form posts to the page.
 (function () {
   "use strict";
   document.addEventListener("submit", function (event) {
@@ -25,4 +27,164 @@
     reopened.forEach(function (d) { d.open = false; });
     reopened = [];
   });
+
+  var form = document.getElementById("pipeline-form");
+  if (form && window.fetch && window.TextDecoder && window.ReadableStream) {
+    var SHOWN_OK = 500;
+    var live = document.getElementById("pipeline-live");
+    var bar = document.getElementById("pipeline-progress");
+    var count = document.getElementById("pipeline-count");
+    var result = document.getElementById("pipeline-result");
+    var cell = function (tr, text) {
+      var td = document.createElement("td");
+      td.textContent = text == null ? "" : text;
+      tr.appendChild(td);
+      return td;
+    };
+    var pair = function (a, b) { return (a || "") + (b ? " / " + b : ""); };
+    var row = function (v) {
+      var tr = document.createElement("tr");
+      tr.className = v.status;
+      cell(tr, v.id); cell(tr, v.line); cell(tr, v.status);
+      cell(tr, pair(v.computed_payment, v.quoted_payment));
+      cell(tr, pair(v.apr_percent, v.quoted_apr_percent));
+      cell(tr, v.reason);
+      var td = cell(tr, "");
+      if (v.check_url) {
+        var a = document.createElement("a");
+        a.href = v.check_url; a.textContent = "open";
+        td.appendChild(a);
+      }
+      return tr;
+    };
+    var body = function () {
+      var file = document.getElementById("pipeline-file").files[0];
+      if (file) return file;
+      var text = document.getElementById("pipeline-rows").value;
+      return text.trim() ? new Blob([text], { type: "text/csv" }) : null;
+    };
+    var show = function (html) {
+      result.hidden = false;
+      result.innerHTML = "";
+      result.appendChild(html);
+    };
+    var problem = function (p) {
+      var box = document.createElement("div");
+      box.className = "problem";
+      box.setAttribute("role", "alert");
+      var h = document.createElement("h2");
+      h.textContent = "The file was not checked";
+      var d = document.createElement("p");
+      d.textContent = p.detail || "The file could not be checked.";
+      box.appendChild(h); box.appendChild(d);
+      if (p.errors && p.errors.length) {
+        var ul = document.createElement("ul");
+        p.errors.forEach(function (e) {
+          var li = document.createElement("li");
+          li.textContent = e.pointer + ": " + e.message;
+          ul.appendChild(li);
+        });
+        box.appendChild(ul);
+      }
+      show(box);
+    };
+    form.addEventListener("submit", function (event) {
+      if (event.submitter && event.submitter.getAttribute("formaction")) return;
+      var file = body();
+      if (!file) return; // the page itself names the missing file
+      event.preventDefault();
+      var failing = [], holding = [], counts = { ok: 0, differs: 0, error: 0 }, seen = 0;
+      live.hidden = false;
+      bar.value = 0;
+      count.textContent = "";
+      var frag = document.createElement("div");
+      var summary = document.createElement("dl");
+      summary.className = "summary";
+      summary.id = "pipeline-summary";
+      var table = document.createElement("table");
+      table.className = "verdicts";
+      table.id = "pipeline-table";
+      table.innerHTML = "<caption>Differing rows first, then rows not read, then rows that hold</caption><thead><tr><th scope=\"col\">Id</th><th scope=\"col\">Line</th><th scope=\"col\">Verdict</th><th scope=\"col\">Payment (computed / quoted)</th><th scope=\"col\">APR % (computed / quoted)</th><th scope=\"col\">Reason</th><th scope=\"col\">Check</th></tr></thead>";
+      var tbody = document.createElement("tbody");
+      table.appendChild(tbody);
+      var wrap = document.createElement("div");
+      wrap.className = "table-wrap";
+      wrap.appendChild(table);
+      var h2 = document.createElement("h2");
+      h2.id = "result-title";
+      h2.textContent = "The verdicts";
+      frag.appendChild(h2); frag.appendChild(summary); frag.appendChild(wrap);
+      var fillSummary = function () {
+        summary.innerHTML = "";
+        [["Rows read", "rows", seen], ["Quotes that hold", "ok", counts.ok],
+         ["Quotes that differ", "differs", counts.differs], ["Rows not read", "error", counts.error]]
+          .forEach(function (x) {
+            var div = document.createElement("div");
+            var dt = document.createElement("dt"); dt.textContent = x[0];
+            var dd = document.createElement("dd"); dd.textContent = String(x[2]);
+            dd.setAttribute("data-count", x[1]);
+            div.appendChild(dt); div.appendChild(dd); summary.appendChild(div);
+          });
+      };
+      var take = function (v) {
+        if (v.line == null) { failing.push(v); counts.error += 1; return; }
+        seen += 1;
+        counts[v.status] = (counts[v.status] || 0) + 1;
+        if (v.status === "ok") {
+          if (holding.length < SHOWN_OK) holding.push(v);
+        } else {
+          failing.push(v);
+          tbody.appendChild(row(v)); // failures show as soon as they arrive
+        }
+      };
+      show(frag);
+      fetch("/api/v1/loans/checks", {
+        method: "POST",
+        headers: { "content-type": "text/csv", "accept": "application/x-ndjson" },
+        body: file
+      }).then(function (response) {
+        if (!response.ok) {
+          return response.json().then(problem, function () {
+            problem({ detail: "The server answered " + response.status + "." });
+          });
+        }
+        var total = Number(response.headers.get("residue-rows")) || 0;
+        bar.max = Math.max(total, 1);
+        var reader = response.body.getReader();
+        var decoder = new TextDecoder();
+        var pending = "";
+        var step = function () {
+          return reader.read().then(function (chunk) {
+            if (chunk.done) {
+              if (pending.trim()) take(JSON.parse(pending));
+              tbody.innerHTML = "";
+              failing.sort(function (a, b) {
+                var order = { differs: 0, error: 1 };
+                return (order[a.status] - order[b.status]) || ((a.line || 0) - (b.line || 0));
+              });
+              failing.concat(holding).forEach(function (v) { tbody.appendChild(row(v)); });
+              if (counts.ok > holding.length) {
+                table.querySelector("caption").textContent += " (the first " + holding.length + " that hold; the download has all " + seen + ")";
+              }
+              fillSummary();
+              bar.value = bar.max;
+              count.textContent = seen + " of " + total + " rows: done";
+              return;
+            }
+            pending += decoder.decode(chunk.value, { stream: true });
+            var lines = pending.split("\n");
+            pending = lines.pop();
+            lines.forEach(function (l) { if (l.trim()) take(JSON.parse(l)); });
+            bar.value = seen;
+            count.textContent = seen + " of " + total + " rows";
+            fillSummary();
+            return step();
+          });
+        };
+        return step();
+      }).catch(function () {
+        problem({ detail: "The connection broke off after " + seen + " rows; check the rest again." });
+      });
+    });
+  }
 })();

@@ -3,7 +3,7 @@
 //! verdicts as CSV or NDJSON and the `/pipeline` page as a table; both take them
 //! from here.
 
-use crate::input::csv::{row_fields, Header};
+use crate::input::csv::{row_fields, row_id, Header};
 use crate::input::fields::{Fields, Source};
 use crate::input::problem::ApiError;
 
@@ -212,8 +212,7 @@ pub fn check_row(header: &Header, record: &str, line: usize) -> RowVerdict {
     let row = match row_fields(header, record) {
         Ok(r) => r,
         Err(message) => {
-            let mut v = RowVerdict::empty(String::new(), line);
-            // The id, when the row's first cells can be read as far as it.
+            let mut v = RowVerdict::empty(row_id(header, record), line);
             v.reason = format!("line {line}: {message}");
             return v;
         }

@@ -398,6 +398,20 @@ pub fn ungroup_quoted(text: &str, separator: u8) -> Result<String, String> {
     ungroup(text.trim()).map_err(|_| ambiguous())
 }
 
+/// A row's id cell, when its cells can be split (a row with too many cells
+/// still names itself); empty otherwise.
+pub fn row_id(header: &Header, record: &str) -> String {
+    let at = header.columns.iter().position(|c| *c == Column::Id);
+    match (cells(record, header.separator), at) {
+        (Ok(cells), Some(at)) => cells
+            .into_iter()
+            .nth(at)
+            .map(|c| c.text)
+            .unwrap_or_default(),
+        _ => String::new(),
+    }
+}
+
 /// Reads one row's cells as the check's fields.
 ///
 /// # Errors

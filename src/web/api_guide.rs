@@ -145,6 +145,17 @@ fn operations(base: &str) -> Vec<Operation> {
             page: "/about",
         },
         Operation {
+            id: "checks",
+            title: "A pipeline of quotes from a CSV file",
+            method_path: "POST /api/v1/loans/checks (Content-Type: text/csv)",
+            words: "A file of quotes, one a row, checked at once: RFC 4180 CSV in UTF-8 (a byte-order mark is skipped), comma or semicolon separated (the header row decides), with a header row. The columns are id (required; echoed in each verdict) and the check's own fields with their query-string names and values (prepaid_finance_charges as origination:1250.00,points:2500), or one column a charge named prepaid_finance_charges.NAME. An empty cell is a field not given. An unknown or repeated column, or no id, refuses the whole file with 422 before any row, the detail listing the known columns. Numbers are read as in the JSON API; in a quoted cell, commas between groups of three digits are thousands separators in a comma-separated file, and in a semicolon-separated one only before a decimal point (1,684.30). The verdicts stream back in the rows' order, as CSV (the default) or NDJSON (Accept: application/x-ndjson): id, line (where the row starts; the header is line 1), status (ok, differs or error), the computed and quoted payment and their difference, the APR and its difference and tolerance, the finance charge and its tolerance, a short reason, and check_url, the row's single check. A bad row fails alone, with each field's error. A text cell a spreadsheet would take for a formula starts with '. The residue-rows header gives the number of rows, for a progress bar. Up to 100,000 rows and 32 MiB (413 past either); 120 s of computing, after which a last row says how many rows were answered; a client that goes away stops the work. Nothing is stored. The page /pipeline does the same with a file or pasted rows.",
+            examples: ex(&[
+                "printf 'id,principal,annual_rate_percent,term_months,quoted_payment,quoted_apr_percent\\nWren-12,246113,6.7,360,1588.11,6.7\\n' > quotes.csv",
+                "curl -H 'content-type: text/csv' --data-binary @quotes.csv {base}/api/v1/loans/checks",
+            ]),
+            page: "/pipeline",
+        },
+        Operation {
             id: "batch",
             title: "Many jobs in one request",
             method_path: "POST /api/v1/batch (Content-Type: application/x-ndjson)",

@@ -10,6 +10,7 @@
 mod batch;
 mod bounds;
 mod catalogue;
+mod checks;
 mod conventions;
 mod disclosure;
 mod errors;

@@ -7,7 +7,7 @@ use serde_json::{Map, Value};
 use crate::helpers::{shared_app, spawn_app, TestApp};
 
 /// The routes of `src/server.rs` the document must describe, with their methods.
-const ROUTES: [(&str, &[&str]); 15] = [
+const ROUTES: [(&str, &[&str]); 16] = [
     ("/api/v1/loans/schedule", &["get", "post"]),
     ("/api/v1/loans/schedule.csv", &["get"]),
     ("/api/v1/loans/compare", &["get", "post"]),
@@ -20,6 +20,7 @@ const ROUTES: [(&str, &[&str]); 15] = [
     ("/api/v1/savings/plan.csv", &["get"]),
     ("/api/openapi.json", &["get"]),
     ("/api/v1/batch", &["post"]),
+    ("/api/v1/loans/checks", &["post"]),
     ("/healthz", &["get"]),
     ("/readyz", &["get"]),
     ("/metrics", &["get"]),
@@ -489,6 +490,19 @@ fn every_operations_example_is_answered_200_and_fits_its_schema() {
                         &format!("{what} request example"),
                     );
                     serde_json::to_vec(example).unwrap()
+                } else if media == "text/csv" {
+                    // A file of rows: its header names the row schema's fields (and `id`).
+                    let text = example.as_str().expect("a CSV example is text");
+                    let row = resolve(&doc, &described["x-row-schema"]);
+                    let header = text.lines().next().expect("a header row");
+                    for name in header.split(',') {
+                        let field = name.split('.').next().unwrap();
+                        assert!(
+                            name == "id" || row["properties"].get(field).is_some(),
+                            "{what}: the example's column {name} is a field of its row schema"
+                        );
+                    }
+                    text.as_bytes().to_vec()
                 } else {
                     let text = example.as_str().expect("an NDJSON example is text");
                     for line in text.lines() {

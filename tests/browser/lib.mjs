@@ -54,12 +54,14 @@ export async function closeBrowser() {
  * A fresh context and page that record what must not happen: a request to any
  * origin but the server's, a console error, an uncaught page error, a CSP
  * violation. `problems()` lists them; `assertClean()` fails with them.
+ * `{ javaScriptEnabled: false }` opens the page as a browser without scripts.
  */
 export async function openPage(options = {}) {
   const b = await browser();
   const context = await b.newContext({
     viewport: { width: 1280, height: 900 },
     bypassCSP: Boolean(options.bypassCSP),
+    javaScriptEnabled: options.javaScriptEnabled !== false,
   });
   context.setDefaultTimeout(TIMEOUT);
   context.setDefaultNavigationTimeout(TIMEOUT);

@@ -391,8 +391,9 @@ async fn the_api_guide_has_a_section_for_every_problem_type() {
 }
 
 /// Each page template and the route that renders it.
-const TEMPLATE_ROUTES: [(&str, &str); 7] = [
+const TEMPLATE_ROUTES: [(&str, &str); 8] = [
     ("home.html", "/"),
+    ("pipeline.html", "/pipeline"),
     (
         "loan.html",
         "/loan?principal=1000&annual_rate_percent=5&term_months=12",
