@@ -87,6 +87,30 @@ function assertOpenLinks(rows, where) {
 /** The console errors of a fetch refused on purpose (the 422 of a bad file). */
 const refusedFetch = /^console error on .*: Failed to load resource: the server responded with a status of 422 .*\/api\/v1\/loans\/checks\)$/;
 
+/**
+ * Clicks "Check every row" with a file chosen, and waits until the page says
+ * every row is done, or shows a problem instead (which fails the test with the
+ * problem's words and whatever the page logged). Answers the API's response.
+ */
+async function checkEveryRow(w) {
+  let apiResponse = null;
+  const seen = (r) => {
+    if (new URL(r.url()).pathname === '/api/v1/loans/checks') apiResponse = r;
+  };
+  w.page.on('response', seen);
+  await w.page.getByRole('button', { name: 'Check every row' }).click();
+  const done = w.page.locator('#pipeline-count').filter({ hasText: /done/ });
+  const alert = w.page.getByRole('alert');
+  await done.or(alert).first().waitFor({ timeout: LONG });
+  w.page.off('response', seen);
+  if (await alert.count()) {
+    assert.fail(`the page shows a problem instead of the verdicts: "${(await alert.first().innerText()).replace(/\s+/g, ' ')}"; `
+      + `the page logged: ${JSON.stringify(w.problems())}`);
+  }
+  assert.ok(apiResponse, 'the page posted the file to /api/v1/loans/checks');
+  return apiResponse;
+}
+
 test('pipeline: 20,000 rows uploaded, checked as they stream, differing rows first', async (t) => {
   const w = await openPage();
   try {
@@ -126,18 +150,13 @@ test('pipeline: 20,000 rows uploaded, checked as they stream, differing rows fir
       }).observe(document.getElementById('pipeline-result'), { childList: true, subtree: true });
     }, ROWS);
 
-    const button = w.page.getByRole('button', { name: 'Check every row' });
-    const [response] = await Promise.all([
-      w.page.waitForResponse((r) => new URL(r.url()).pathname === '/api/v1/loans/checks', { timeout: LONG }),
-      button.click(),
-    ]);
+    const response = await checkEveryRow(w);
     assert.equal(response.status(), 200, 'the API answers the file with 200');
     assert.equal(response.request().method(), 'POST');
     assert.match(response.request().headers().accept || '', /application\/x-ndjson/, 'the page asks for NDJSON');
     assert.equal(response.headers()['residue-rows'], String(ROWS), 'residue-rows counts the file\'s rows');
     assert.match(response.headers()['content-type'] || '', /^application\/x-ndjson/);
 
-    await w.page.locator('#pipeline-count').filter({ hasText: /done/ }).waitFor({ timeout: LONG });
     const watch = await w.page.evaluate(() => {
       const bar = document.getElementById('pipeline-progress');
       return { ...window.__pipelineWatch, final: bar.value, max: bar.max };
@@ -309,13 +328,15 @@ test('pipeline: a file with an unknown column is refused with an alert naming it
     await w.page.locator('#pipeline-file').setInputFiles({
       name: 'unknown-column.csv', mimeType: 'text/csv', buffer: Buffer.from(BAD, 'utf8'),
     });
-    const [response] = await Promise.all([
-      w.page.waitForResponse((r) => new URL(r.url()).pathname === '/api/v1/loans/checks'),
-      w.page.getByRole('button', { name: 'Check every row' }).click(),
-    ]);
-    assert.equal(response.status(), 422, 'the API refuses the file');
+    let response = null;
+    w.page.on('response', (r) => {
+      if (new URL(r.url()).pathname === '/api/v1/loans/checks') response = r;
+    });
+    await w.page.getByRole('button', { name: 'Check every row' }).click();
     const alert = w.page.getByRole('alert');
     await alert.first().waitFor({ state: 'visible' });
+    assert.ok(response, `the page posted the file to the API (the page logged: ${JSON.stringify(w.problems())})`);
+    assert.equal(response.status(), 422, 'the API refuses the file');
     assert.equal(await alert.count(), 1, 'one alert');
     const text = await alert.innerText();
     assert.ok(text.includes(UNKNOWN), `the alert names the column ${UNKNOWN}: ${text}`);
@@ -372,8 +393,7 @@ test('pipeline at 390 px: the document does not scroll sideways, before or after
     await w.page.locator('#pipeline-file').setInputFiles({
       name: 'pipeline-20000.csv', mimeType: 'text/csv', buffer: Buffer.from(FILE.text, 'utf8'),
     });
-    await w.page.getByRole('button', { name: 'Check every row' }).click();
-    await w.page.locator('#pipeline-count').filter({ hasText: /done/ }).waitFor({ timeout: LONG });
+    await checkEveryRow(w);
     assert.equal(await sidewaysScroll(w.page), 0, 'the summary and the table of verdicts fit 390 px');
     const wrap = await w.page.locator('#pipeline-result .table-wrap').evaluate((el) => ({
       overflowX: getComputedStyle(el).overflowX, width: el.getBoundingClientRect().right,

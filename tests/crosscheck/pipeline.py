@@ -777,6 +777,9 @@ def check_against_reference(rep: Report, where: str, row: Row, g: dict):
     exp = expected_ok_figures(row)
     c = row.cells
     bad = []
+    # Reference: the exact-fraction ledger (level_loan: exact annuity payment, interest half up
+    # each month, final payment) and 12 CFR 1026.18(d) for the finance-charge tolerance;
+    # differences are quoted − computed in integer cents.
     for k in ("computed_payment", "finance_charge", "payment_difference", "payment_matches",
               "apr_within_tolerance", "finance_charge_difference", "finance_charge_tolerance",
               "finance_charge_within_tolerance"):
@@ -806,6 +809,7 @@ def check_against_reference(rep: Report, where: str, row: Row, g: dict):
             bad.append(f"apr_difference_points {g['apr_difference_points']!r} is not a number")
         if g["apr_tolerance_points"] == "" or Decimal(g["apr_tolerance_points"]) != Decimal("0.125"):
             bad.append(f"apr_tolerance_points {g['apr_tolerance_points']!r} != 0.125 (12 CFR 1026.22(a)(2))")
+    # Reference: the quote as sent (thousands separators removed), compared as a decimal.
     for k in ("quoted_payment", "quoted_apr_percent", "quoted_finance_charge"):
         sent = c.get(k, "")
         if sent == "":
@@ -973,7 +977,9 @@ def loan_row(rid: str, principal_c: int, rate_k: int, n: int, fee_c: int = 0, **
 
 
 def edge_post_and_check(rep: Report, base: str, where: str, text: str, rows: list[Row], columns_note: str = ""):
-    """Posts an edge file, checks the frame, the statuses and the sample against the single check."""
+    """Posts an edge file, checks the frame, the statuses and the sample against the single check.
+    Rows of kind "blank" (all cells empty) are in the file but expect no answer row."""
+    rows = [r for r in rows if r.kind != "blank"]
     ans = post_csv(base, text)
     got = read_csv_answer(rep, where, ans)
     if got is None:
@@ -1013,6 +1019,9 @@ def edge_semicolon_bom(rep: Report, base: str):
     r.cells["quoted_payment"] = with_thousands(r.cells["quoted_payment"])  # "1,663.26": accepted
     r.quoted.add("quoted_payment")
     rows.append(r)
+    r = Row("", "blank")  # a spreadsheet's empty row, ";;;;;;": no row at all
+    r.raw_line = [""] * len(cols)
+    rows.append(r)
     r = loan_row("S4", 1_000_000, 5_000, 36)
     r.cells["annual_rate_percent"] = "1,5"  # a decimal comma in a semicolon file: a row error
     r.quoted.add("annual_rate_percent")
@@ -1027,10 +1036,13 @@ def edge_semicolon_bom(rep: Report, base: str):
     r.cells["principal"] = "1,500.00"  # not quoted: a row error
     r.status, r.error_fields = "error", ["principal"]
     rows.append(r)
-    r = loan_row("Søren's café – ünït", 2_000_000, 4_500, 60)  # UTF-8 text survives
+    r = Row("", "blank")  # a blank line: no row either
+    r.raw_line = [""]
+    rows.append(r)
+    r = loan_row("Vindrøse café – ünït", 2_000_000, 4_500, 60)  # UTF-8 text survives
     rows.append(r)
     for r in rows:
-        if r.status != "error":
+        if r.status != "error" and r.kind != "blank":
             r.query_from_cells()
     text = write_csv(rows, cols, ";", "\r\n", bom=True)
     edge_post_and_check(rep, base, "semicolon+BOM", text, rows)
@@ -1089,6 +1101,10 @@ def edge_formula_ids(rep: Report, base: str):
         rows.append(r)
     text = write_csv(rows, cols, ",", "\r\n")
     got = edge_post_and_check(rep, base, "formula ids", text, rows)
+    explicit = post_csv(base, text, accept="text/csv")
+    rep.check("formula ids: Accept: text/csv gives the default CSV answer",
+              explicit.status == 200 and explicit.ctype.startswith("text/csv"),
+              f"HTTP {explicit.status} {explicit.ctype}")
     if got is not None:
         want = ["'=1+1", "'@SUM(A1:A2)", "'-x", "'+x", "'\tx", "'=HYPERLINK(\"#\")", "-42", "-3.5", "42", "plain",
                 "'\rcarriage", " padded id "]

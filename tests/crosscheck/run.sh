@@ -5,8 +5,9 @@
 #
 # Creates .venv at the repo root if it is missing (pinned requirements), starts
 # the server on 127.0.0.1:18531, waits for GET /healthz to answer 200 (up to
-# 30 s), runs crosscheck.py, csv_roundtrip.py, conventions.py and
-# schemathesis.sh, stops the server and exits 1 if any of them failed.
+# 30 s), runs crosscheck.py, csv_roundtrip.py, pipeline.py, spreadsheet.sh,
+# conventions.py and schemathesis.sh, stops the server and exits 1 if any of
+# them failed.
 set -euo pipefail
 
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
@@ -79,6 +80,11 @@ status=0
 .venv/bin/python tests/crosscheck/crosscheck.py --base-url "$base" "$@" || status=$?
 # The CSV answers read back with Python's csv module, figure by figure against the JSON.
 .venv/bin/python tests/crosscheck/csv_roundtrip.py --base-url "$base" || status=1
+# POST /api/v1/loans/checks: a 20,000-row CSV of quotes with planted defects against an
+# exact-fraction reference, a sample against the single check, and the edge files.
+.venv/bin/python tests/crosscheck/pipeline.py "$base" || status=1
+# Its CSV answer imported by a headless spreadsheet (gnumeric's ssconvert): figures are numbers.
+bash tests/crosscheck/spreadsheet.sh "$base" || status=1
 # Due dates and odd days against QuantLib, payments and balances against numpy-financial.
 .venv/bin/python tests/crosscheck/conventions.py --base-url "$base" || status=1
 # Property-based test generated from /api/openapi.json: no 5xx, every 4xx is problem details.
