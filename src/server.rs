@@ -406,7 +406,7 @@ async fn log_and_secure(State(state): State<AppState>, req: Request, next: Next)
         &[
             (
                 header::CONTENT_SECURITY_POLICY,
-                "default-src 'none'; style-src 'self'; img-src 'self' data:; script-src 'self'; form-action 'self'; base-uri 'none'; frame-ancestors 'none'",
+                "default-src 'none'; style-src 'self'; img-src 'self' data:; script-src 'self'; connect-src 'self'; form-action 'self'; base-uri 'none'; frame-ancestors 'none'",
             ),
             (header::X_CONTENT_TYPE_OPTIONS, "nosniff"),
             (header::REFERRER_POLICY, "no-referrer"),

@@ -68,11 +68,14 @@
       result.innerHTML = "";
       result.appendChild(html);
     };
+    var arrived = false;
     var problem = function (p) {
       var box = document.createElement("div");
       box.className = "problem";
       box.setAttribute("role", "alert");
+      live.hidden = true;
       var h = document.createElement("h2");
+      h.id = "result-title";
       h.textContent = "The file was not checked";
       var d = document.createElement("p");
       d.textContent = p.detail || "The file could not be checked.";
@@ -94,6 +97,7 @@
       if (!file) return; // the page itself names the missing file
       event.preventDefault();
       var failing = [], holding = [], counts = { ok: 0, differs: 0, error: 0 }, seen = 0;
+      arrived = false;
       live.hidden = false;
       bar.value = 0;
       count.textContent = "";
@@ -143,6 +147,7 @@
         headers: { "content-type": "text/csv", "accept": "application/x-ndjson" },
         body: file
       }).then(function (response) {
+        arrived = true;
         if (!response.ok) {
           return response.json().then(problem, function () {
             problem({ detail: "The server answered " + response.status + "." });
@@ -183,7 +188,9 @@
         };
         return step();
       }).catch(function () {
-        problem({ detail: "The connection broke off after " + seen + " rows; check the rest again." });
+        problem({ detail: arrived
+          ? "The connection broke off after " + seen + " rows; check the rows after them again."
+          : "The file could not be sent to the server; check the connection and try again." });
       });
     });
   }
