@@ -194,7 +194,9 @@ pub fn cells(record: &str, separator: u8) -> Result<Vec<Cell>, String> {
                 .iter()
                 .position(|&c| c == separator)
                 .map_or(b.len(), |p| i + p);
-            let text = record[i..end].trim_matches([' ', '\t']);
+            // RFC 4180: spaces are part of a field. An id keeps them; the
+            // check's fields are trimmed by `row_fields`.
+            let text = &record[i..end];
             if text.contains('"') {
                 return Err(format!(
                     "cell {} holds a quote but is not quoted (quote the whole cell, and write a quote inside it twice)",
@@ -419,9 +421,9 @@ pub fn row_id(header: &Header, record: &str) -> String {
 /// more cells than the header has columns.
 pub fn row_fields(header: &Header, record: &str) -> Result<RowFields, String> {
     let cells = cells(record, header.separator)?;
-    if cells.len() > header.columns.len() {
+    if cells.len() != header.columns.len() {
         return Err(format!(
-            "the row has {} cells, the header {} columns",
+            "the row has {} cells, the header {} columns (an empty cell is written as nothing between two separators)",
             cells.len(),
             header.columns.len()
         ));
@@ -430,14 +432,14 @@ pub fn row_fields(header: &Header, record: &str) -> Result<RowFields, String> {
     let mut charges: Vec<String> = Vec::new();
     let mut compact: Option<String> = None;
     for (cell, column) in cells.into_iter().zip(&header.columns) {
-        let text = if cell.quoted {
+        if cell.text.trim().is_empty() {
+            continue;
+        }
+        let text = if cell.quoted || *column == Column::Id {
             cell.text
         } else {
             cell.text.trim().to_string()
         };
-        if text.trim().is_empty() {
-            continue;
-        }
         let numeric_text = |name: &str, out: &mut RowFields| -> String {
             if cell.quoted && text.contains([',', ' ', '\u{a0}', '_']) {
                 match ungroup_quoted(&text, header.separator) {
@@ -491,7 +493,7 @@ mod tests {
     fn cells_follow_rfc_4180() {
         let c = cells(r#"a,"b,c","say ""hi""",,  d  "#, b',').unwrap();
         let texts: Vec<&str> = c.iter().map(|c| c.text.as_str()).collect();
-        assert_eq!(texts, ["a", "b,c", "say \"hi\"", "", "d"]);
+        assert_eq!(texts, ["a", "b,c", "say \"hi\"", "", "  d  "]);
         assert_eq!(
             c.iter().map(|c| c.quoted).collect::<Vec<_>>(),
             [false, true, true, false, false]
@@ -596,6 +598,15 @@ mod tests {
         assert!(row_fields(&s.header, "1,2,3,4,5,6,7")
             .unwrap_err()
             .contains("7 cells"));
+        assert!(row_fields(&s.header, "1,2,3")
+            .unwrap_err()
+            .contains("3 cells"));
+        let r = row_fields(&s.header, "\t x ,250000, 6.5 ,,,").unwrap();
+        assert_eq!(r.id, "\t x ", "an id keeps its spaces (RFC 4180)");
+        assert_eq!(
+            r.pairs[1],
+            ("annual_rate_percent".to_string(), "6.5".to_string())
+        );
         let semi = sheet("id;principal\n").unwrap();
         let r = row_fields(&semi.header, "1;\"1,5\"").unwrap();
         assert_eq!(r.errors[0].pointer, "principal");

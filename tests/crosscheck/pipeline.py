@@ -25,10 +25,17 @@ What it does:
 * compares a sample (every 50th row and every planted row) field by field with
   the single check `GET /api/v1/loans/check`, and the row's `check_url` with
   the same check;
-* posts edge files: semicolon-separated with a byte-order mark, quoted cells
+* posts edge files: semicolon-separated with a byte-order mark (and a
+  spreadsheet's empty row and a blank line, which are no rows), quoted cells
   with commas, quotes and line breaks, thousands separators, a header-only file,
-  an empty file, unknown / duplicate / missing columns, formula-like ids, and
-  more rows than the limit.
+  an empty file, unknown / duplicate / missing columns, formula-like ids (a
+  tab, quoted and not), exactly 100,000 rows, 100,001 rows (413) and a 40 MiB
+  file (413).
+
+A row with more or fewer cells than the header has columns is a row error
+(a wrong column count), with its id kept; ids come back exactly as sent
+(RFC 4180: spaces and tabs are part of a field), with only the formula-safety
+"'" added in the CSV answer.
 
 The reference (exact-fraction ledger, Python `fractions` and integers):
 
@@ -976,7 +983,7 @@ def loan_row(rid: str, principal_c: int, rate_k: int, n: int, fee_c: int = 0, **
     return row
 
 
-def edge_post_and_check(rep: Report, base: str, where: str, text: str, rows: list[Row], columns_note: str = ""):
+def edge_post_and_check(rep: Report, base: str, where: str, text: str, rows: list[Row]):
     """Posts an edge file, checks the frame, the statuses and the sample against the single check.
     Rows of kind "blank" (all cells empty) are in the file but expect no answer row."""
     rows = [r for r in rows if r.kind != "blank"]
@@ -1092,11 +1099,13 @@ def edge_formula_ids(rep: Report, base: str):
     """Ids that a spreadsheet would take for formulas come back prefixed with "'"; numbers do not."""
     cols = ["id", "principal", "annual_rate_percent", "term_months", "quoted_payment"]
     ids = ["=1+1", "@SUM(A1:A2)", "-x", "+x", "\tx", "=HYPERLINK(\"#\")", "-42", "-3.5", "42", "plain",
-           "\rcarriage", " padded id "]
+           "\rcarriage", " padded id ", "\tquoted tab"]
     rows = []
     for k, rid in enumerate(ids):
         r = loan_row(rid, 1_000_000 + 10_000 * k, 5_000 + 250 * k, 36)
         r.cells.pop("quoted_apr_percent")
+        if rid == "\tquoted tab":
+            r.quoted.add("id")  # the same tab in quotes (the "\tx" above is not quoted)
         r.query_from_cells()
         rows.append(r)
     text = write_csv(rows, cols, ",", "\r\n")
@@ -1107,7 +1116,7 @@ def edge_formula_ids(rep: Report, base: str):
               f"HTTP {explicit.status} {explicit.ctype}")
     if got is not None:
         want = ["'=1+1", "'@SUM(A1:A2)", "'-x", "'+x", "'\tx", "'=HYPERLINK(\"#\")", "-42", "-3.5", "42", "plain",
-                "'\rcarriage", " padded id "]
+                "'\rcarriage", " padded id ", "'\tquoted tab"]
         rep.check("formula ids: CSV ids", [g["id"] for g in got] == want, f"{[g['id'] for g in got]}")
 
 
