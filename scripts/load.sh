@@ -128,6 +128,29 @@ echo
 echo "== pipeline (POST /api/v1/loans/checks, $batch_lines CSV rows, $(du -k "$work/pipeline.csv" | cut -f1) KiB) =="
 echo "answered $verdicts rows ($(grep -c ',ok,' "$work/pipeline.out" || true) ok) in $seconds s"
 awk -v n="$verdicts" -v t="$seconds" 'BEGIN {printf "%.0f rows/s\n", n / t}'
+# The first verdict as the page asks for it (NDJSON): the time from the last
+# byte of the upload sent to the first verdict's bytes received.
+python3 - "$addr" "$work/pipeline.csv" <<'PY'
+import socket, sys, time
+host, port = sys.argv[1].rsplit(":", 1)
+body = open(sys.argv[2], "rb").read()
+head = (f"POST /api/v1/loans/checks HTTP/1.1\r\nHost: {sys.argv[1]}\r\nContent-Type: text/csv\r\n"
+        f"Accept: application/x-ndjson\r\nConnection: close\r\nContent-Length: {len(body)}\r\n\r\n").encode()
+s = socket.create_connection((host, int(port)))
+s.sendall(head + body)
+sent = time.perf_counter()
+got = b""
+while b'"status"' not in got:
+    more = s.recv(65536)
+    if not more:
+        break
+    got += more
+first = time.perf_counter()
+while s.recv(1 << 20):
+    pass
+done = time.perf_counter()
+print(f"first verdict {1000 * (first - sent):.1f} ms after the upload was sent; the last {1000 * (done - sent):.0f} ms")
+PY
 
 # 3. Saturation, then three times it.
 echo
