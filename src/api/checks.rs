@@ -26,14 +26,11 @@ use serde::Serialize;
 use super::csv::csv_field;
 use super::handlers::{read_body, CAUTION_HEADER};
 use crate::answer::pipeline::{check_row, RowVerdict, Status};
-use crate::input::csv::{read_sheet, Sheet};
+use crate::input::csv::{read_sheet, Sheet, MAX_FILE_BYTES};
 use crate::input::http::weight_of;
 use crate::input::multipart::file_of;
 use crate::input::problem::{ApiError, ProblemKind};
 use crate::state::AppState;
-
-/// The largest file: 100,000 rows of about 300 bytes.
-pub const MAX_FILE_BYTES: usize = 32 * 1024 * 1024;
 
 /// The longest one file may compute; the rows after it are not answered.
 pub const MAX_SECONDS: u64 = 120;

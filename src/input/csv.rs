@@ -22,6 +22,9 @@ use super::fields::ungroup;
 use super::problem::{ApiError, FieldError, ProblemKind};
 use super::table::Kind;
 
+/// The largest file, in bytes: 100,000 rows of about 300 bytes.
+pub const MAX_FILE_BYTES: usize = 32 * 1024 * 1024;
+
 /// The most rows one file may hold (the header aside).
 pub const MAX_ROWS: usize = 100_000;
 

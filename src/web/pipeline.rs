@@ -14,12 +14,9 @@ use axum::response::{IntoResponse, Response};
 
 use super::page::{render, render_form, Layout};
 use crate::answer::pipeline::{check_row, RowVerdict, Status};
-use crate::input::csv::{known_columns, read_sheet, MAX_ROWS};
+use crate::input::csv::{known_columns, read_sheet, MAX_FILE_BYTES, MAX_ROWS};
 use crate::input::multipart::file_of;
 use crate::input::problem::{ApiError, ProblemKind};
-
-/// The largest file the page takes (the API's limit).
-const MAX_FILE_BYTES: usize = 32 * 1024 * 1024;
 
 /// The rows that hold shown on the page at most (every differing and failing
 /// row is shown; the download has every row).
