@@ -12,6 +12,7 @@
 pub mod apr;
 pub mod apy;
 pub mod calendar;
+pub mod choices;
 pub mod disclosure;
 pub mod error;
 pub mod ledger;
