@@ -41,6 +41,27 @@ pub fn app(state: AppState) -> Router {
             get(handlers::compare_get).post(handlers::compare_post),
         )
         .route("/api/v1/loans/compare.csv", get(handlers::compare_get_csv))
+        .route(
+            "/api/v1/refinance",
+            get(crate::api::choices::refinance_get).post(crate::api::choices::refinance_post),
+        )
+        .route(
+            "/api/v1/refinance.csv",
+            get(crate::api::choices::refinance_get_csv),
+        )
+        .route(
+            "/api/v1/loans/options",
+            get(crate::api::choices::options_get).post(crate::api::choices::options_post),
+        )
+        .route(
+            "/api/v1/loans/options.csv",
+            get(crate::api::choices::options_get_csv),
+        )
+        .route("/api/v1/loans/grid", get(crate::api::choices::grid_get))
+        .route(
+            "/api/v1/loans/grid.csv",
+            get(crate::api::choices::grid_get_csv),
+        )
         .route("/api/v1/recurrence", post(handlers::recurrence_post))
         .route(
             "/api/v1/apr",
@@ -93,10 +114,13 @@ pub fn app(state: AppState) -> Router {
 }
 
 /// Operations that answer a table, as JSON or CSV.
-const TABLES: [&str; 3] = [
+const TABLES: [&str; 6] = [
     "/api/v1/loans/schedule",
     "/api/v1/loans/compare",
     "/api/v1/savings/plan",
+    "/api/v1/refinance",
+    "/api/v1/loans/options",
+    "/api/v1/loans/grid",
 ];
 
 /// 406 (a problem) when the Accept header takes none of the operation's media

@@ -5,6 +5,9 @@
 pub mod check;
 pub mod compare;
 pub mod derivation;
+pub mod grid;
 pub mod pipeline;
+pub mod points;
+pub mod refinance;
 pub mod savings;
 pub mod text;

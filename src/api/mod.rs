@@ -5,6 +5,7 @@ pub mod apy;
 pub mod batch;
 pub mod check;
 pub mod checks;
+pub mod choices;
 pub mod csv;
 
 pub mod emit;

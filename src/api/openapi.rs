@@ -61,6 +61,9 @@ pub struct Health {
         super::apy::ApyAnswer,
         super::recurrence::RecurrenceAnswer,
         crate::answer::savings::SavingsPlanDto,
+        crate::answer::refinance::RefinanceDto,
+        crate::answer::points::OptionsDto,
+        crate::answer::grid::GridDto,
         crate::input::problem::Problem,
     ))
 )]
@@ -115,6 +118,20 @@ pub struct Operation {
 const SCHEDULE_QUERY: &str = "principal=100000&annual_rate_percent=6&term_months=12";
 const CHECK_QUERY: &str = "principal=100000&annual_rate_percent=6&term_months=360&quoted_payment=599.55&quoted_apr_percent=6.1&prepaid_finance_charges=points:1000&mortgage=true";
 const SAVINGS_QUERY: &str = "annual_rate_percent=4&deposit=100&term_months=12";
+const REFINANCE_QUERY: &str = "current.balance=187500&current.annual_rate_percent=7.25&current.remaining_payments=312&annual_rate_percent=6.125&term_months=360&closing_costs=3200&points_percent=1";
+const OPTIONS_QUERY: &str = "principal=200000&term_months=360&option_label=No%20points&option_rate_percent=6.75&option_points_percent=0&option_other_costs=0&option_label=Two%20points&option_rate_percent=6.25&option_points_percent=2&option_other_costs=0";
+const GRID_QUERY: &str = "principal=300000&rates=6.000..6.500/0.25&terms=180,360";
+
+fn refinance_body() -> Value {
+    json!({"current": {"balance": "187500", "annual_rate_percent": "7.25", "remaining_payments": 312},
+           "new": {"annual_rate_percent": "6.125", "term_months": 360},
+           "closing_costs": "3200", "points_percent": "1", "financed_costs": "0"})
+}
+fn options_body() -> Value {
+    json!({"principal": "200000", "term_months": 360,
+           "options": [{"label": "No points", "annual_rate_percent": "6.75"},
+                       {"label": "Two points", "annual_rate_percent": "6.25", "points_percent": "2"}]})
+}
 
 fn schedule_body() -> Value {
     json!({"principal": "250000", "annual_rate_percent": "7.125", "term_months": 12,
@@ -209,6 +226,78 @@ pub const OPERATIONS: &[Operation] = &[
         request: Some("LoanScheduleRequest"),
         answer: Answer::Csv,
         example: Example::Query("principal=278000&annual_rate_percent=6.375&term_months=180,240,360"),
+    },
+    Operation {
+        method: "post",
+        path: "/api/v1/refinance",
+        id: "refinance_post",
+        summary: "Does refinancing pay, and when: both payments, the simple and the balance-aware break-even, each way's cost at 5, 7 and 10 years, a chosen horizon and to the end, and \"In 5 years\" (§1026.37(l)(1))",
+        request: Some("RefinanceRequest"),
+        answer: Answer::JsonOrCsv("RefinanceDto"),
+        example: Example::Body(refinance_body),
+    },
+    Operation {
+        method: "get",
+        path: "/api/v1/refinance",
+        id: "refinance_get",
+        summary: "The refinance from query parameters (the current loan's fields as current.NAME)",
+        request: Some("RefinanceQuery"),
+        answer: Answer::JsonOrCsv("RefinanceDto"),
+        example: Example::Query(REFINANCE_QUERY),
+    },
+    Operation {
+        method: "get",
+        path: "/api/v1/refinance.csv",
+        id: "refinance_get_csv",
+        summary: "The refinance as CSV, one row a figure",
+        request: Some("RefinanceQuery"),
+        answer: Answer::Csv,
+        example: Example::Query(REFINANCE_QUERY),
+    },
+    Operation {
+        method: "post",
+        path: "/api/v1/loans/options",
+        id: "options_post",
+        summary: "Is it worth paying points: one loan at two to six rate-and-points options, each with its payment, upfront cost, break-evens against the first, and costs at each horizon; the cheapest at each",
+        request: Some("RateOptionsRequest"),
+        answer: Answer::JsonOrCsv("OptionsDto"),
+        example: Example::Body(options_body),
+    },
+    Operation {
+        method: "get",
+        path: "/api/v1/loans/options",
+        id: "options_get",
+        summary: "The rate-and-points options from query parameters (each option's fields repeated in order)",
+        request: Some("RateOptionsQuery"),
+        answer: Answer::JsonOrCsv("OptionsDto"),
+        example: Example::Query(OPTIONS_QUERY),
+    },
+    Operation {
+        method: "get",
+        path: "/api/v1/loans/options.csv",
+        id: "options_get_csv",
+        summary: "The rate-and-points options as CSV, one row an option",
+        request: Some("RateOptionsQuery"),
+        answer: Answer::Csv,
+        example: Example::Query(OPTIONS_QUERY),
+    },
+    Operation {
+        method: "get",
+        path: "/api/v1/loans/grid",
+        id: "grid_get",
+        summary: "A payment grid: the payment and the payment per 1,000 at every principal, rate and term (at most 2,000 cells)",
+        request: Some("PaymentGridRequest"),
+        answer: Answer::JsonOrCsv("GridDto"),
+        example: Example::Query(GRID_QUERY),
+    },
+    Operation {
+        method: "get",
+        path: "/api/v1/loans/grid.csv",
+        id: "grid_get_csv",
+        summary: "The payment grid as CSV, one row a cell",
+        request: Some("PaymentGridRequest"),
+        answer: Answer::Csv,
+        example: Example::Query(GRID_QUERY),
     },
     Operation {
         method: "post",
@@ -366,6 +455,51 @@ fn is_list_parameter(schema: &str, field: &str) -> bool {
         .any(|f| matches!(f.kind, crate::input::table::Kind::List { .. }))
 }
 
+/// The query parameters a request spells out of a JSON object or list: the
+/// refinance's current loan (`current.NAME`) and the options' repeated fields.
+fn expanded_parameters(request: &str) -> Vec<Value> {
+    let fields: Vec<(String, &crate::input::table::Field, bool)> = match request {
+        "RefinanceQuery" => crate::input::refinance::CURRENT_FIELDS
+            .iter()
+            .map(|f| {
+                (
+                    format!("{}{}", crate::input::refinance::CURRENT_PREFIX, f.name),
+                    f,
+                    false,
+                )
+            })
+            .collect(),
+        "RateOptionsQuery" => crate::input::points::QUERY_NAMES
+            .iter()
+            .zip(crate::input::points::OPTION_FIELDS)
+            .map(|(n, f)| ((*n).to_string(), f, true))
+            .collect(),
+        _ => vec![],
+    };
+    fields
+        .into_iter()
+        .map(|(name, f, repeated)| {
+            let mut schema = crate::input::table::field_schema(f);
+            let description = schema.get("description").cloned();
+            if let Some(m) = schema.as_object_mut() {
+                m.remove("description");
+            }
+            if repeated {
+                schema = json!({"type": "array", "items": schema});
+            }
+            let mut p = json!({"name": name, "in": "query", "required": false, "schema": schema});
+            if let Some(d) = description {
+                p["description"] = d;
+            }
+            if repeated {
+                p["style"] = json!("form");
+                p["explode"] = json!(true);
+            }
+            p
+        })
+        .collect()
+}
+
 fn problem_response(description: &str) -> Value {
     json!({
         "description": description,
@@ -518,6 +652,7 @@ fn parameters(op: &Operation, schemas: &Map<String, Value>) -> Vec<Value> {
         }
         out.push(p);
     }
+    out.extend(expanded_parameters(name));
     out
 }
 

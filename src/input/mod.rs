@@ -17,17 +17,20 @@ pub mod check;
 pub mod compare;
 pub mod csv;
 pub mod fields;
+pub mod grid;
 pub mod http;
 pub mod json;
 pub mod loan;
 pub mod multipart;
+pub mod points;
 pub mod problem;
 pub mod recurrence;
+pub mod refinance;
 pub mod savings;
 pub mod table;
 
 /// Every request table, for the OpenAPI document's components.
-pub fn tables() -> [&'static table::Table; 15] {
+pub fn tables() -> [&'static table::Table; 23] {
     [
         &loan::SCHEDULE,
         &loan::EXTRA_PAYMENT,
@@ -44,6 +47,14 @@ pub fn tables() -> [&'static table::Table; 15] {
         &recurrence::INPUT,
         &savings::SAVINGS,
         &batch::LINE,
+        &refinance::REFINANCE,
+        &refinance::CURRENT_LOAN,
+        &refinance::NEW_LOAN,
+        &refinance::REFINANCE_QUERY,
+        &points::OPTIONS_REQUEST,
+        &points::PRICING_OPTION,
+        &points::OPTIONS_QUERY,
+        &grid::GRID,
     ]
 }
 
@@ -109,6 +120,9 @@ mod tests {
             ("apr.rs", include_str!("apr.rs")),
             ("apy.rs", include_str!("apy.rs")),
             ("recurrence.rs", include_str!("recurrence.rs")),
+            ("refinance.rs", include_str!("refinance.rs")),
+            ("points.rs", include_str!("points.rs")),
+            ("grid.rs", include_str!("grid.rs")),
         ];
         let mut seen = 0;
         for (file, source) in readers {
