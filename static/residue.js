@@ -1,19 +1,36 @@
 // Residue: small progressive enhancements; every page works without this file.
-// 1. Empty fields are left out of the submitted address, so shared links stay short.
+// 1. Empty fields are left out of the submitted address, so shared links stay short;
+//    a row of repeatable fields is left out whole when blank, and kept whole
+//    otherwise (its fields are read by position).
 // 2. Every year of a schedule is unfolded before printing, and folded back after.
 // 3. The pipeline page posts its file to the API and shows the verdicts as they
 //    stream in, with a progress bar; without this, its form posts to the page.
+// 4. The payment grid marks the column under the pointer.
 (function () {
   "use strict";
   document.addEventListener("submit", function (event) {
     var form = event.target;
     if (!form || form.method.toLowerCase() !== "get") return;
     Array.prototype.forEach.call(form.elements, function (el) {
+      var row = el.closest && el.closest("table[data-repeatable] tr");
+      if (row) {
+        var blank = Array.prototype.every.call(row.querySelectorAll("input"), function (i) { return i.value.trim() === ""; });
+        if (blank) el.disabled = true;
+        return;
+      }
       if (el.name && el.value === "") el.disabled = true;
     });
     window.setTimeout(function () {
       Array.prototype.forEach.call(form.elements, function (el) { el.disabled = false; });
     }, 0);
+  });
+  // 4. The payment grid marks the column under the pointer as CSS marks the row.
+  document.querySelectorAll(".payment-grid").forEach(function (table) {
+    var mark = function (col, on) {
+      table.querySelectorAll('td[data-col="' + col + '"]').forEach(function (td) { td.classList.toggle("hover-col", on); });
+    };
+    table.addEventListener("mouseover", function (e) { var td = e.target.closest("td[data-col]"); if (td) mark(td.dataset.col, true); });
+    table.addEventListener("mouseout", function (e) { var td = e.target.closest("td[data-col]"); if (td) mark(td.dataset.col, false); });
   });
   var reopened = [];
   window.addEventListener("beforeprint", function () {

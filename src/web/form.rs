@@ -38,11 +38,12 @@ pub fn kind_of(spec: &Spec) -> Kind {
 }
 
 /// The field tables the pages' forms show, in the order a field is looked up.
-const FORM_TABLES: [&[Spec]; 4] = [
+const FORM_TABLES: [&[Spec]; 5] = [
     crate::input::loan::LOAN,
     crate::input::loan::PLAN,
     crate::input::check::QUOTES,
     crate::input::savings::SAVINGS_FIELDS,
+    crate::input::refinance::REFINANCE_COSTS,
 ];
 
 /// The words of a field, looked up in `tables` (a page's own), then in every
@@ -55,6 +56,15 @@ pub fn spec_in(tables: &[&'static [Spec]], name: &str) -> Option<&'static Spec> 
         .find(|s| s.name == name && !s.label.is_empty())
 }
 
+/// The table of the fields a query writes under `prefix.`: the refinance's
+/// current loan.
+fn prefixed_table(prefix: &str) -> &'static [Spec] {
+    match prefix {
+        "current" => crate::input::refinance::CURRENT_FIELDS,
+        _ => &[],
+    }
+}
+
 /// The words of a field in any form table.
 pub fn spec(name: &str) -> Option<&'static Spec> {
     spec_in(&[], name)
@@ -63,6 +73,8 @@ pub fn spec(name: &str) -> Option<&'static Spec> {
 /// One field as the form shows it.
 pub struct Field {
     pub spec: &'static Spec,
+    /// The parameter's name: the spec's, or under a prefix (`current.balance`).
+    pub name: String,
     /// The value as typed (or the default on an empty form).
     pub value: String,
     /// What is wrong with it, in words.
@@ -71,7 +83,12 @@ pub struct Field {
 
 impl Field {
     pub fn id(&self) -> String {
-        format!("f-{}", self.spec.name)
+        format!("f-{}", self.slug())
+    }
+
+    /// The name as an id part (`current.balance` → `current-balance`).
+    pub fn slug(&self) -> String {
+        self.name.replace('.', "-")
     }
 
     /// The choices of a select, empty for a text input.
@@ -100,10 +117,10 @@ impl Field {
     pub fn described_by(&self) -> String {
         let mut ids = Vec::new();
         if self.error.is_some() {
-            ids.push(format!("e-{}", self.spec.name));
+            ids.push(format!("e-{}", self.slug()));
         }
         if !self.spec.hint.is_empty() {
-            ids.push(format!("h-{}", self.spec.name));
+            ids.push(format!("h-{}", self.slug()));
         }
         ids.join(" ")
     }
@@ -127,10 +144,75 @@ impl Group {
     }
 }
 
+/// Repeatable rows of ordinary fields inside a form (each row one item of a
+/// list, each column a field repeated once a row). Without a script the form
+/// shows a fixed number of rows; blank rows are ignored by the reader.
+pub struct Rows {
+    pub legend: &'static str,
+    /// (parameter name, column heading, `inputmode`).
+    pub columns: Vec<(&'static str, &'static str, &'static str)>,
+    /// The values typed, a row at a time.
+    pub values: Vec<Vec<String>>,
+    /// What is wrong with the rows, in words.
+    pub errors: Vec<String>,
+    pub hint: &'static str,
+}
+
+impl Rows {
+    /// The rows of `columns` from the query: as many as typed, then blank ones up to `shown`.
+    pub fn from_query(
+        legend: &'static str,
+        hint: &'static str,
+        columns: Vec<(&'static str, &'static str, &'static str)>,
+        pairs: &[(String, String)],
+        defaults: &[&[&str]],
+        shown: usize,
+    ) -> Self {
+        let cols: Vec<Vec<&str>> = columns
+            .iter()
+            .map(|(n, _, _)| {
+                pairs
+                    .iter()
+                    .filter(|(k, _)| k == n)
+                    .map(|(_, v)| v.as_str())
+                    .collect()
+            })
+            .collect();
+        let typed = cols.iter().map(Vec::len).max().unwrap_or(0);
+        let mut values: Vec<Vec<String>> = if pairs.is_empty() {
+            defaults
+                .iter()
+                .map(|r| r.iter().map(|v| (*v).to_string()).collect())
+                .collect()
+        } else {
+            (0..typed)
+                .map(|r| {
+                    cols.iter()
+                        .map(|c| c.get(r).copied().unwrap_or("").to_string())
+                        .collect()
+                })
+                .filter(|row: &Vec<String>| row.iter().any(|v| !v.trim().is_empty()))
+                .collect()
+        };
+        while values.len() < shown {
+            values.push(vec![String::new(); columns.len()]);
+        }
+        Self {
+            legend,
+            columns,
+            values,
+            errors: Vec::new(),
+            hint,
+        }
+    }
+}
+
 /// A page's form: its groups, and the errors that belong to no field.
 pub struct Form {
     pub action: &'static str,
     pub groups: Vec<Group>,
+    /// Repeatable rows, after the groups.
+    pub rows: Option<Rows>,
     /// Problems not tied to a shown field (an unknown parameter, a malformed query).
     pub general_errors: Vec<String>,
     /// Every error, for the summary at the top of the form: (field id or "", words).
@@ -157,7 +239,15 @@ impl Form {
         for (legend, foldable, names) in layout {
             let mut fields = Vec::new();
             for name in *names {
-                let Some(spec) = spec_in(tables, name) else {
+                // A name under a prefix ("current.balance") is a field of the
+                // prefix's own table ("balance" of the current loan).
+                let spec = match name.split_once('.') {
+                    Some((prefix, field)) => prefixed_table(prefix)
+                        .iter()
+                        .find(|s| s.name == field && !s.label.is_empty()),
+                    None => spec_in(tables, name),
+                };
+                let Some(spec) = spec else {
                     continue;
                 };
                 let value = if empty {
@@ -188,6 +278,7 @@ impl Form {
                 }
                 fields.push(Field {
                     spec,
+                    name: (*name).to_string(),
                     value,
                     error: (!messages.is_empty()).then(|| messages.join(" ")),
                 });
@@ -233,10 +324,35 @@ impl Form {
         Form {
             action,
             groups,
+            rows: None,
             general_errors,
             summary,
             status: problem.map_or(axum::http::StatusCode::OK, |p| p.kind.status()),
         }
+    }
+}
+
+impl Form {
+    /// The form with repeatable rows; errors on the rows' columns move from the
+    /// general errors to the rows.
+    #[must_use]
+    pub fn with_rows(mut self, mut rows: Rows) -> Self {
+        let names: Vec<&str> = rows.columns.iter().map(|(n, _, _)| *n).collect();
+        self.general_errors.retain(|e| {
+            let mine = names.iter().any(|n| e.starts_with(&format!("{n}: ")));
+            if mine {
+                let text = e.split_once(": ").map_or(e.as_str(), |(_, m)| m);
+                rows.errors.push(capitalized(text));
+            }
+            !mine
+        });
+        self.summary
+            .retain(|(_, m)| !names.iter().any(|n| m.starts_with(&format!("{n}: "))));
+        for e in &rows.errors {
+            self.summary.push(("rows".to_string(), e.clone()));
+        }
+        self.rows = Some(rows);
+        self
     }
 }
 

@@ -17,11 +17,14 @@ pub mod check;
 pub mod compare;
 pub mod error;
 pub mod form;
+pub mod grid;
 pub mod home;
 pub mod loan;
 pub mod mathml;
 pub mod page;
 pub mod pipeline;
+pub mod points;
+pub mod refinance;
 pub mod savings;
 pub mod scenarios;
 pub mod view;
@@ -40,6 +43,17 @@ async fn stylesheet() -> Response {
             (header::CACHE_CONTROL, "public, max-age=300"),
         ],
         include_str!("../../static/residue.css"),
+    )
+        .into_response()
+}
+
+async fn grid_print() -> Response {
+    (
+        [
+            (header::CONTENT_TYPE, "text/css; charset=utf-8"),
+            (header::CACHE_CONTROL, "public, max-age=300"),
+        ],
+        include_str!("../../static/grid-print.css"),
     )
         .into_response()
 }
@@ -63,10 +77,14 @@ pub fn routes() -> Router<AppState> {
         .route("/compare", get(compare::page))
         .route("/check", get(check::page))
         .route("/savings", get(savings::page))
+        .route("/refinance", get(refinance::page))
+        .route("/options", get(points::page))
+        .route("/grid", get(grid::page))
         .route("/pipeline", get(pipeline::page).post(pipeline::post))
         .route("/pipeline/template.csv", get(pipeline::template))
         .route("/about", get(about::page))
         .route("/api", get(api_guide::page))
         .route("/static/residue.css", get(stylesheet))
         .route("/static/residue.js", get(script))
+        .route("/static/grid-print.css", get(grid_print))
 }

@@ -7,10 +7,13 @@ use axum::response::{Html, IntoResponse, Response};
 use crate::engine::schedule::CAUTION;
 
 /// The pages in the navigation, in order: (path, name).
-pub const NAV: [(&str, &str); 8] = [
+pub const NAV: [(&str, &str); 11] = [
     ("/", "Home"),
     ("/loan", "Loan schedule"),
     ("/compare", "Compare plans"),
+    ("/refinance", "Refinance"),
+    ("/options", "Rate and points"),
+    ("/grid", "Payment grid"),
     ("/check", "Check a quote"),
     ("/pipeline", "Check a pipeline"),
     ("/savings", "Savings plan"),
