@@ -13,7 +13,7 @@ use crate::input::problem::ApiError;
 
 /// One option's cost at a horizon.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct OptionCostDto {
+pub struct PricingOptionCostDto {
     pub months: u32,
     /// Upfront cost and payments 1 to `months`.
     pub paid: String,
@@ -25,7 +25,7 @@ pub struct OptionCostDto {
 
 /// One option.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct OptionDto {
+pub struct PricingOptionDto {
     pub label: String,
     pub annual_rate_percent: String,
     pub points_percent: String,
@@ -45,7 +45,7 @@ pub struct OptionDto {
     /// more, counting what each still owes (null for the first option, or never).
     pub break_even_months_with_balances: Option<u32>,
     /// At 60, 84 and 120 months and the chosen horizon.
-    pub costs: Vec<OptionCostDto>,
+    pub costs: Vec<PricingOptionCostDto>,
     /// To the end of the term: upfront cost and every payment.
     pub cost_to_end: String,
     pub total_interest: String,
@@ -53,7 +53,7 @@ pub struct OptionDto {
 
 /// The cheapest option at a horizon.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct CheapestDto {
+pub struct CheapestOptionDto {
     pub months: u32,
     pub label: String,
 }
@@ -64,11 +64,11 @@ pub struct OptionsDto {
     pub currency: &'static str,
     pub principal: String,
     pub number_of_payments: u32,
-    pub options: Vec<OptionDto>,
+    pub options: Vec<PricingOptionDto>,
     /// The cheapest option at each horizon, then at the end of the term.
-    pub cheapest: Vec<CheapestDto>,
+    pub cheapest: Vec<CheapestOptionDto>,
     /// From each of these months on, the option named costs least (the first is month 0).
-    pub cheapest_changes: Vec<CheapestDto>,
+    pub cheapest_changes: Vec<CheapestOptionDto>,
     /// How the figures were worked out.
     pub derivation: Vec<String>,
     /// The caution first, then what was assumed.
@@ -127,7 +127,7 @@ impl OptionsDto {
                 .options
                 .iter()
                 .enumerate()
-                .map(|(i, o)| OptionDto {
+                .map(|(i, o)| PricingOptionDto {
                     label: o.option.label.clone(),
                     annual_rate_percent: percent(o.option.rate.percent()),
                     points_percent: percent(o.option.points_percent),
@@ -141,7 +141,7 @@ impl OptionsDto {
                     costs: o
                         .horizons
                         .iter()
-                        .map(|h| OptionCostDto {
+                        .map(|h| PricingOptionCostDto {
                             months: h.months,
                             paid: money(h.paid),
                             owed: money(h.owed),
@@ -155,12 +155,12 @@ impl OptionsDto {
             cheapest: a
                 .cheapest
                 .iter()
-                .map(|&(months, i)| CheapestDto { months, label: label(i) })
+                .map(|&(months, i)| CheapestOptionDto { months, label: label(i) })
                 .collect(),
             cheapest_changes: a
                 .cheapest_changes
                 .iter()
-                .map(|&(months, i)| CheapestDto { months, label: label(i) })
+                .map(|&(months, i)| CheapestOptionDto { months, label: label(i) })
                 .collect(),
             derivation: derivation(a, &money),
             notes: vec![

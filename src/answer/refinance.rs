@@ -15,7 +15,7 @@ use crate::input::refinance::{read_json, read_query, RefinanceRequest};
 
 /// Where the current loan stands.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct CurrentLoanDto {
+pub struct RefinanceCurrentDto {
     pub balance: String,
     pub annual_rate_percent: String,
     pub payment: String,
@@ -32,7 +32,7 @@ pub struct CurrentLoanDto {
 
 /// The new loan.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct NewLoanDto {
+pub struct RefinanceNewDto {
     pub principal: String,
     pub annual_rate_percent: String,
     pub payment: String,
@@ -61,7 +61,7 @@ pub struct RefinanceCostsDto {
 /// Both ways' cost at a horizon: upfront, then payments 1 to `months`, and the
 /// balance still owed after payment `months`.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct HorizonDto {
+pub struct RefinanceHorizonDto {
     pub months: u32,
     pub current_paid: String,
     pub current_owed: String,
@@ -75,7 +75,7 @@ pub struct HorizonDto {
 
 /// "In 5 years" (§1026.37(l)(1)) for one loan.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct FiveYearsDto {
+pub struct LoanFiveYearsDto {
     pub through_payment: u32,
     /// Payments through `through_payment`, and the loan costs for the new loan.
     pub total_paid: String,
@@ -84,9 +84,9 @@ pub struct FiveYearsDto {
 
 /// "In 5 years" for both loans.
 #[derive(Debug, Serialize, utoipa::ToSchema)]
-pub struct InFiveYearsDto {
-    pub current: FiveYearsDto,
-    pub new: FiveYearsDto,
+pub struct RefinanceInFiveYearsDto {
+    pub current: LoanFiveYearsDto,
+    pub new: LoanFiveYearsDto,
 }
 
 /// The refinance answer.
@@ -105,14 +105,14 @@ pub struct RefinanceDto {
     /// After that month, the first month the new loan costs more again (its
     /// longer term's further interest); null when it does not.
     pub costs_more_again_from_month: Option<u32>,
-    pub current: CurrentLoanDto,
-    pub new: NewLoanDto,
+    pub current: RefinanceCurrentDto,
+    pub new: RefinanceNewDto,
     pub costs: RefinanceCostsDto,
     /// 60, 84 and 120 months and the chosen horizon.
-    pub horizons: Vec<HorizonDto>,
+    pub horizons: Vec<RefinanceHorizonDto>,
     /// Both loans to their ends.
-    pub to_the_end: HorizonDto,
-    pub in_five_years: InFiveYearsDto,
+    pub to_the_end: RefinanceHorizonDto,
+    pub in_five_years: RefinanceInFiveYearsDto,
     /// How each figure was worked out, in order.
     pub derivation: Vec<String>,
     /// The caution first, then what was assumed.
@@ -123,8 +123,12 @@ fn percent(d: Decimal) -> String {
     d.normalize().to_string()
 }
 
-fn horizon(c: &HorizonCost, n: &HorizonCost, money: &impl Fn(Decimal) -> String) -> HorizonDto {
-    HorizonDto {
+fn horizon(
+    c: &HorizonCost,
+    n: &HorizonCost,
+    money: &impl Fn(Decimal) -> String,
+) -> RefinanceHorizonDto {
+    RefinanceHorizonDto {
         months: c.months,
         current_paid: money(c.paid),
         current_owed: money(c.owed),
@@ -136,8 +140,8 @@ fn horizon(c: &HorizonCost, n: &HorizonCost, money: &impl Fn(Decimal) -> String)
     }
 }
 
-fn five(f: &FiveYears, money: &impl Fn(Decimal) -> String) -> FiveYearsDto {
-    FiveYearsDto {
+fn five(f: &FiveYears, money: &impl Fn(Decimal) -> String) -> LoanFiveYearsDto {
+    LoanFiveYearsDto {
         through_payment: f.through_payment,
         total_paid: money(f.total_paid),
         principal_paid: money(f.principal_paid),
@@ -212,7 +216,7 @@ impl RefinanceDto {
             break_even_months: r.break_even_months,
             break_even_months_with_balances: r.break_even_months_with_balances,
             costs_more_again_from_month: r.costs_more_again_from,
-            current: CurrentLoanDto {
+            current: RefinanceCurrentDto {
                 balance: money(c.balance),
                 annual_rate_percent: percent(c.rate.percent()),
                 payment: money(c.payment),
@@ -222,7 +226,7 @@ impl RefinanceDto {
                 total_interest: money(c.remaining_interest),
                 total_paid: money(r.current_path.paid(c.remaining_payments)),
             },
-            new: NewLoanDto {
+            new: RefinanceNewDto {
                 principal: money(r.new.terms.principal),
                 annual_rate_percent: percent(r.new.terms.rate.percent()),
                 payment: money(r.new.payment),
@@ -246,7 +250,7 @@ impl RefinanceDto {
                 .map(|(c, n)| horizon(c, n, &money))
                 .collect(),
             to_the_end: horizon(&r.to_the_end.0, &r.to_the_end.1, &money),
-            in_five_years: InFiveYearsDto {
+            in_five_years: RefinanceInFiveYearsDto {
                 current: five(&r.in_five_years.0, &money),
                 new: five(&r.in_five_years.1, &money),
             },

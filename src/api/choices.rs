@@ -70,19 +70,15 @@ pub fn refinance_csv(r: &RefinanceDto) -> String {
     out
 }
 
-/// The options as CSV: one row an option.
+/// The options as CSV: one row an option and horizon (60, 84 and 120 months,
+/// the chosen horizon, then the end of the term), the option's own figures
+/// repeated on each, so that a spreadsheet filters or pivots it as it is.
 pub fn options_csv(o: &OptionsDto) -> String {
-    let mut out = String::from("label,annual_rate_percent,points_percent,points,other_costs,upfront_cost,payment,monthly_difference,break_even_months,break_even_months_with_balances");
-    if let Some(first) = o.options.first() {
-        for c in &first.costs {
-            out.push_str(&format!(",cost_{}_months", c.months));
-        }
-    }
-    out.push_str(",cost_to_end,total_interest\r\n");
+    let mut out = String::from("label,annual_rate_percent,points_percent,points,other_costs,upfront_cost,payment,monthly_difference,break_even_months,break_even_months_with_balances,total_interest,horizon_months,paid,owed,cost\r\n");
     let months = |m: Option<u32>| m.map_or(String::new(), |m| m.to_string());
     for r in &o.options {
-        out.push_str(&format!(
-            "{},{},{},{},{},{},{},{},{},{}",
+        let head = format!(
+            "{},{},{},{},{},{},{},{},{},{},{}",
             csv_field(&r.label),
             r.annual_rate_percent,
             r.points_percent,
@@ -92,13 +88,24 @@ pub fn options_csv(o: &OptionsDto) -> String {
             r.payment,
             r.monthly_difference.as_deref().unwrap_or(""),
             months(r.break_even_months),
-            months(r.break_even_months_with_balances)
-        ));
+            months(r.break_even_months_with_balances),
+            r.total_interest
+        );
         for c in &r.costs {
-            out.push(',');
-            out.push_str(&c.cost);
+            out.push_str(&format!(
+                "{head},{},{},{},{}\r\n",
+                c.months, c.paid, c.owed, c.cost
+            ));
         }
-        out.push_str(&format!(",{},{}\r\n", r.cost_to_end, r.total_interest));
+        // Nothing is owed at the end: zero with the currency's decimals.
+        let zero = match r.cost_to_end.split_once('.') {
+            Some((_, d)) => format!("0.{}", "0".repeat(d.len())),
+            None => "0".to_string(),
+        };
+        out.push_str(&format!(
+            "{head},{},{},{zero},{}\r\n",
+            o.number_of_payments, r.cost_to_end, r.cost_to_end
+        ));
     }
     out
 }

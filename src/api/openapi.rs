@@ -457,7 +457,7 @@ fn is_list_parameter(schema: &str, field: &str) -> bool {
 
 /// The query parameters a request spells out of a JSON object or list: the
 /// refinance's current loan (`current.NAME`) and the options' repeated fields.
-fn expanded_parameters(request: &str) -> Vec<Value> {
+fn expanded_parameters(request: &str, example: &[(String, String)]) -> Vec<Value> {
     let fields: Vec<(String, &crate::input::table::Field, bool)> = match request {
         "RefinanceQuery" => crate::input::refinance::CURRENT_FIELDS
             .iter()
@@ -494,6 +494,16 @@ fn expanded_parameters(request: &str) -> Vec<Value> {
             if repeated {
                 p["style"] = json!("form");
                 p["explode"] = json!(true);
+            }
+            let values: Vec<&str> = example
+                .iter()
+                .filter(|(k, _)| *k == name)
+                .map(|(_, v)| v.as_str())
+                .collect();
+            if repeated && !values.is_empty() {
+                p["example"] = json!(values);
+            } else if let [one] = values.as_slice() {
+                p["example"] = json!(one);
             }
             p
         })
@@ -652,7 +662,7 @@ fn parameters(op: &Operation, schemas: &Map<String, Value>) -> Vec<Value> {
         }
         out.push(p);
     }
-    out.extend(expanded_parameters(name));
+    out.extend(expanded_parameters(name, &example_pairs));
     out
 }
 

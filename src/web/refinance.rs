@@ -134,7 +134,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<RefinanceResult, ApiError> 
     let headline = if saving > rust_decimal::Decimal::ZERO {
         format!(
             "Refinancing lowers the payment by {} a month; the costs of {} are recovered {}.",
-            g(&dto.monthly_change.trim_start_matches('-')),
+            g(dto.monthly_change.trim_start_matches('-')),
             g(&dto.costs.total_costs),
             match dto.break_even_months_with_balances {
                 Some(m) => format!("by month {m}, counting what each loan still owes"),
@@ -144,7 +144,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<RefinanceResult, ApiError> 
     } else {
         format!(
             "The new payment is {} a month more (or no lower): refinancing does not pay through the payment.",
-            g(&dto.monthly_change.trim_start_matches('-'))
+            g(dto.monthly_change.trim_start_matches('-'))
         )
     };
     let figures = vec![

@@ -7,8 +7,14 @@ use serde_json::{Map, Value};
 use crate::helpers::{shared_app, spawn_app, TestApp};
 
 /// The routes of `src/server.rs` the document must describe, with their methods.
-const ROUTES: [(&str, &[&str]); 16] = [
+const ROUTES: [(&str, &[&str]); 22] = [
     ("/api/v1/loans/schedule", &["get", "post"]),
+    ("/api/v1/refinance", &["get", "post"]),
+    ("/api/v1/refinance.csv", &["get"]),
+    ("/api/v1/loans/options", &["get", "post"]),
+    ("/api/v1/loans/options.csv", &["get"]),
+    ("/api/v1/loans/grid", &["get"]),
+    ("/api/v1/loans/grid.csv", &["get"]),
     ("/api/v1/loans/schedule.csv", &["get"]),
     ("/api/v1/loans/compare", &["get", "post"]),
     ("/api/v1/loans/compare.csv", &["get"]),
