@@ -208,6 +208,62 @@ fn benches(c: &mut Criterion) {
     c.bench_function("milestone_lookup_80_percent_closed_form", |b| {
         b.iter(|| first_at_or_below(black_box(&cf), d("200000"), 0, 359).unwrap())
     });
+    choices(c, &terms);
+}
+
+/// The choices between loans: a 13 × 6 payment grid (goal: at most 50 µs) and a
+/// refinance with both break-evens (goal: at most 80 µs).
+fn choices(c: &mut Criterion, terms: &LoanTerms) {
+    use residue::engine::choices::grid::payment_grid;
+    use residue::engine::choices::refinance::{
+        current_position, refinance, CurrentLoan, RefinanceCosts,
+    };
+    let rates: Vec<AnnualRate> = (0..13)
+        .map(|k| AnnualRate::from_percent(d("6") + Decimal::new(125 * k, 3)).unwrap())
+        .collect();
+    let terms_months = [120u32, 180, 240, 300, 360, 480];
+    c.bench_function("payment_grid_13_rates_by_6_terms", |b| {
+        b.iter(|| {
+            payment_grid(
+                black_box(&[d("300000")]),
+                &rates,
+                &terms_months,
+                Frequency::Monthly,
+                Currency::USD,
+                PaymentRounding::Nearest,
+            )
+            .unwrap()
+        })
+    });
+    let current = CurrentLoan::Original {
+        principal: d("240000"),
+        rate: AnnualRate::from_percent(d("7.5")).unwrap(),
+        term_payments: 360,
+        payments_made: 48,
+    };
+    let new_terms = LoanTerms {
+        principal: d("231000"),
+        rate: AnnualRate::from_percent(d("6.25")).unwrap(),
+        ..terms.clone()
+    };
+    let costs = RefinanceCosts {
+        closing_costs: d("3200"),
+        points_percent: d("1"),
+        financed_costs: d("2000"),
+    };
+    c.bench_function("refinance_with_both_break_evens", |b| {
+        b.iter(|| {
+            let position = current_position(black_box(&current), Currency::USD).unwrap();
+            refinance(
+                position,
+                &new_terms,
+                &PlanOptions::default(),
+                costs.clone(),
+                Some(96),
+            )
+            .unwrap()
+        })
+    });
 }
 
 criterion_group! {
