@@ -92,6 +92,37 @@ fn operations(base: &str) -> Vec<Operation> {
             page: "/compare",
         },
         Operation {
+            id: "refinance",
+            title: "Does refinancing pay",
+            method_path: "GET or POST /api/v1/refinance (CSV: /api/v1/refinance.csv)",
+            words: "The current loan (paid monthly) as current: {balance, annual_rate_percent, remaining_payments} or {principal, annual_rate_percent, term_months, payments_made} (then the balance is the posted ledger's after that payment, with the closed form's beside it); the new loan as new: the schedule's fields, its principal by default the balance + financed_costs + cash_out; and closing_costs, points_percent (negative: a lender credit), financed_costs, cash_out and horizon_months at the top. In a query the current loan's fields are current.NAME and the new loan's are the schedule's own names. The answer: current_payment, new_payment, monthly_change, break_even_months (costs ÷ monthly saving, rounded up; null when the new payment is not lower), break_even_months_with_balances (the first month by which the new loan has cost no more, each way's cost being the cash paid at closing, the payments made and the balance still owed), costs_more_again_from_month, each way's cost at 60, 84 and 120 months, the chosen horizon and to the end, \"In 5 years\" (§1026.37(l)(1)) for both, and the derivation.",
+            examples: ex(&[
+                "curl '{base}/api/v1/refinance?current.balance=187500&current.annual_rate_percent=7.25&current.remaining_payments=312&annual_rate_percent=6.125&term_months=360&closing_costs=3200&points_percent=1'",
+                "curl -H 'content-type: application/json' -d '{\"current\":{\"principal\":\"240000\",\"annual_rate_percent\":\"7.5\",\"term_months\":360,\"payments_made\":48},\"new\":{\"annual_rate_percent\":\"6.25\",\"term_months\":300},\"closing_costs\":\"3200\",\"financed_costs\":\"3200\"}' {base}/api/v1/refinance",
+            ]),
+            page: "/refinance",
+        },
+        Operation {
+            id: "options",
+            title: "Rate and points",
+            method_path: "GET or POST /api/v1/loans/options (CSV: /api/v1/loans/options.csv)",
+            words: "One loan (the schedule's fields without a rate) and options, two to six of {label, annual_rate_percent, points_percent, other_costs}; in a query each option's fields repeat in order as option_label, option_rate_percent, option_points_percent and option_other_costs. For each option: payment, upfront_cost, monthly_difference against the first, break_even_months and break_even_months_with_balances (the months for the option that costs more upfront to recover the difference), and its cost at 60, 84 and 120 months, horizon_months and the end. Then cheapest (the least cost at each horizon) and cheapest_changes (the months at which the cheapest option changes). The CSV has one row an option and horizon.",
+            examples: ex(&[
+                "curl '{base}/api/v1/loans/options?principal=200000&term_months=360&option_label=Par&option_rate_percent=6.75&option_label=Two%20points&option_rate_percent=6.25&option_points_percent=2'",
+            ]),
+            page: "/options",
+        },
+        Operation {
+            id: "grid",
+            title: "A payment grid",
+            method_path: "GET /api/v1/loans/grid (CSV: /api/v1/loans/grid.csv)",
+            words: "principal (one amount or several, comma-separated), rates (a list 6.25,6.5 or a range with a step 6.000..7.500/0.125, both ends included) and terms in months (comma-separated); payment_frequency and currency as for a schedule. Each cell gives the payment (rounded to the cent as a schedule rounds it) and per_thousand, the payment per 1,000 borrowed: the factor per 1 rounded up to five places, times 1,000, as the factor tables of 7 CFR 1942.19 print it. At most 2,000 cells.",
+            examples: ex(&[
+                "curl '{base}/api/v1/loans/grid.csv?principal=300000&rates=6.000..7.500/0.125&terms=180,240,360'",
+            ]),
+            page: "/grid",
+        },
+        Operation {
             id: "check",
             title: "Checking a quote",
             method_path: "GET or POST /api/v1/loans/check",

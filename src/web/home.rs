@@ -14,7 +14,7 @@ pub struct Job {
 }
 
 /// The jobs, in the order the home page lists them.
-pub const JOBS: [Job; 4] = [
+pub const JOBS: [Job; 7] = [
     Job {
         title: "Schedule a loan",
         path: "/loan",
@@ -24,6 +24,21 @@ pub const JOBS: [Job; 4] = [
         title: "Compare plans",
         path: "/compare",
         words: "Up to four plans side by side: 15, 20 or 30 years, another rate, another payment; what each costs and saves.",
+    },
+    Job {
+        title: "Weigh a refinance",
+        path: "/refinance",
+        words: "Does refinancing pay, and when? Both payments, the months to recover the costs (with and without the balances counted), and each way's cost at 5, 7 and 10 years.",
+    },
+    Job {
+        title: "Weigh rate and points",
+        path: "/options",
+        words: "Two to six rate-and-points options on one loan: each payment, when paying points pays for itself, and which option costs least at each horizon.",
+    },
+    Job {
+        title: "Print a payment grid",
+        path: "/grid",
+        words: "The payment at each rate and term on one sheet, with the payment per 1,000 borrowed; every payment opens its schedule.",
     },
     Job {
         title: "Check a quote",

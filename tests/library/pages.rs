@@ -391,8 +391,20 @@ async fn the_api_guide_has_a_section_for_every_problem_type() {
 }
 
 /// Each page template and the route that renders it.
-const TEMPLATE_ROUTES: [(&str, &str); 8] = [
+const TEMPLATE_ROUTES: [(&str, &str); 11] = [
     ("home.html", "/"),
+    (
+        "refinance.html",
+        "/refinance?current.balance=150000&current.annual_rate_percent=7&current.remaining_payments=240&annual_rate_percent=6&term_months=240&closing_costs=2000",
+    ),
+    (
+        "options.html",
+        "/options?principal=200000&term_months=360&option_rate_percent=6.75&option_rate_percent=6.25&option_points_percent=0&option_points_percent=2",
+    ),
+    (
+        "grid.html",
+        "/grid?principal=300000&rates=6,6.5&terms=180,360",
+    ),
     ("pipeline.html", "/pipeline"),
     (
         "loan.html",

@@ -348,7 +348,14 @@ pub fn refinance(
     let end = current_path.months().max(new_path.months());
     let in_five_years = (
         five_years(&current_path, current.balance, Decimal::ZERO),
-        five_years(&new_path, new_terms.principal, total_costs),
+        // Loan costs (§1026.37(f)) are what is charged; a lender credit is
+        // disclosed apart from them (§1026.38(h)(3)), so negative points do not
+        // lower the loan costs counted "In 5 years".
+        five_years(
+            &new_path,
+            new_terms.principal,
+            costs.closing_costs + points.max(Decimal::ZERO),
+        ),
     );
     Ok(Refinance {
         to_the_end: (
