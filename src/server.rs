@@ -123,17 +123,21 @@ const TABLES: [&str; 6] = [
     "/api/v1/loans/grid",
 ];
 
-/// 406 (a problem) when the Accept header takes none of the operation's media
-/// types: JSON, CSV too for a table, CSV alone at a `.csv` address.
-async fn negotiate(req: Request, next: Next) -> Response {
-    let path = req.uri().path();
-    let offered: &[&str] = if path.ends_with(".csv") {
+/// The media types an operation at `path` answers.
+fn offered(path: &str) -> &'static [&'static str] {
+    if path.ends_with(".csv") {
         &["text/csv"]
     } else if TABLES.contains(&path) {
         &["application/json", "text/csv"]
     } else {
         &["application/json"]
-    };
+    }
+}
+
+/// 406 (a problem) when the Accept header takes none of the operation's media
+/// types: JSON, CSV too for a table, CSV alone at a `.csv` address.
+async fn negotiate(req: Request, next: Next) -> Response {
+    let offered = offered(req.uri().path());
     if !crate::input::http::acceptable(req.headers(), offered) {
         return ApiError::new(
             ProblemKind::NotAcceptable,
@@ -230,6 +234,12 @@ fn cache_key(state: &AppState, req: &Request) -> Option<String> {
     let path = req.uri().path();
     if DOCUMENTS.contains(&path) {
         return Some(path.to_string());
+    }
+    // An operation asked for in a media type it does not answer is refused
+    // (406) by the router, never served from the store.
+    if path.starts_with("/api/v1/") && !crate::input::http::acceptable(req.headers(), offered(path))
+    {
+        return None;
     }
     let representation = if crate::input::http::wants_csv(req.headers()) {
         "csv"

@@ -190,6 +190,9 @@ fn json_pointers(mut e: ApiError) -> ApiError {
             };
         }
     }
+    if let [one] = e.errors.as_slice() {
+        e.detail = format!("{}: {}", one.pointer, one.message);
+    }
     e
 }
 

@@ -47,7 +47,11 @@ pub fn refinance_csv(r: &RefinanceDto) -> String {
         &r.new.principal,
         "",
     );
-    row("total_costs", "0", "0", &r.costs.total_costs, "");
+    let zero = match r.costs.total_costs.split_once('.') {
+        Some((_, d)) => format!("0.{}", "0".repeat(d.len())),
+        None => "0".to_string(),
+    };
+    row("total_costs", "0", &zero, &r.costs.total_costs, "");
     for h in r.horizons.iter().chain(std::iter::once(&r.to_the_end)) {
         let m = h.months.to_string();
         row("paid", &m, &h.current_paid, &h.new_paid, "");

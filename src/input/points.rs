@@ -331,6 +331,20 @@ pub fn read_query(pairs: &[(String, String)], lenient: bool) -> Result<OptionsRe
     };
     let columns: Vec<Vec<&str>> = QUERY_NAMES.iter().map(|n| column(n)).collect();
     let rows = columns.iter().map(Vec::len).max().unwrap_or(0);
+    // The fields of an option are matched by position: each given field must be
+    // given once an option (empty for its default), or they would slide onto
+    // the wrong options.
+    for (name, column) in QUERY_NAMES.iter().zip(&columns) {
+        if !column.is_empty() && column.len() != rows {
+            errors.push(FieldError::new(
+                (*name).to_string(),
+                format!(
+                    "is given {} times for {rows} options: give it once an option, in order (empty for its default), so each value meets its option",
+                    column.len()
+                ),
+            ));
+        }
+    }
     let mut options = Vec::new();
     let mut count = 0;
     for r in 0..rows {

@@ -133,13 +133,11 @@ pub fn compute(pairs: &[(String, String)]) -> Result<OptionsResult, ApiError> {
             }
         })
         .collect();
-    let n = dto.cheapest.len();
     let cheapest = dto
         .cheapest
         .iter()
-        .enumerate()
-        .map(|(i, c)| {
-            if i + 1 == n {
+        .map(|c| {
+            if c.months == dto.number_of_payments {
                 format!("To the end of the term: {}", c.label)
             } else {
                 format!("After {}: {}", years_words(c.months), c.label)

@@ -11,6 +11,7 @@ mod batch;
 mod bounds;
 mod catalogue;
 mod checks;
+mod choices;
 mod conventions;
 mod disclosure;
 mod errors;

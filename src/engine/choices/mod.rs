@@ -120,15 +120,22 @@ pub fn falls_back_after(earlier: &CostPath, later: &CostPath, from: u32) -> Opti
     (from + 1..=end).find(|&m| later.cost(m) > earlier.cost(m))
 }
 
-/// The horizons costed: 5, 7 and 10 years, and the one asked for.
+/// The horizons costed, in order: 5, 7 and 10 years, and the one asked for.
 pub fn horizons(chosen: Option<u32>) -> Vec<u32> {
     let mut h = HORIZONS.to_vec();
     if let Some(c) = chosen {
         if !h.contains(&c) {
             h.push(c);
+            h.sort_unstable();
         }
     }
     h
+}
+
+/// A simple break-even within `months` (the loan that recovers the costs ends
+/// by then): a later month is no break-even.
+pub fn within(break_even: Option<u32>, months: u32) -> Option<u32> {
+    break_even.filter(|&m| m <= months)
 }
 
 #[cfg(test)]

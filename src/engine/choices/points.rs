@@ -4,7 +4,7 @@
 use rust_decimal::Decimal;
 
 use super::refinance::{horizon_cost, points_amount, HorizonCost};
-use super::{balance_break_even, horizons, simple_break_even, CostPath};
+use super::{balance_break_even, horizons, simple_break_even, within, CostPath};
 use crate::engine::error::{EngineError, Result};
 use crate::engine::plan::PlanOptions;
 use crate::engine::rate::AnnualRate;
@@ -136,11 +136,17 @@ pub fn compare_options(
         let extra = o.upfront_cost - first.upfront_cost;
         o.costs_more_upfront = extra > Decimal::ZERO;
         if extra >= Decimal::ZERO {
-            o.break_even_months = simple_break_even(extra, -o.monthly_difference);
+            o.break_even_months = within(
+                simple_break_even(extra, -o.monthly_difference),
+                o.path.months(),
+            );
             o.break_even_months_with_balances = balance_break_even(&first.path, &o.path);
         } else {
             // The first option costs more upfront: when does it catch up?
-            o.break_even_months = simple_break_even(-extra, o.monthly_difference);
+            o.break_even_months = within(
+                simple_break_even(-extra, o.monthly_difference),
+                first.path.months(),
+            );
             o.break_even_months_with_balances = balance_break_even(&o.path, &first.path);
         }
     }
@@ -149,7 +155,9 @@ pub fn compare_options(
         .iter()
         .map(|&m| (m, least(costed.iter().map(|o| o.path.cost(m)))))
         .collect();
-    cheapest.push((end, least(costed.iter().map(|o| o.path.cost(end)))));
+    if !hs.contains(&end) {
+        cheapest.push((end, least(costed.iter().map(|o| o.path.cost(end)))));
+    }
     let mut cheapest_changes: Vec<(u32, usize)> = Vec::new();
     for m in 0..=end {
         let i = least(costed.iter().map(|o| o.path.cost(m)));

@@ -3,7 +3,7 @@
 
 use rust_decimal::{Decimal, RoundingStrategy};
 
-use super::{balance_break_even, falls_back_after, horizons, simple_break_even, CostPath};
+use super::{balance_break_even, falls_back_after, horizons, simple_break_even, within, CostPath};
 use crate::engine::error::{EngineError, OrOverflow, Result};
 use crate::engine::ledger::Row;
 use crate::engine::loan::balance_after;
@@ -337,7 +337,10 @@ pub fn refinance(
         &new.ledger.rows,
     )?;
     let monthly_change = new.payment - current.payment;
-    let break_even_months = simple_break_even(total_costs, -monthly_change);
+    let break_even_months = within(
+        simple_break_even(total_costs, -monthly_change),
+        new_path.months(),
+    );
     let with_balances = balance_break_even(&current_path, &new_path);
     let costs_more_again_from =
         with_balances.and_then(|m| falls_back_after(&current_path, &new_path, m));
