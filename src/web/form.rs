@@ -65,6 +65,63 @@ fn prefixed_table(prefix: &str) -> &'static [Spec] {
     }
 }
 
+/// The field of a query parameter, a prefixed one ("current.balance") included.
+fn param_spec(name: &str) -> Option<&'static Spec> {
+    match name.split_once('.') {
+        Some((prefix, field)) => prefixed_table(prefix)
+            .iter()
+            .find(|s| s.name == field && !s.label.is_empty()),
+        None => spec(name),
+    }
+}
+
+/// Repeatable rows as the API reads them: the fields `names` taken by position,
+/// rows left wholly blank dropped, every other row written whole (an empty
+/// field kept, so the fields after it stay with their row), numbers in the
+/// `numeric` columns written plainly; the other parameters as [`normalize`]
+/// writes them, before the rows.
+pub fn normalize_rows(
+    pairs: &[(String, String)],
+    names: &[&str],
+    numeric: &[bool],
+) -> Vec<(String, String)> {
+    let rest: Vec<(String, String)> = pairs
+        .iter()
+        .filter(|(k, _)| !names.contains(&k.as_str()))
+        .cloned()
+        .collect();
+    let mut out = normalize(&rest, false);
+    let columns: Vec<Vec<&str>> = names
+        .iter()
+        .map(|n| {
+            pairs
+                .iter()
+                .filter(|(k, _)| k == n)
+                .map(|(_, v)| v.as_str())
+                .collect()
+        })
+        .collect();
+    let rows = columns.iter().map(Vec::len).max().unwrap_or(0);
+    for r in 0..rows {
+        let cells: Vec<&str> = columns
+            .iter()
+            .map(|c| c.get(r).copied().unwrap_or("").trim())
+            .collect();
+        if cells.iter().all(|c| c.is_empty()) {
+            continue;
+        }
+        for ((name, cell), number) in names.iter().zip(&cells).zip(numeric) {
+            let value = if *number && !cell.is_empty() {
+                tidy_number(cell)
+            } else {
+                (*cell).to_string()
+            };
+            out.push(((*name).to_string(), value));
+        }
+    }
+    out
+}
+
 /// The words of a field in any form table.
 pub fn spec(name: &str) -> Option<&'static Spec> {
     spec_in(&[], name)
@@ -241,11 +298,10 @@ impl Form {
             for name in *names {
                 // A name under a prefix ("current.balance") is a field of the
                 // prefix's own table ("balance" of the current loan).
-                let spec = match name.split_once('.') {
-                    Some((prefix, field)) => prefixed_table(prefix)
-                        .iter()
-                        .find(|s| s.name == field && !s.label.is_empty()),
-                    None => spec_in(tables, name),
+                let spec = if name.contains('.') {
+                    param_spec(name)
+                } else {
+                    spec_in(tables, name)
                 };
                 let Some(spec) = spec else {
                     continue;
@@ -492,7 +548,7 @@ pub fn normalize(pairs: &[(String, String)], lists: bool) -> Vec<(String, String
         .iter()
         .filter(|(_, v)| !v.trim().is_empty())
         .map(|(k, v)| {
-            let kind = spec(k).map(kind_of);
+            let kind = param_spec(k).map(kind_of);
             let money_or_rate = kind == Some(Kind::Number);
             let number = money_or_rate || kind == Some(Kind::Whole) || k == "term_months";
             let value = if k == "prepaid_finance_charges" {

@@ -4,7 +4,7 @@ use askama::Template;
 use axum::extract::RawQuery;
 use axum::response::Response;
 
-use super::form::{normalize, query_string, Form, Rows};
+use super::form::{normalize_rows, query_string, Form, Rows};
 use super::page::{render_form, Layout};
 use super::refinance::years_words;
 use super::view::group_thousands;
@@ -81,7 +81,7 @@ fn months(m: Option<u32>) -> String {
 /// # Errors
 /// The API's problem.
 pub fn compute(pairs: &[(String, String)]) -> Result<OptionsResult, ApiError> {
-    let normalized = normalize(pairs, false);
+    let normalized = normalize_rows(pairs, &QUERY_NAMES, &[false, true, true, true]);
     let a = from_query(&normalized, true)?;
     let dto = OptionsDto::from_answer(&a);
     let g = |s: &str| group_thousands(s);

@@ -9,6 +9,12 @@ export const PAGES = [
   { name: 'check-result', path: '/check?principal=250000&annual_rate_percent=6.5&term_months=360&quoted_payment=1580.17&quoted_apr_percent=6.6', caution: true },
   { name: 'savings-form', path: '/savings' },
   { name: 'savings-result', path: '/savings?deposit=250&annual_rate_percent=4.5&term_months=120', caution: true },
+  { name: 'refinance-form', path: '/refinance' },
+  { name: 'refinance-result', path: '/refinance?current.balance=187500&current.annual_rate_percent=7.25&current.remaining_payments=312&annual_rate_percent=6.125&term_months=360&closing_costs=3200&points_percent=1', caution: true },
+  { name: 'options-form', path: '/options' },
+  { name: 'options-result', path: '/options?principal=200000&term_months=360&option_label=No+points&option_rate_percent=6.75&option_points_percent=0&option_other_costs=0&option_label=Two+points&option_rate_percent=6.25&option_points_percent=2&option_other_costs=0', caution: true },
+  { name: 'grid-form', path: '/grid' },
+  { name: 'grid-result', path: '/grid?principal=300000&rates=6.000..7.500/0.125&terms=120,180,240,300,360', caution: true },
   { name: 'about', path: '/about' },
   { name: 'api', path: '/api' },
 ];
