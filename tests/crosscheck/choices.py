@@ -179,7 +179,7 @@ def show(c) -> str:
 
 def exact_payment(principal_c: int, i: Fraction, n: int) -> Fraction:
     """The level payment P·i / (1 − (1 + i)^−n) in cents, exactly (the annuity
-    formula: common practice, no source; numpy-financial's pmt is the same formula)."""
+    formula: common practice, no source; numpy-financial's level payment is the same formula)."""
     if i == 0:
         return Fraction(principal_c, n)
     return principal_c * i / (1 - (1 + i) ** -n)
@@ -354,7 +354,7 @@ def check_grid_cells(rep: Report, name: str, pairs, principals, rates, terms, fr
         i = rate / 100 / per_year
         exact = exact_payment(P, i, n)  # cents, exact
         key = f"{show(P)} at {c['annual_rate_percent']} % × {c['term_months']} months"
-        # numpy-financial 1.0.0 npf.pmt(rate / per_year, n, −principal), float64: agrees with the
+        # numpy-financial 1.0.0 level_payment_float(rate / per_year, n, −principal), float64: agrees with the
         # exact Fraction payment to 1e-6 of a dollar ...
         npf_pay = float(level_payment_float(float(rate) / 100 / per_year, n, -P / 100))
         npf_d.count += 1
@@ -372,7 +372,7 @@ def check_grid_cells(rep: Report, name: str, pairs, principals, rates, terms, fr
         # 7 CFR 1942.19(e)(2): the factor per 1 rounded UP to 5 decimals, × 1,000, 2 decimals shown.
         ptd_d.money(f"{key} per_thousand", c["per_thousand"], per_thousand_ref(i, n))
         ptd_d.eq(f"{key} per_thousand shows 2 decimals", len(c["per_thousand"].split(".")[-1]), 2)
-    rep.bulk(f"{name}: payments = numpy-financial npf.pmt rounded to the cent (and within 1e-6 of the exact value)",
+    rep.bulk(f"{name}: payments = numpy-financial's level payment rounded to the cent (and within 1e-6 of the exact value)",
              npf_d.failures, npf_d.count, a.where)
     rep.bulk(f"{name}: payments = exact Fraction P·i/(1−(1+i)^−n) half up to the cent", exact_d.failures,
              exact_d.count, a.where)
@@ -434,7 +434,7 @@ def check_grid_cfr(rep: Report, name: str):
 
 
 def check_grid_frequencies(rep: Report, name: str):
-    # Annual and semiannual grids: npf.pmt at rate/1 and rate/2 over term/12 and term/6 payments.
+    # Annual and semiannual grids: level_payment_float at rate/1 and rate/2 over term/12 and term/6 payments.
     for frequency in ("annual", "semiannual"):
         principals = ["250000", "99999.99"]
         rates = grid_range("3.000", "9.000", "0.375")
@@ -562,7 +562,7 @@ def options_body(principal: str, term: int, options: list[dict], horizon=None):
 def check_options_hand_worked(rep: Report, name: str):
     # 200,000 over 360 months at 6.75 % with no points against 6.25 % with 2 points.
     # Hand-worked (the annuity formula, common practice, no source; numpy-financial agrees:
-    # npf.pmt(0.0675/12, 360, -200000) = 1297.1969…, npf.pmt(0.0625/12, 360, -200000) = 1231.4266…):
+    # level_payment_float(0.0675/12, 360, -200000) = 1297.1969…, level_payment_float(0.0625/12, 360, -200000) = 1231.4266…):
     # payments 1,297.20 and 1,231.43, 65.77 less a month; 2 % × 200,000 = 4,000.00 of points;
     # simple break-even ⌈4000 / 65.77⌉ = ⌈60.82⌉ = 61 months (common practice, no source).
     options = [
@@ -578,7 +578,7 @@ def check_options_hand_worked(rep: Report, name: str):
     rep.check(f"{name}: numpy-financial's payments round to 1,297.20 and 1,231.43",
               (round(float(level_payment_float(0.0675 / 12, 360, -200000)), 2),
                round(float(level_payment_float(0.0625 / 12, 360, -200000)), 2)) == (1297.20, 1231.43),
-              "npf.pmt(0.0675/12, 360, -200000), npf.pmt(0.0625/12, 360, -200000)")
+              "level_payment_float(0.0675/12, 360, -200000), level_payment_float(0.0625/12, 360, -200000)")
     b = post(OPTIONS, options_body("200000", 360, options))
     rep.check(f"{name}: the POST JSON twin answers the same", b.status == 200 and b.json() == j,
               f"HTTP {b.status}", b.where)
@@ -661,7 +661,7 @@ def refinance_reference(case: dict):
         led = original.tail(made)
         balance = led.principal
         # The closed form's balance after k payments of the posted payment, unrounded
-        # (common practice, no source): P(1+i)^k − pmt((1+i)^k − 1)/i, in dollars.
+        # (common practice, no source): P(1+i)^k − payment·((1+i)^k − 1)/i, in dollars.
         i = rate / 1200
         g = (1 + i) ** made
         closed = (cents(cur["principal"]) * g - original.payment * (g - 1) / i) / 100 if i else \
@@ -854,7 +854,7 @@ def check_refinance_same_loan(rep: Report, name: str, rng_state):
 def check_refinance_longer_term(rep: Report, name: str):
     # current: 150,000 at 7 % with 240 payments left; new: 30 years at 6.5 %.
     # Hand-worked (annuity formula, common practice, no source; numpy-financial agrees:
-    # npf.pmt(0.07/12, 240, -150000) = 1162.9484…, npf.pmt(0.065/12, 360, -150000) = 948.1020…):
+    # level_payment_float(0.07/12, 240, -150000) = 1162.9484…, level_payment_float(0.065/12, 360, -150000) = 948.1020…):
     # payments 1,162.95 and 948.10, 214.85 less a month. The 30-year loan repays far more
     # slowly, so what each way has cost (payments + balance still owed) tells another story:
     #
