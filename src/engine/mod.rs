@@ -9,6 +9,7 @@
 //! size of the terms (the property tests' bound), and money is always rounded
 //! with an explicit rule.
 
+pub mod adjustable;
 pub mod apr;
 pub mod apy;
 pub mod calendar;

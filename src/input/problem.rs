@@ -202,7 +202,16 @@ impl ApiError {
         };
         let errors = e
             .field
-            .map(|f| vec![FieldError::new(format!("{prefix}{f}"), e.message.clone())])
+            .map(|f| {
+                // A nested field (`adjustable.margin_percent`) is a path in a
+                // JSON Pointer, and keeps its dot in a query's names.
+                let f = if prefix.ends_with('/') {
+                    f.replace('.', "/")
+                } else {
+                    f.to_string()
+                };
+                vec![FieldError::new(format!("{prefix}{f}"), e.message.clone())]
+            })
             .unwrap_or_default();
         Self {
             kind,

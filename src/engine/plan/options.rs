@@ -5,6 +5,7 @@
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
+use crate::engine::adjustable::{AdjustableRate, MortgageInsurance, RatePath};
 use crate::engine::calendar::DayCount;
 use crate::engine::error::{EngineError, Result};
 use crate::engine::rate::AnnualRate;
@@ -85,6 +86,14 @@ pub struct PlanOptions {
     pub rate_change_keeps: RateChangeKeeps,
     /// The original value of the property, for the HPA milestones.
     pub property_value: Option<Decimal>,
+    /// Adjustable-rate terms: the rate changes then come from `rate_path`.
+    pub adjustable: Option<AdjustableRate>,
+    /// The path an adjustable rate is assumed to take (default: composite).
+    pub rate_path: RatePath,
+    /// Estimated escrow (taxes and insurance) with each payment.
+    pub escrow_monthly: Option<Decimal>,
+    /// Mortgage insurance with each payment.
+    pub mortgage_insurance: Option<MortgageInsurance>,
 }
 
 /// The expected work of posting a plan, in payment-segments: its payments (the
@@ -96,7 +105,30 @@ pub fn expected_work(terms: &LoanTerms, o: &PlanOptions) -> u64 {
         LoanTerm::Payments(n) => n,
         LoanTerm::Payment(_) => MAX_PAYMENTS,
     };
-    u64::from(payments) * (1 + o.extras.len() as u64 + o.rate_changes.len() as u64)
+    let changes = match &o.adjustable {
+        // Each path posted (the schedule's, and three more for the disclosure).
+        Some(a) => 4 * (1 + u64::from(payments / a.change_every.max(1))),
+        None => o.rate_changes.len() as u64,
+    };
+    u64::from(payments) * (1 + o.extras.len() as u64 + changes)
+}
+
+/// The interface's name of an adjustable term's field: `adjustable.NAME`.
+pub fn adjustable_field(name: &'static str) -> &'static str {
+    match name {
+        "index_percent" => "adjustable.index_percent",
+        "margin_percent" => "adjustable.margin_percent",
+        "first_change_payment" => "adjustable.first_change_payment",
+        "change_every" => "adjustable.change_every",
+        "first_change_cap_percent" => "adjustable.first_change_cap_percent",
+        "periodic_cap_percent" => "adjustable.periodic_cap_percent",
+        "lifetime_max_percent" => "adjustable.lifetime_max_percent",
+        "floor_percent" => "adjustable.floor_percent",
+        "rounding" => "adjustable.rounding",
+        "payment_cap_percent" => "adjustable.payment_cap_percent",
+        "index_values" => "rate_path",
+        other => other,
+    }
 }
 
 fn err(field: &'static str, message: impl Into<String>) -> EngineError {
@@ -128,6 +160,38 @@ pub fn check(terms: &LoanTerms, o: &PlanOptions, n: u32) -> Result<()> {
             return Err(err(
                 "balloon_after_payments",
                 "the balloon must fall due after the interest-only period",
+            ));
+        }
+    }
+    if let Some(a) = &o.adjustable {
+        if !o.rate_changes.is_empty() {
+            return Err(err(
+                "rate_changes",
+                "an adjustable-rate loan takes its rate changes from its index, margin and caps: give rate_changes or adjustable, not both",
+            ));
+        }
+        if o.rate_change_keeps == RateChangeKeeps::Payment {
+            return Err(err(
+                "rate_change_keeps",
+                "an adjustable-rate loan re-amortises at each change (keeps the term); use payment_cap_percent to limit the payment",
+            ));
+        }
+        a.check(terms.rate.percent(), n).map_err(|e| EngineError {
+            field: e.field.map(adjustable_field),
+            ..e
+        })?;
+        if !matches!(terms.term, LoanTerm::Payments(_)) {
+            return Err(err(
+                "payment",
+                "an adjustable-rate loan needs its term (term_months or term_payments): the payment is worked out again at each change",
+            ));
+        }
+    }
+    if let Some(m) = &o.mortgage_insurance {
+        if m.payments.is_some_and(|p| p == 0 || p > n) {
+            return Err(err(
+                "mortgage_insurance_payments",
+                format!("must be a number of payments from 1 to {n}, the term"),
             ));
         }
     }

@@ -6,15 +6,17 @@ use jiff::civil::Date;
 use rust_decimal::Decimal;
 
 use super::options::{
-    check, extras_at, last_extra, Extra, OddDaysInterest, PlanOptions, RateChangeKeeps,
+    check, extras_at, last_extra, Extra, OddDaysInterest, PlanOptions, RateChange, RateChangeKeeps,
 };
 use super::segments::{reconcile, solve_segments, Segment};
+use crate::engine::adjustable::RECAST_EVERY;
 use crate::engine::calendar::{due_dates, period_before};
 use crate::engine::error::{EngineError, Result};
 use crate::engine::ledger::{from_minor, to_minor, InterestPoster};
 use crate::engine::loan::payment_for_term;
 use crate::engine::rate::AnnualRate;
 use crate::engine::terms::{LoanTerm, LoanTerms, MAX_PAYMENTS};
+use rust_decimal::RoundingStrategy;
 
 /// One posted payment: the ledger's row (the schedule moves the plan's rows into
 /// its ledger rather than copying them).
@@ -316,6 +318,20 @@ fn post_inner(
     let n = scheduled_payments(terms, i0)?;
     check(terms, o, n)?;
     let extras: &[Extra] = if with_extras { &o.extras } else { &[] };
+    // An adjustable rate's changes come from its path.
+    let derived;
+    let rate_changes: &[RateChange] = match &o.adjustable {
+        Some(a) => {
+            derived = a.rate_changes(terms.rate.percent(), &o.rate_path, n)?;
+            &derived
+        }
+        None => &o.rate_changes,
+    };
+    let payment_cap = o
+        .adjustable
+        .as_ref()
+        .and_then(|a| a.payment_cap_percent)
+        .map(|cap| Decimal::ONE + cap / Decimal::ONE_HUNDRED);
     let mut notes = Vec::new();
 
     // The odd first period.
@@ -377,7 +393,7 @@ fn post_inner(
     let level = !with_segments
         && !keep_rows
         && extras.is_empty()
-        && o.rate_changes.is_empty()
+        && rate_changes.is_empty()
         && o.interest_only_payments == 0
         && o.balloon_after_payments.is_none();
     if level {
@@ -414,33 +430,43 @@ fn post_inner(
     }
     while !level && k < limit {
         k += 1;
-        if let Some(rc) = o.rate_changes.iter().find(|rc| rc.at == k) {
+        let change = rate_changes.iter().find(|rc| rc.at == k);
+        // A payment-capped note recasts to the fully amortising payment every
+        // RECAST_EVERY payments, the cap set aside.
+        let recast = payment_cap.is_some() && k > 1 && (k - 1) % RECAST_EVERY == 0;
+        if let Some(rc) = change {
             i = rate_of(&rc.rate)?;
             if rates.last() != Some(&i) {
                 rates.push(i);
             }
             poster = poster_for(&rc.rate, i);
-            if k > o.interest_only_payments {
-                match o.rate_change_keeps {
-                    RateChangeKeeps::Term => {
-                        payment = rounded_payment(
-                            terms,
-                            from_minor(balance, e),
-                            i,
-                            &poster,
-                            n - (k - 1),
-                        )?;
-                        pay = to_minor(payment, e)?;
-                    }
-                    RateChangeKeeps::Payment => {
-                        if pay <= poster.interest(balance)? {
-                            return Err(EngineError::no_solution(
+        }
+        if (change.is_some() || recast) && k > o.interest_only_payments {
+            match o.rate_change_keeps {
+                RateChangeKeeps::Term => {
+                    let full = rounded_payment(
+                        terms,
+                        from_minor(balance, e).max(Decimal::ZERO),
+                        i,
+                        &poster,
+                        n - (k - 1),
+                    )?;
+                    payment = match payment_cap {
+                        Some(cap) if !recast => {
+                            full.min(c.round(payment * cap, RoundingStrategy::ToZero))
+                        }
+                        _ => full,
+                    };
+                    pay = to_minor(payment, e)?;
+                }
+                RateChangeKeeps::Payment => {
+                    if pay <= poster.interest(balance)? {
+                        return Err(EngineError::no_solution(
                                 Some("rate_change_keeps"),
                                 format!("at payment {k} the kept payment no longer covers the interest; keep the term instead"),
                             ));
-                        }
-                        limit = MAX_PAYMENTS;
                     }
+                    limit = MAX_PAYMENTS;
                 }
             }
         }
@@ -467,7 +493,13 @@ fn post_inner(
         } else {
             pay
         };
-        if k > o.interest_only_payments && regular <= interest && owed > regular {
+        // A capped payment may leave interest unpaid: it is added to the
+        // balance (negative amortisation) until the next recast.
+        if k > o.interest_only_payments
+            && regular <= interest
+            && owed > regular
+            && payment_cap.is_none()
+        {
             return Err(never_falls(k, terms, pay));
         }
         let (recurring, lump) = if extras.is_empty() {
