@@ -2,6 +2,7 @@
 //! derivation and disclosure rounding, in a form the API serializes (JSON, CSV)
 //! and the pages render (HTML), so that both come from one computation.
 
+pub mod adjustable;
 pub mod check;
 pub mod compare;
 pub mod derivation;

@@ -7,6 +7,10 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 use super::text::{Line, Repeated};
+use crate::answer::adjustable::{
+    projected_dto, AdjustableDto, AdjustableSummaryDto, ProgramExampleDto, ProjectedColumnDto,
+    RatePathDto, RateTableDto, UnderwritingDto,
+};
 use crate::answer::derivation::{full, DerivationDto};
 use crate::answer::text::IsoDate;
 use crate::engine::money::{AmountText, PaymentRounding};
@@ -123,6 +127,24 @@ pub struct MilestonesDto {
 #[derive(Debug, Serialize, utoipa::ToSchema)]
 pub struct LoanScheduleDto {
     pub summary: SummaryDto,
+    /// An adjustable loan's highest and lowest figures.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub adjustable_summary: Option<AdjustableSummaryDto>,
+    /// §1026.37(j), for an adjustable loan.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rate_table: Option<RateTableDto>,
+    /// §1026.19(b)(2)(viii)(B), for an adjustable loan.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub program_example: Option<ProgramExampleDto>,
+    /// §1026.43(c)(5) and (e)(2)(iv), for an adjustable loan.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub underwriting: Option<UnderwritingDto>,
+    /// The composite, highest and lowest paths of an adjustable loan.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rate_paths: Option<Vec<RatePathDto>>,
+    /// §1026.37(c), for an adjustable loan or one with escrow or mortgage insurance.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub projected_payments: Option<Vec<ProjectedColumnDto>>,
     pub derivation: LoanDerivationDto,
     pub reconciliation: Option<ReconciliationDto>,
     pub schedule: Vec<RowDto>,
@@ -133,6 +155,18 @@ pub struct LoanScheduleDto {
 #[derive(Serialize)]
 struct ScheduleHead<'a> {
     summary: &'a SummaryDto,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    adjustable_summary: &'a Option<AdjustableSummaryDto>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    rate_table: &'a Option<RateTableDto>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    program_example: &'a Option<ProgramExampleDto>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    underwriting: &'a Option<UnderwritingDto>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    rate_paths: &'a Option<Vec<RatePathDto>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    projected_payments: &'a Option<Vec<ProjectedColumnDto>>,
     derivation: &'a LoanDerivationDto,
     reconciliation: &'a Option<ReconciliationDto>,
 }
@@ -153,6 +187,12 @@ impl LoanScheduleDto {
             &mut out,
             &ScheduleHead {
                 summary: &head.summary,
+                adjustable_summary: &head.adjustable_summary,
+                rate_table: &head.rate_table,
+                program_example: &head.program_example,
+                underwriting: &head.underwriting,
+                rate_paths: &head.rate_paths,
+                projected_payments: &head.projected_payments,
                 derivation: &head.derivation,
                 reconciliation: &head.reconciliation,
             },
@@ -282,7 +322,25 @@ impl LoanScheduleDto {
         if let Some(r) = &reconciliation {
             closed_form.steps.push(r.text.clone());
         }
+        let adjustable = s.adjustable.as_ref().map(|x| AdjustableDto::new(x, c));
+        let (adjustable_summary, rate_table, program_example, underwriting, rate_paths) =
+            match adjustable {
+                Some(a) => (
+                    Some(a.adjustable_summary),
+                    Some(a.rate_table),
+                    Some(a.program_example),
+                    Some(a.underwriting),
+                    Some(a.rate_paths),
+                ),
+                None => (None, None, None, None, None),
+            };
         LoanScheduleDto {
+            adjustable_summary,
+            rate_table,
+            program_example,
+            underwriting,
+            rate_paths,
+            projected_payments: s.full_payment.as_ref().map(projected_dto),
             summary: SummaryDto {
                 payment: money(s.payment),
                 number_of_payments: s.number_of_payments,

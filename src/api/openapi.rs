@@ -622,7 +622,8 @@ fn parameters(op: &Operation, schemas: &Map<String, Value>) -> Vec<Value> {
             t == "array"
                 || t == "object"
                 || t.as_array().is_some_and(|a| a.contains(&json!("array")))
-        }) || property.get("oneOf").is_some() && property.get("$ref").is_none();
+        }) || property.get("oneOf").is_some() && property.get("$ref").is_none()
+            || property.get("$ref").is_some();
         let mut schema = if is_list {
             json!({"type": "array", "items": {"type": "string"}})
         } else if structured || field == "unit_period" {

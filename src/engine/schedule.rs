@@ -3,6 +3,10 @@
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
+use super::adjustable::{
+    disclose_adjustable, full_payment, insurance_until, path_payments, AdjustableDisclosure,
+    FullPayment, RatePath,
+};
 use super::calendar::due_dates;
 use super::error::{EngineError, ErrorKind, OrOverflow, Result};
 use super::ledger::{Ledger, Reconciliation, Row};
@@ -77,6 +81,12 @@ pub struct LoanSchedule {
     pub milestones: Milestones,
     /// The posted plan with its closed-form segments (its rows are moved into `ledger`).
     pub plan: Plan,
+    /// An adjustable loan's disclosure: its paths, summary, rate table,
+    /// $10,000 example and underwriting payments.
+    pub adjustable: Option<AdjustableDisclosure>,
+    /// The projected payments with escrow and mortgage insurance, for an
+    /// adjustable loan or one given escrow or mortgage insurance.
+    pub full_payment: Option<FullPayment>,
 }
 
 /// Solves and posts a level-payment loan.
@@ -259,6 +269,21 @@ fn schedule_inner(
         Some(s) => s.solution.clone(),
         None => solve_balance(terms.principal, i, payment)?,
     };
+    let adjustable = match &options.adjustable {
+        Some(_) if reconcile_ledger => Some(disclose_adjustable(terms, options)?),
+        _ => None,
+    };
+    let full_payment = if reconcile_ledger {
+        full_payment(terms, options, adjustable.as_ref())?
+    } else {
+        None
+    };
+    notes.extend(adjustable_notes(
+        terms,
+        options,
+        adjustable.as_ref(),
+        full_payment.as_ref(),
+    ));
     let savings = base.as_ref().map(|b| Savings {
         interest_saved: b.total_interest - plan.total_interest,
         payments_saved: b.rows.len() as u32 - ledger.rows.len().min(b.rows.len()) as u32,
@@ -278,7 +303,72 @@ fn schedule_inner(
         savings,
         milestones,
         plan,
+        adjustable,
+        full_payment,
     })
+}
+
+/// What an adjustable loan's schedule assumed, and how its full payment was made up.
+fn adjustable_notes(
+    terms: &LoanTerms,
+    options: &PlanOptions,
+    adjustable: Option<&AdjustableDisclosure>,
+    full: Option<&FullPayment>,
+) -> Vec<String> {
+    let mut notes = Vec::new();
+    if let Some(a) = &options.adjustable {
+        let path = match &options.rate_path {
+            RatePath::Composite => format!(
+                "The schedule follows the composite path: the initial rate of {} % while it lasts, then index + margin at consummation ({} %), reached through the caps (comment 17(c)(1)-10). The APR, finance charge and total of payments are figured on it.",
+                terms.rate.percent().normalize(),
+                a.fully_indexed()
+            ),
+            RatePath::Highest => "The schedule follows the highest path: every change takes its full cap up, to the maximum rate.".into(),
+            RatePath::Lowest => "The schedule follows the lowest path: every change takes its full cap down, to the floor.".into(),
+            RatePath::IndexValues(v) => format!(
+                "The schedule follows the index values given ({} of them){}: each change's rate is index + margin, rounded as the note says, within the caps, the floor and the maximum.",
+                v.len(),
+                if v.len() < a.changes(u32::MAX).take(v.len() + 1).count() { ", the last carried forward" } else { "" }
+            ),
+        };
+        notes.push(path);
+        notes.push("At each change the balance then due is re-amortised over the remaining term at the new rate; a change that leaves the rate as it was changes nothing.".into());
+        if a.floor_percent.is_none() {
+            notes.push(format!(
+                "No floor was given: the floor is the margin, {} % (comment 37(j)(4)-1).",
+                a.margin_percent.normalize()
+            ));
+        }
+        if a.first_change_cap_percent.is_none() && a.periodic_cap_percent.is_some() {
+            notes.push(
+                "No cap for the first change was given: the periodic cap applies to it.".into(),
+            );
+        }
+        if a.payment_cap_percent.is_some() {
+            notes.push(format!(
+                "With the payment cap, interest the capped payment leaves unpaid is added to the balance, and the payment is recast to the fully amortising one every {} payments (common practice for payment-capped notes, no source: a note states its own).",
+                crate::engine::adjustable::RECAST_EVERY
+            ));
+        }
+        if adjustable.is_some() {
+            notes.push("The highest and lowest payments leave out the final payment, which absorbs the rounding.".into());
+        }
+    }
+    if let Some(f) = full {
+        if options.mortgage_insurance.is_some() {
+            notes.push(format!(
+                "Mortgage insurance is shown with payments 1 to {}{}.",
+                f.insurance_until,
+                match options.mortgage_insurance.and_then(|m| m.payments) {
+                    Some(_) => " as given".to_string(),
+                    None if options.property_value.is_some() => ": the payment after which the balance is first scheduled at or below 78 % of the property value, or the term's midpoint if sooner (12 U.S.C. 4902(b), (c)), on the composite path".to_string(),
+                    None => ": every payment, since neither mortgage_insurance_payments nor property_value was given".to_string(),
+                }
+            ));
+        }
+        notes.push("Projected payments are in whole dollars, by years of the loan (§1026.37(c), (o)(4)); principal and interest range from the lowest to the highest path.".into());
+    }
+    notes
 }
 
 /// The caution, and how the periodic rate was taken.
@@ -409,6 +499,10 @@ pub struct ScheduledPayments {
     pub due_dates: Vec<Date>,
     /// The caution first, then the assumptions made.
     pub notes: Vec<String>,
+    /// The loan has adjustable terms (its figures are on the composite path).
+    pub adjustable: bool,
+    /// Mortgage insurance paid through the first five years (§1026.37(l)(1)).
+    pub early_mortgage_insurance: Decimal,
 }
 
 /// Posts a loan (with plan options) by the same steps as [`schedule_with`] and
@@ -437,10 +531,30 @@ pub fn scheduled_payments(terms: &LoanTerms, options: &PlanOptions) -> Result<Sc
         total_paid: plan.total_paid,
         total_interest: plan.total_interest,
         prepaid_interest: plan.prepaid_interest,
+        early_mortgage_insurance: early_insurance(terms, options, plan.summary.early_count)?,
         summary: plan.summary,
         due_dates,
         notes,
+        adjustable: options.adjustable.is_some(),
     })
+}
+
+/// Mortgage insurance paid with the first `early` payments.
+fn early_insurance(terms: &LoanTerms, options: &PlanOptions, early: u32) -> Result<Decimal> {
+    let Some(m) = options.mortgage_insurance else {
+        return Ok(Decimal::ZERO);
+    };
+    let n = match terms.term {
+        LoanTerm::Payments(n) => n,
+        LoanTerm::Payment(_) => early,
+    };
+    let balances = if m.payments.is_none() && options.property_value.is_some() {
+        path_payments(terms, options, options.rate_path.clone(), true)?.balances
+    } else {
+        Vec::new()
+    };
+    let until = insurance_until(&m, options.property_value, &balances, n);
+    Ok(m.monthly * Decimal::from(until.min(early)))
 }
 
 /// Interest and payments saved by extra payments, against the same loan without them.

@@ -34,6 +34,8 @@ pub enum Raw<'a> {
 pub struct Fields<'a> {
     source: Source<'a>,
     read: Vec<&'static str>,
+    /// Prefixes whose query parameters (`prefix.NAME`) were taken as a group.
+    read_prefixes: Vec<&'static str>,
     /// Accept "250,000" and "6.5%" as a person types them (pages, not the API).
     pub lenient: bool,
     pub errors: Vec<FieldError>,
@@ -47,6 +49,7 @@ impl<'a> Fields<'a> {
         Self {
             source,
             read: Vec::new(),
+            read_prefixes: Vec::new(),
             lenient: false,
             errors: Vec::new(),
         }
@@ -162,6 +165,25 @@ impl<'a> Fields<'a> {
         } else {
             Some(items)
         }
+    }
+
+    /// The query parameters written `prefix.NAME`, as (NAME, value), taken as
+    /// read; empty for a JSON source (whose nested objects are read with
+    /// [`Fields::raw`]).
+    pub fn prefixed(&mut self, prefix: &'static str) -> Vec<(String, String)> {
+        if !self.read_prefixes.contains(&prefix) {
+            self.read_prefixes.push(prefix);
+        }
+        let Source::Query(pairs) = self.source else {
+            return Vec::new();
+        };
+        pairs
+            .iter()
+            .filter_map(|(k, v)| {
+                let name = k.strip_prefix(prefix)?.strip_prefix('.')?;
+                Some((name.to_string(), v.clone()))
+            })
+            .collect()
     }
 
     /// True when the source is a query string.
@@ -281,7 +303,11 @@ impl<'a> Fields<'a> {
             Source::Query(pairs) => {
                 let mut names: Vec<String> = Vec::new();
                 for (k, _) in pairs {
-                    if !self.read.contains(&k.as_str()) && !names.contains(k) {
+                    let grouped = self
+                        .read_prefixes
+                        .iter()
+                        .any(|p| k.strip_prefix(p).is_some_and(|rest| rest.starts_with('.')));
+                    if !grouped && !self.read.contains(&k.as_str()) && !names.contains(k) {
                         names.push(k.clone());
                     }
                 }

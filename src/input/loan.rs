@@ -114,6 +114,25 @@ pub const PLAN: &[Field] = &[
     Field::new("property_value", Kind::Money, "For the 80 % and 78 % milestones of the Homeowners Protection Act.")
         .example("400000")
         .form("Property value", "For the 80 % and 78 % milestones.", ""),
+    Field::new("adjustable", Kind::Object(&super::adjustable::ADJUSTABLE), "Adjustable-rate terms: index and margin, the changes, the caps, floor and maximum, the rounding and an optional payment cap. annual_rate_percent is then the initial rate; the term must be given (term_months or term_payments).")
+        .example("index:4.25,margin:2.75,first_change:61,every:12,first_cap:2,cap:2,max:11")
+        .query("adjustable=index:4.25,margin:2.75,first_change:61,every:12,first_cap:2,cap:2,max:11 (KEY:VALUE pairs separated by commas; the keys index, margin, first_change, every, first_cap, cap, max, floor, rounding, payment_cap, or the JSON names), or each field as adjustable.NAME (adjustable.margin_percent=2.75)"),
+    Field::new("rate_path", Kind::Choice { choices: super::adjustable::RATE_PATHS, default: "Composite (default)" }, "The path an adjustable rate is assumed to take: composite (default: the initial rate, then index + margin at consummation through the caps; the basis of the APR), highest, lowest, or index_values (the index at each change, from index_values).")
+        .example("composite")
+        .form("Rate path shown", "", ""),
+    Field::new("index_values", Kind::Shape(super::adjustable::index_values_schema), "The index, in percent, at each rate change in turn (the last carried forward); with rate_path index_values, its default when given.")
+        .example("4.8,5.6,6.1")
+        .query("index_values=4.8,5.6,6.1 (percentages, repeated or comma-separated)")
+        .form("Index at each change (%)", "For the index-values path: 4.8, 5.6, 6.1 (the last carried forward).", ""),
+    Field::new("escrow_monthly", Kind::Money, "Estimated escrow (property taxes and insurance) with each payment, for the projected payments.")
+        .example("410")
+        .form("Escrow each month", "Estimated taxes and insurance.", ""),
+    Field::new("mortgage_insurance_monthly", Kind::Money, "Mortgage insurance with each payment, for the projected payments and \"In 5 years\"; it ends after mortgage_insurance_payments, or, given property_value, when the balance is first scheduled at 78 % of the value (or at the term's midpoint), else runs to the end.")
+        .example("95")
+        .form("Mortgage insurance each month", "", ""),
+    Field::new("mortgage_insurance_payments", Kind::Whole { min: 1, max: Some(MAX_PAYMENTS) }, "The number of payments mortgage insurance is paid with.")
+        .example("84")
+        .form("Mortgage insurance payments", "How many payments carry it (or give the property value).", ""),
     Field::new("label", Kind::Text { max: 80 }, "A name for the plan (in a comparison's rows); at most 80 characters are kept.")
         .example("Harbourside flat")
         .form("Label", "A name for this plan, shown on the page.", ""),
@@ -294,7 +313,7 @@ pub fn loan_terms_from(mut f: Fields<'_>) -> Result<LoanTerms, ApiError> {
 }
 
 /// The plan fields of a schedule request, beyond the level loan's.
-pub const PLAN_FIELDS: [&str; 11] = [
+pub const PLAN_FIELDS: [&str; 17] = [
     "funding_date",
     "first_payment_date",
     "day_count",
@@ -305,6 +324,12 @@ pub const PLAN_FIELDS: [&str; 11] = [
     "rate_changes",
     "rate_change_keeps",
     "property_value",
+    "adjustable",
+    "rate_path",
+    "index_values",
+    "escrow_monthly",
+    "mortgage_insurance_monthly",
+    "mortgage_insurance_payments",
     "label",
 ];
 
@@ -413,7 +438,11 @@ enum ExtraWhen {
     Date(jiff::civil::Date),
 }
 
-fn money_in(f: &mut Fields<'_>, name: &'static str, currency: Currency) -> Option<Decimal> {
+pub(crate) fn money_in(
+    f: &mut Fields<'_>,
+    name: &'static str,
+    currency: Currency,
+) -> Option<Decimal> {
     let v = f.decimal(name)?;
     if !currency.fits(v) {
         f.error(
@@ -460,6 +489,7 @@ pub fn read_plan_options(
     o.interest_only_payments = f.count("interest_only_payments", MAX_PAYMENTS).unwrap_or(0);
     o.balloon_after_payments = f.count("balloon_after_payments", MAX_PAYMENTS);
     o.property_value = money_in(f, "property_value", currency);
+    super::adjustable::read_adjustable(f, &mut o, currency);
     let pointer_base = f.pointer("");
     // Extra payments.
     let mut pending: Vec<ExtraAt> = Vec::new();

@@ -9,6 +9,7 @@
 //! - one reader per operation: [`loan`] (schedule), [`compare`], [`check`],
 //!   [`savings`], [`apr`], [`apy`], [`recurrence`].
 
+pub mod adjustable;
 pub mod apr;
 pub mod apr_fields;
 pub mod apy;
@@ -30,8 +31,9 @@ pub mod savings;
 pub mod table;
 
 /// Every request table, for the OpenAPI document's components.
-pub fn tables() -> [&'static table::Table; 23] {
+pub fn tables() -> [&'static table::Table; 24] {
     [
+        &adjustable::ADJUSTABLE,
         &loan::SCHEDULE,
         &loan::EXTRA_PAYMENT,
         &loan::RATE_CHANGE,
@@ -123,6 +125,7 @@ mod tests {
             ("refinance.rs", include_str!("refinance.rs")),
             ("points.rs", include_str!("points.rs")),
             ("grid.rs", include_str!("grid.rs")),
+            ("adjustable.rs", include_str!("adjustable.rs")),
         ];
         let mut seen = 0;
         for (file, source) in readers {

@@ -61,6 +61,7 @@ pub fn spec_in(tables: &[&'static [Spec]], name: &str) -> Option<&'static Spec> 
 fn prefixed_table(prefix: &str) -> &'static [Spec] {
     match prefix {
         "current" => crate::input::refinance::CURRENT_FIELDS,
+        "adjustable" => crate::input::adjustable::ADJUSTABLE_FIELDS,
         _ => &[],
     }
 }

@@ -19,13 +19,14 @@ pub use disclose::{
     disclose_adjustable, path_payments, AdjustableDisclosure, AdjustableSummary, PathPayments,
     PathStep, ProgramExample, RateTable, Underwriting,
 };
-pub use projected::{projected_payments, MortgageInsurance, ProjectedColumn};
+pub use projected::{insurance_until, projected_payments, MortgageInsurance, ProjectedColumn};
 
 use rust_decimal::{Decimal, RoundingStrategy};
 
 use crate::engine::error::{EngineError, Result};
-use crate::engine::plan::RateChange;
+use crate::engine::plan::{PlanOptions, RateChange};
 use crate::engine::rate::AnnualRate;
+use crate::engine::terms::{LoanTerm, LoanTerms};
 
 /// How index + margin is rounded before the caps.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -315,6 +316,67 @@ impl AdjustableRate {
         }
         Ok(out)
     }
+}
+
+/// The full monthly payment of a loan, fixed or adjustable.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct FullPayment {
+    /// The columns of §1026.37(c).
+    pub columns: Vec<ProjectedColumn>,
+    /// The last payment with mortgage insurance (0: none).
+    pub insurance_until: u32,
+}
+
+/// The projected payments of a loan with adjustable terms, escrow or mortgage
+/// insurance (`None` for a loan with none of them, or a term given as a
+/// payment); `adjustable` the loan's disclosure, when it has one, whose paths
+/// are reused.
+///
+/// # Errors
+/// The errors of posting.
+pub fn full_payment(
+    terms: &LoanTerms,
+    options: &PlanOptions,
+    adjustable: Option<&AdjustableDisclosure>,
+) -> Result<Option<FullPayment>> {
+    let LoanTerm::Payments(n) = terms.term else {
+        return Ok(None);
+    };
+    if adjustable.is_none()
+        && options.escrow_monthly.is_none()
+        && options.mortgage_insurance.is_none()
+    {
+        return Ok(None);
+    }
+    let needs_balances = options
+        .mortgage_insurance
+        .is_some_and(|m| m.payments.is_none() && options.property_value.is_some());
+    let own;
+    let paths: Vec<&PathPayments> = match adjustable {
+        Some(x) if !needs_balances => x.paths.iter().collect(),
+        Some(x) => {
+            own = path_payments(terms, options, RatePath::Composite, true)?;
+            vec![&own, &x.paths[1], &x.paths[2]]
+        }
+        None => {
+            own = path_payments(terms, options, RatePath::Composite, needs_balances)?;
+            vec![&own]
+        }
+    };
+    let until = options.mortgage_insurance.map_or(0, |m| {
+        insurance_until(&m, options.property_value, &paths[0].balances, n)
+    });
+    Ok(Some(FullPayment {
+        columns: projected_payments(
+            &paths,
+            terms.payment_frequency.per_year(),
+            options.interest_only_payments,
+            options.mortgage_insurance,
+            until,
+            options.escrow_monthly.unwrap_or_default(),
+        ),
+        insurance_until: until,
+    }))
 }
 
 #[cfg(test)]

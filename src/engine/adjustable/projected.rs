@@ -39,6 +39,32 @@ pub struct ProjectedColumn {
     pub total_max: Decimal,
 }
 
+/// The last payment with mortgage insurance: as given; else, with the
+/// property's original value, the payment after which the balance on the
+/// composite path is first scheduled at or below 78 % of it, or the midpoint
+/// of the term when that comes first (12 U.S.C. 4902(b) and (c); Residue's
+/// reading: the premium is paid with that payment, not after it); else every
+/// payment.
+pub fn insurance_until(
+    m: &MortgageInsurance,
+    property_value: Option<Decimal>,
+    composite_balances: &[Decimal],
+    n: u32,
+) -> u32 {
+    if let Some(p) = m.payments {
+        return p.min(n);
+    }
+    let Some(value) = property_value else {
+        return n;
+    };
+    let threshold = value * Decimal::new(78, 2);
+    let midpoint = n.div_ceil(2);
+    composite_balances
+        .iter()
+        .position(|b| *b <= threshold)
+        .map_or(midpoint, |k| (k as u32 + 1).min(midpoint))
+}
+
 /// What a year's payments look like, unrounded.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 struct Year {

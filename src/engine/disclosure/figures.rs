@@ -5,7 +5,7 @@
 use jiff::civil::Date;
 use rust_decimal::{Decimal, RoundingStrategy};
 
-use super::tolerance::{apr_tolerance, AprTolerance};
+use super::tolerance::{apr_tolerance, AprTolerance, IRREGULAR_APR_TOLERANCE};
 use crate::engine::apr::{apr_from_dates, solve_apr, AprResult, DatedFlow, UnitFlow, UnitPeriod};
 use crate::engine::error::{EngineError, OrOverflow, Result};
 use crate::engine::plan::PaymentRun;
@@ -223,13 +223,25 @@ pub fn disclose_dated(
             (apr, unit_period)
         }
     };
-    let apr_tolerance = apr_tolerance(1, true, runs, currency);
+    let apr_tolerance = if s.adjustable {
+        // An adjustable-rate loan's payments change with its rate: an
+        // irregular transaction (REGULATIONS.md's adjustable-rate summary).
+        AprTolerance {
+            regular: false,
+            points: IRREGULAR_APR_TOLERANCE,
+            reason: "Irregular transaction (§1026.22(a)(3)): an adjustable-rate loan's payment amounts change with its rate; its APR is figured on the composite path (comment 17(c)(1)-10).".into(),
+        }
+    } else {
+        apr_tolerance(1, true, runs, currency)
+    };
     let through = s.summary.early_count;
     let payments = s.summary.early_payments;
     let principal_paid = s.summary.early_principal;
     // Prepaid interest is a closing cost of its own kind (a prepaid item), not a
     // loan cost of §1026.37(l)(1)(i).
     let loan_costs = prepaid_total - prepaid_interest;
+    // §1026.37(l)(1) counts mortgage insurance among what is paid.
+    let payments = payments + s.early_mortgage_insurance;
     Ok(LoanDisclosure {
         prepaid_interest,
         dated_from: dated,
