@@ -1,7 +1,8 @@
 //! The library's tests, in process and without a socket: one test binary
 //! (`cargo test --test library`).
 //!
-//! - `engine_properties`, `plan_properties`, `savings_properties`: the engine's
+//! - `engine_properties`, `plan_properties`, `savings_properties`,
+//!   `adjustable_properties`: the engine's
 //!   closed forms and posted ledgers against exact big-integer arithmetic;
 //! - `answer_properties`: the hand-written JSON and CSV writers against serde_json;
 //! - `pages`: every page driven through the router;
@@ -10,6 +11,7 @@
 //! `helpers` holds what they share: the exact decimal, `d()` and the property
 //! tests' configuration (which keeps each file's regression seeds beside it).
 
+mod adjustable_properties;
 mod answer_properties;
 mod engine_properties;
 mod helpers;
