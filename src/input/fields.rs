@@ -181,7 +181,8 @@ impl<'a> Fields<'a> {
             .iter()
             .filter_map(|(k, v)| {
                 let name = k.strip_prefix(prefix)?.strip_prefix('.')?;
-                Some((name.to_string(), v.clone()))
+                // An empty form field means "not given".
+                (!v.trim().is_empty()).then(|| (name.to_string(), v.clone()))
             })
             .collect()
     }

@@ -304,3 +304,132 @@ mod tests {
         assert_eq!(nice_step(30.0, 6.0), 5.0);
     }
 }
+
+/// One step line of a [`path_chart`]: (first period, value) runs.
+pub struct Steps {
+    pub label: String,
+    pub runs: Vec<(u32, Decimal)>,
+}
+
+/// Draws one panel of step lines, `top_y` its top; the lines end at `periods`.
+fn step_panel(
+    out: &mut String,
+    lines: &[Steps],
+    periods: u32,
+    top_y: f64,
+    height: f64,
+    label: &str,
+    decimals: bool,
+) {
+    let plot_w = WIDTH - LEFT - RIGHT;
+    let max = lines
+        .iter()
+        .flat_map(|s| s.runs.iter().map(|r| f(r.1)))
+        .fold(0.0f64, f64::max);
+    let step = nice_step(max, 3.0);
+    let top = (max / step).ceil().max(1.0) * step;
+    let mut v = 0.0;
+    while v <= top + step / 2.0 {
+        let y = top_y + height * (1.0 - v / top);
+        let text = if decimals && step < 1.0 {
+            format!("{v:.1}")
+        } else {
+            axis_number(v)
+        };
+        let _ = write!(
+            out,
+            r#"<line class="grid" x1="{LEFT}" x2="{:.1}" y1="{y:.1}" y2="{y:.1}"/><text class="tick" x="{:.1}" y="{:.1}" text-anchor="end">{text}</text>"#,
+            WIDTH - RIGHT,
+            LEFT - 6.0,
+            y + 4.0,
+        );
+        v += step;
+    }
+    let _ = write!(
+        out,
+        r#"<text class="axis-label" x="12" y="{:.1}" transform="rotate(-90 12 {:.1})" text-anchor="middle">{}</text>"#,
+        top_y + height / 2.0,
+        top_y + height / 2.0,
+        escape(label)
+    );
+    for (i, s) in lines.iter().enumerate() {
+        let mut pts = String::new();
+        for (j, (from, value)) in s.runs.iter().enumerate() {
+            let end = s.runs.get(j + 1).map_or(periods, |r| r.0 - 1);
+            let y = top_y + height * (1.0 - f(*value).max(0.0) / top);
+            let x0 = LEFT + plot_w * f64::from(from - 1) / f64::from(periods.max(1));
+            let x1 = LEFT + plot_w * f64::from(end) / f64::from(periods.max(1));
+            let _ = write!(pts, "{x0:.1},{y:.1} {x1:.1},{y:.1} ");
+        }
+        let dash = DASHES[i % DASHES.len()];
+        let _ = write!(
+            out,
+            r#"<polyline class="line line-{}" fill="none" points="{}"{}/>"#,
+            i % 4,
+            pts.trim_end(),
+            if dash.is_empty() {
+                String::new()
+            } else {
+                format!(r#" stroke-dasharray="{dash}""#)
+            }
+        );
+    }
+}
+
+/// The payment (upper panel) and the rate (lower panel) over time on several
+/// paths, as step lines against years; the legend sits below the plot, clear
+/// of the data.
+pub fn path_chart(
+    id: &str,
+    title: &str,
+    desc: &str,
+    payments: &[Steps],
+    rates: &[Steps],
+    periods: u32,
+    per_year: u32,
+) -> String {
+    let height = 420.0;
+    let mut out = String::with_capacity(8 * 1024);
+    let _ = write!(
+        out,
+        r#"<svg class="chart" viewBox="0 0 {WIDTH} {height}" role="img" aria-labelledby="{id}-t {id}-d" xmlns="http://www.w3.org/2000/svg"><title id="{id}-t">{}</title><desc id="{id}-d">{}</desc>"#,
+        escape(title),
+        escape(desc)
+    );
+    step_panel(&mut out, payments, periods, TOP, 160.0, "payment", false);
+    step_panel(
+        &mut out,
+        rates,
+        periods,
+        TOP + 190.0,
+        110.0,
+        "rate, %",
+        true,
+    );
+    // The years axis under the lower panel (x_years draws at HEIGHT − BOTTOM).
+    let shift = TOP + 190.0 + 110.0 - (HEIGHT - BOTTOM);
+    let _ = write!(out, r#"<g transform="translate(0 {shift:.1})">"#);
+    x_years(&mut out, periods, per_year);
+    out.push_str("</g>");
+    let y = height - 14.0;
+    for (i, s) in payments.iter().enumerate() {
+        let x = LEFT + 200.0 * i as f64;
+        let dash = DASHES[i % DASHES.len()];
+        let _ = write!(
+            out,
+            r#"<line class="line line-{}" x1="{x:.1}" x2="{:.1}" y1="{y:.1}" y2="{y:.1}"{}/><text class="legend" x="{:.1}" y="{:.1}">{}</text>"#,
+            i % 4,
+            x + 28.0,
+            if dash.is_empty() {
+                String::new()
+            } else {
+                format!(r#" stroke-dasharray="{dash}""#)
+            },
+            x + 34.0,
+            y + 4.0,
+            escape(&s.label.chars().take(24).collect::<String>())
+        );
+    }
+    out.push_str("</svg>");
+    out
+}

@@ -17,7 +17,7 @@ use crate::input::loan::schedule_request_from;
 use crate::input::problem::ApiError;
 
 /// The loan form's groups: (legend, folded, fields).
-pub const LOAN_FORM: [(&str, bool, &[&str]); 3] = [
+pub const LOAN_FORM: [(&str, bool, &[&str]); 5] = [
     (
         "The loan",
         false,
@@ -51,6 +51,33 @@ pub const LOAN_FORM: [(&str, bool, &[&str]); 3] = [
             "payment_rounding",
             "interest_rounding",
             "label",
+        ],
+    ),
+    (
+        "Adjustable rate (leave blank for a fixed rate)",
+        true,
+        &[
+            "adjustable.index_percent",
+            "adjustable.margin_percent",
+            "adjustable.first_change_payment",
+            "adjustable.change_every",
+            "adjustable.first_change_cap_percent",
+            "adjustable.periodic_cap_percent",
+            "adjustable.lifetime_max_percent",
+            "adjustable.floor_percent",
+            "adjustable.rounding",
+            "adjustable.payment_cap_percent",
+            "rate_path",
+            "index_values",
+        ],
+    ),
+    (
+        "Full monthly payment: escrow and mortgage insurance",
+        true,
+        &[
+            "escrow_monthly",
+            "mortgage_insurance_monthly",
+            "mortgage_insurance_payments",
         ],
     ),
 ];
@@ -105,6 +132,10 @@ pub struct LoanResult {
     pub yearly_chart: String,
     pub schedule: Schedule,
     pub derivation: LoanDerivation,
+    /// An adjustable loan's paths, rate table, example and underwriting payments.
+    pub adjustable: Option<super::adjustable::AdjustableView>,
+    /// The projected payments with escrow and mortgage insurance.
+    pub projected: Option<super::adjustable::Projected>,
     /// The engine's notes after the caution (the caution is shown on its own).
     pub notes: Vec<String>,
     pub json_url: String,
@@ -536,6 +567,8 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
         yearly_chart,
         schedule,
         derivation: derivation(s),
+        adjustable: super::adjustable::adjustable_view(s),
+        projected: super::adjustable::projected_view(s.full_payment.as_ref()),
         notes: s.notes.iter().skip(1).cloned().collect(),
         json_url: format!("/api/v1/loans/schedule?{query}"),
         csv_url: format!("/api/v1/loans/schedule.csv?{query}"),

@@ -11,6 +11,7 @@
 //! inserts unescaped.
 
 pub mod about;
+pub mod adjustable;
 pub mod api_guide;
 pub mod charts;
 pub mod check;

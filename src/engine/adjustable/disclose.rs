@@ -225,6 +225,8 @@ pub struct AdjustableDisclosure {
     pub underwriting: Underwriting,
     /// The composite, highest and lowest paths, in that order.
     pub paths: [PathPayments; 3],
+    /// The path the loan's own schedule follows.
+    pub schedule_path: RatePath,
 }
 
 fn year_of(k: u32, per_year: u32) -> u32 {
@@ -383,6 +385,7 @@ pub fn disclose_adjustable(
         program_example,
         underwriting,
         paths: [composite, high, low],
+        schedule_path: options.rate_path.clone(),
     })
 }
 
