@@ -164,8 +164,21 @@ pub fn read_query_with(
             names.push(k.as_str());
         }
     }
+    // Adjustable terms are compared by repeating `adjustable` (its compact
+    // form has commas of its own), `fixed` standing for a fixed-rate plan;
+    // the initial rates may then be listed beside them, one a plan.
+    let adjustable: Vec<String> = pairs
+        .iter()
+        .filter(|(k, _)| k == "adjustable")
+        .map(|(_, v)| v.trim().to_string())
+        .collect();
+    let paired_rates = adjustable.len() > 1;
     for name in names {
-        if name == "extra_payments" || name == "rate_changes" {
+        if matches!(
+            name,
+            "extra_payments" | "rate_changes" | "index_values" | "adjustable"
+        ) || name.starts_with("adjustable.")
+        {
             continue; // lists of their own
         }
         let values: Vec<String> = pairs
@@ -174,7 +187,25 @@ pub fn read_query_with(
             .flat_map(|(_, v)| v.split(','))
             .map(|v| v.trim().to_string())
             .collect();
-        if values.len() > 1 {
+        if paired_rates && name == "annual_rate_percent" && values.len() > 1 {
+            if values.len() != adjustable.len() {
+                errors.push(FieldError::new(
+                    name.into(),
+                    format!(
+                        "lists {} rates for {} plans given by adjustable: give one rate a plan, or one for all",
+                        values.len(),
+                        adjustable.len()
+                    ),
+                ));
+            }
+            continue;
+        }
+        if values.len() > 1 && paired_rates {
+            errors.push(FieldError::new(
+                name.into(),
+                "only one field may list several values to compare (adjustable is listed; annual_rate_percent may be listed beside it)".into(),
+            ));
+        } else if values.len() > 1 {
             if listed.is_some() {
                 errors.push(FieldError::new(
                     name.into(),
@@ -192,6 +223,47 @@ pub fn read_query_with(
     }
     if !errors.is_empty() {
         return Err(ApiError::fields(errors));
+    }
+    if paired_rates {
+        if adjustable.len() > MAX_PLANS {
+            return Err(ApiError::fields(vec![FieldError::new(
+                "adjustable".into(),
+                format!("may be given for at most {MAX_PLANS} plans"),
+            )]));
+        }
+        let rates: Vec<String> = pairs
+            .iter()
+            .filter(|(k, _)| k == "annual_rate_percent")
+            .flat_map(|(_, v)| v.split(','))
+            .map(|v| v.trim().to_string())
+            .collect();
+        let mut requests = Vec::new();
+        for (k, terms) in adjustable.iter().enumerate() {
+            let mut p: Vec<(String, String)> = pairs
+                .iter()
+                .filter(|(n, _)| n != "adjustable" && n != "annual_rate_percent")
+                .cloned()
+                .collect();
+            let fixed = terms.is_empty() || terms == "fixed";
+            if !fixed {
+                p.push(("adjustable".into(), terms.clone()));
+            }
+            let rate = rates.get(k).or(rates.first());
+            if let Some(rate) = rate {
+                p.push(("annual_rate_percent".into(), rate.clone()));
+            }
+            let mut r = reader(&p)?;
+            if r.label.is_none() {
+                r.label = Some(match (fixed, rate) {
+                    (true, Some(rate)) => format!("Fixed {rate} %"),
+                    (true, None) => "Fixed".into(),
+                    (false, Some(rate)) => format!("Adjustable from {rate} %"),
+                    (false, None) => "Adjustable".into(),
+                });
+            }
+            requests.push((r, String::new()));
+        }
+        return Ok(requests);
     }
     let mut requests = Vec::new();
     match listed {

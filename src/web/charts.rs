@@ -277,34 +277,6 @@ pub fn stacked_bars(
     out
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn labels_with_markup_are_escaped() {
-        let s = Series {
-            label: "<b>x</b>".into(),
-            points: vec![(0, Decimal::from(100)), (12, Decimal::ZERO)],
-        };
-        let t = Series {
-            label: "y & z".into(),
-            points: vec![(0, Decimal::from(100)), (24, Decimal::ZERO)],
-        };
-        let svg = balance_chart("c", "<t>", "<d>", &[s, t], 12);
-        assert!(svg.contains("&lt;b&gt;x&lt;/b&gt;"));
-        assert!(svg.contains("y &amp; z"));
-        assert!(!svg.contains("<b>"));
-        assert!(svg.contains("<title id=\"c-t\">&lt;t&gt;</title>"));
-    }
-
-    #[test]
-    fn ticks_are_round_numbers() {
-        assert_eq!(nice_step(250_000.0, 4.0), 100_000.0);
-        assert_eq!(nice_step(30.0, 6.0), 5.0);
-    }
-}
-
 /// One step line of a [`path_chart`]: (first period, value) runs.
 pub struct Steps {
     pub label: String,
@@ -432,4 +404,32 @@ pub fn path_chart(
     }
     out.push_str("</svg>");
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn labels_with_markup_are_escaped() {
+        let s = Series {
+            label: "<b>x</b>".into(),
+            points: vec![(0, Decimal::from(100)), (12, Decimal::ZERO)],
+        };
+        let t = Series {
+            label: "y & z".into(),
+            points: vec![(0, Decimal::from(100)), (24, Decimal::ZERO)],
+        };
+        let svg = balance_chart("c", "<t>", "<d>", &[s, t], 12);
+        assert!(svg.contains("&lt;b&gt;x&lt;/b&gt;"));
+        assert!(svg.contains("y &amp; z"));
+        assert!(!svg.contains("<b>"));
+        assert!(svg.contains("<title id=\"c-t\">&lt;t&gt;</title>"));
+    }
+
+    #[test]
+    fn ticks_are_round_numbers() {
+        assert_eq!(nice_step(250_000.0, 4.0), 100_000.0);
+        assert_eq!(nice_step(30.0, 6.0), 5.0);
+    }
 }

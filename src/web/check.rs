@@ -14,7 +14,7 @@ use crate::input::http::query_pairs;
 use crate::input::problem::ApiError;
 
 /// The check form's groups.
-pub const CHECK_FORM: [(&str, bool, &[&str]); 4] = [
+pub const CHECK_FORM: [(&str, bool, &[&str]); 6] = [
     (
         "The loan",
         false,
@@ -60,6 +60,31 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 4] = [
             "balloon_after_payments",
             "rate_changes",
             "rate_change_keeps",
+        ],
+    ),
+    (
+        "Adjustable rate (leave blank for a fixed rate)",
+        true,
+        &[
+            "adjustable.index_percent",
+            "adjustable.margin_percent",
+            "adjustable.first_change_payment",
+            "adjustable.change_every",
+            "adjustable.first_change_cap_percent",
+            "adjustable.periodic_cap_percent",
+            "adjustable.lifetime_max_percent",
+            "adjustable.floor_percent",
+            "adjustable.rounding",
+            "adjustable.payment_cap_percent",
+        ],
+    ),
+    (
+        "Mortgage insurance (for In 5 years)",
+        true,
+        &[
+            "mortgage_insurance_monthly",
+            "mortgage_insurance_payments",
+            "property_value",
         ],
     ),
 ];

@@ -155,7 +155,13 @@ fn readable_label(label: &str, listed: Option<&str>) -> String {
 fn listed_field(pairs: &[(String, String)]) -> Option<String> {
     pairs
         .iter()
-        .find(|(k, v)| k != "extra_payments" && k != "rate_changes" && v.contains(','))
+        .find(|(k, v)| {
+            !matches!(
+                k.as_str(),
+                "extra_payments" | "rate_changes" | "index_values" | "adjustable"
+            ) && !k.starts_with("adjustable.")
+                && v.contains(',')
+        })
         .map(|(k, _)| k.clone())
 }
 

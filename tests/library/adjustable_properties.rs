@@ -233,9 +233,10 @@ proptest! {
         }
         // Highest ≥ composite ≥ lowest, payment by payment (the final payment,
         // which absorbs the rounding, left out).
-        for k in 0..(n as usize - 1) {
-            prop_assert!(payments[0][k] >= payments[1][k], "payment {}: highest below composite", k + 1);
-            prop_assert!(payments[1][k] >= payments[2][k], "payment {}: composite below lowest", k + 1);
+        let last = n as usize - 1;
+        for (k, ((high, comp), low)) in payments[0].iter().zip(&payments[1]).zip(&payments[2]).take(last).enumerate() {
+            prop_assert!(high >= comp, "payment {}: highest below composite", k + 1);
+            prop_assert!(comp >= low, "payment {}: composite below lowest", k + 1);
         }
     }
 }
