@@ -209,6 +209,7 @@ fn benches(c: &mut Criterion) {
         b.iter(|| first_at_or_below(black_box(&cf), d("200000"), 0, 359).unwrap())
     });
     choices(c, &terms);
+    adjustable(c, &terms);
 }
 
 /// The choices between loans: a 13 × 6 payment grid (goal: at most 50 µs) and a
@@ -262,6 +263,49 @@ fn choices(c: &mut Criterion, terms: &LoanTerms) {
                 Some(96),
             )
             .unwrap()
+        })
+    });
+}
+
+/// An adjustable 360-payment loan: the three paths with the disclosure, the
+/// projected payments, and the composite path posted for a check with its APR.
+fn adjustable(c: &mut Criterion, terms: &LoanTerms) {
+    use residue::engine::adjustable::{
+        disclose_adjustable, full_payment, AdjustableRate, MortgageInsurance, RateRounding,
+    };
+    use residue::engine::disclosure::disclose;
+    use residue::engine::schedule::scheduled_payments;
+    let t = LoanTerms {
+        principal: d("300000"),
+        rate: AnnualRate::from_percent(d("6")).unwrap(),
+        ..terms.clone()
+    };
+    let o = PlanOptions {
+        adjustable: Some(AdjustableRate {
+            index_percent: d("4.5"),
+            margin_percent: d("2.75"),
+            first_change_payment: 61,
+            change_every: 12,
+            first_change_cap_percent: Some(d("2")),
+            periodic_cap_percent: Some(d("2")),
+            lifetime_max_percent: d("11"),
+            floor_percent: None,
+            rounding: RateRounding::NearestEighth,
+            payment_cap_percent: None,
+        }),
+        escrow_monthly: Some(d("410")),
+        mortgage_insurance: Some(MortgageInsurance {
+            monthly: d("120"),
+            payments: Some(84),
+        }),
+        ..PlanOptions::default()
+    };
+    c.bench_function("adjustable_360_three_paths_projected_and_apr", |b| {
+        b.iter(|| {
+            let x = disclose_adjustable(black_box(&t), &o).unwrap();
+            let f = full_payment(&t, &o, Some(&x)).unwrap();
+            let s = scheduled_payments(&t, &o).unwrap();
+            (x, f, disclose(&s, &[]).unwrap().apr)
         })
     });
 }

@@ -151,7 +151,12 @@ fn read_terms(f: &mut Fields<'_>) -> Option<AdjustableRate> {
                     rounding: rounding.unwrap_or_default(),
                     payment_cap_percent: payment_cap,
                 };
-                g.in_range(a.check_alone()).then_some(a)
+                let problems = a.problems();
+                let ok = problems.is_empty();
+                for e in problems {
+                    g.in_range(Err(e));
+                }
+                ok.then_some(a)
             }
             _ => None,
         };

@@ -7,6 +7,7 @@
 //! to its server with a tiny HTTP/1.1 client, so the tests see exactly the bytes
 //! a client sees: status line, headers and body.
 
+mod adjustable;
 mod batch;
 mod bounds;
 mod catalogue;

@@ -3,6 +3,7 @@ export const PAGES = [
   { name: 'home', path: '/', caution: true },
   { name: 'loan-form', path: '/loan' },
   { name: 'loan-result', path: '/loan?principal=250000&annual_rate_percent=7.125&term_months=360', caution: true },
+  { name: 'loan-adjustable-result', path: '/loan?principal=300000&annual_rate_percent=6&term_months=360&adjustable.index_percent=4.5&adjustable.margin_percent=2.75&adjustable.first_change_payment=61&adjustable.change_every=12&adjustable.first_change_cap_percent=2&adjustable.periodic_cap_percent=2&adjustable.lifetime_max_percent=11&adjustable.rounding=nearest_eighth&escrow_monthly=410&mortgage_insurance_monthly=120&mortgage_insurance_payments=84', caution: true },
   { name: 'compare-form', path: '/compare' },
   { name: 'compare-result', path: '/compare?principal=278000&annual_rate_percent=6.375&term_months=180,240,360', caution: true },
   { name: 'check-form', path: '/check' },

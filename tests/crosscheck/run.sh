@@ -6,8 +6,8 @@
 # Creates .venv at the repo root if it is missing (pinned requirements), starts
 # the server on 127.0.0.1:18531, waits for GET /healthz to answer 200 (up to
 # 30 s), runs crosscheck.py, csv_roundtrip.py, pipeline.py, spreadsheet.sh,
-# conventions.py, choices.py and schemathesis.sh, stops the server and exits 1
-# if any of them failed.
+# conventions.py, choices.py, adjustable.py and schemathesis.sh, stops the
+# server and exits 1 if any of them failed.
 set -euo pipefail
 
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
@@ -90,6 +90,9 @@ bash tests/crosscheck/spreadsheet.sh "$base" || status=1
 # The payment grid against numpy-financial and 7 CFR 1942.19's factors; rate-and-points options
 # and refinancing against an exact-fraction posted ledger (break-evens, horizons, refusals).
 .venv/bin/python tests/crosscheck/choices.py --base-url "$base" || status=1
+# Adjustable-rate loans: every path's posted ledger against an exact-fraction reference, the paths'
+# order and bounds, numpy-financial at each change, Regulation Z's four examples, the three syntaxes.
+.venv/bin/python tests/crosscheck/adjustable.py --base-url "$base" || status=1
 # Property-based test generated from /api/openapi.json: no 5xx, every 4xx is problem details.
 bash tests/crosscheck/schemathesis.sh "$base" || status=1
 exit "$status"

@@ -41,6 +41,8 @@ pub struct PathPayments {
     pub balances: Vec<Decimal>,
     /// The balloon beyond the regular payment, when one falls due.
     pub balloon: Option<Decimal>,
+    /// The principal repaid by the first five years' payments.
+    pub early_principal: Decimal,
 }
 
 impl PathPayments {
@@ -121,6 +123,7 @@ pub fn path_payments(
         rates,
         balances,
         balloon: plan.balloon,
+        early_principal: plan.summary.early_principal,
     })
 }
 
@@ -291,7 +294,7 @@ pub fn disclose_adjustable(
     let per_year = terms.payment_frequency.per_year();
     let initial = terms.rate.percent();
     let composite = path_payments(terms, options, RatePath::Composite, false)?;
-    let high = path_payments(terms, options, RatePath::Highest, true)?;
+    let high = path_payments(terms, options, RatePath::Highest, false)?;
     let low = path_payments(terms, options, RatePath::Lowest, false)?;
 
     let (highest_rate, highest_rate_at) = highest(&high.rates).unwrap_or((initial, 1));
@@ -359,14 +362,11 @@ pub fn disclose_adjustable(
         .copied()
         .max()
         .unwrap_or(initial);
-    let composite_balances = if five_years < n {
-        // The balance after five years at the initial terms (before any change
-        // that falls later): the highest path's, which agrees with every path
-        // until its first change.
-        high.balances.get(five_years as usize - 1).copied()
-    } else {
-        None
-    };
+    // The balance after five years at the initial terms (before any change
+    // that falls later): the highest path's, which agrees with every path
+    // until its first change; the principal less what the first five years'
+    // payments repaid.
+    let composite_balances = (five_years < n).then(|| terms.principal - high.early_principal);
     let recast = match composite_balances {
         Some(b) if b > Decimal::ZERO => Some(level_payment(terms, b, qm_rate, n - five_years)?),
         _ => None,

@@ -176,32 +176,53 @@ impl AdjustableRate {
     /// `adjustable` prefix, which the interface adds).
     ///
     /// # Errors
-    /// A cap below zero, a floor above the maximum, a change every 0 payments.
+    /// The first of [`AdjustableRate::problems`].
     pub fn check_alone(&self) -> Result<()> {
+        match self.problems().into_iter().next() {
+            Some(e) => Err(e),
+            None => Ok(()),
+        }
+    }
+
+    /// Every term that is wrong alone: a cap or floor below zero, a change
+    /// every 0 payments, a first change before payment 2, a floor above the
+    /// maximum.
+    pub fn problems(&self) -> Vec<EngineError> {
+        let mut out = Vec::new();
         for (field, v) in [
             ("first_change_cap_percent", self.first_change_cap_percent),
             ("periodic_cap_percent", self.periodic_cap_percent),
             ("payment_cap_percent", self.payment_cap_percent),
             ("floor_percent", self.floor_percent),
+            ("lifetime_max_percent", Some(self.lifetime_max_percent)),
         ] {
             if v.is_some_and(|v| v.is_sign_negative() && !v.is_zero()) {
-                return Err(err(field, "cannot be below zero, e.g. 2"));
+                out.push(err(field, "cannot be below zero, e.g. 2"));
             }
         }
+        if self.floor_percent.is_none()
+            && self.margin_percent.is_sign_negative()
+            && !self.margin_percent.is_zero()
+        {
+            out.push(err(
+                "floor_percent",
+                "is needed with a negative margin (without it the floor is the margin, and a rate cannot be below zero), e.g. 0",
+            ));
+        }
         if self.change_every == 0 {
-            return Err(err(
+            out.push(err(
                 "change_every",
                 "must be at least 1 payment, e.g. 12 for yearly changes",
             ));
         }
         if self.first_change_payment < 2 {
-            return Err(err(
+            out.push(err(
                 "first_change_payment",
                 "must be payment 2 or later, e.g. 61 after five years of monthly payments",
             ));
         }
         if self.floor() > self.lifetime_max_percent {
-            return Err(err(
+            out.push(err(
                 "floor_percent",
                 format!(
                     "the floor ({} %) cannot be above the maximum rate ({} %); without floor_percent the floor is the margin",
@@ -210,7 +231,7 @@ impl AdjustableRate {
                 ),
             ));
         }
-        Ok(())
+        out
     }
 
     /// Checks the terms against the loan: its initial rate and `n` payments.

@@ -394,6 +394,7 @@ fn post_inner(
         && !keep_rows
         && extras.is_empty()
         && rate_changes.is_empty()
+        && payment_cap.is_none()
         && o.interest_only_payments == 0
         && o.balloon_after_payments.is_none();
     if level {
@@ -428,9 +429,18 @@ fn post_inner(
         total_interest = total_paid - start;
         tally.record_level(k, pay, last, odd_on_first, start - early_balance);
     }
+    let mut next_change = 0usize;
     while !level && k < limit {
         k += 1;
-        let change = rate_changes.iter().find(|rc| rc.at == k);
+        // The rate changes are at increasing payments (checked): the next one
+        // is the only one that can fall due.
+        let change = match rate_changes.get(next_change) {
+            Some(rc) if rc.at == k => {
+                next_change += 1;
+                Some(rc)
+            }
+            _ => None,
+        };
         // A payment-capped note recasts to the fully amortising payment every
         // RECAST_EVERY payments, the cap set aside.
         let recast = payment_cap.is_some() && k > 1 && (k - 1) % RECAST_EVERY == 0;
