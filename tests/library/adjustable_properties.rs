@@ -240,3 +240,28 @@ proptest! {
         }
     }
 }
+
+proptest! {
+    #![proptest_config(proptest_config(200))]
+
+    /// A check posts an adjustable loan's path without keeping rows, in runs
+    /// between its rate changes; its figures must be the full schedule's.
+    #[test]
+    fn the_lean_posting_of_an_adjustable_loan_equals_the_full_schedule(
+        principal in (5_000_000i64..90_000_000).prop_map(|c| Decimal::new(c, 2)),
+        (a, initial, n, _io) in note(),
+        path in prop_oneof![Just(RatePath::Composite), Just(RatePath::Highest), Just(RatePath::Lowest)],
+        dated in any::<bool>(),
+    ) {
+        prop_assume!(a.floor_percent.unwrap_or(a.margin_percent) <= a.lifetime_max_percent);
+        let date = |s: &str| s.parse::<jiff::civil::Date>().unwrap();
+        let o = PlanOptions {
+            adjustable: Some(a),
+            rate_path: path,
+            funding_date: dated.then(|| date("2027-01-17")),
+            first_payment_date: dated.then(|| date("2027-03-01")),
+            ..PlanOptions::default()
+        };
+        crate::plan_properties::lean_against_full(&terms(principal, initial, n), &o)?;
+    }
+}

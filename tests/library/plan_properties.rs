@@ -72,7 +72,7 @@ fn rate_steps(steps: &[(u32, u32)], n: u32) -> Vec<RateChange> {
 /// The lean posting of a check (`scheduled_payments`) against the full
 /// schedule of the same loan: the same payments (as runs), count, totals,
 /// first five years, due dates and notes; or the same refusal.
-fn lean_against_full(t: &LoanTerms, o: &PlanOptions) -> Result<(), TestCaseError> {
+pub(crate) fn lean_against_full(t: &LoanTerms, o: &PlanOptions) -> Result<(), TestCaseError> {
     let (full, lean) = match (schedule_with(t, o), scheduled_payments(t, o)) {
         (Ok(full), Ok(lean)) => (full, lean),
         (Err(a), Err(b)) => {

@@ -46,13 +46,33 @@ pub struct PathPayments {
 }
 
 impl PathPayments {
-    /// The regular payments: all but the final one (which absorbs the
-    /// rounding); the final one too when it is the only one.
-    pub fn regular(&self) -> &[Decimal] {
-        match self.payments.len() {
-            0 | 1 => &self.payments,
-            n => &self.payments[..n - 1],
+    /// The highest rate, and the first payment at it (the final payment's
+    /// rate counted too: a change may fall on it).
+    pub fn highest_rate(&self) -> Option<(Decimal, u32)> {
+        let mut best: Option<(Decimal, u32)> = None;
+        let last = self.rates.last().map(|r| (*r, self.rates.len() as u32));
+        for (rate, at) in self
+            .steps
+            .iter()
+            .map(|s| (s.rate_percent, s.from_payment))
+            .chain(last)
+        {
+            if best.is_none_or(|(b, _)| rate > b) {
+                best = Some((rate, at));
+            }
         }
+        best
+    }
+
+    /// The highest regular payment, and the first payment of that amount.
+    pub fn highest_payment(&self) -> Option<(Decimal, u32)> {
+        let mut best: Option<(Decimal, u32)> = None;
+        for s in &self.steps {
+            if best.is_none_or(|(b, _)| s.payment > b) {
+                best = Some((s.payment, s.from_payment));
+            }
+        }
+        best
     }
 }
 
@@ -101,18 +121,29 @@ pub fn path_payments(
         }
         rates.push(rate);
     }
-    let mut steps: Vec<PathStep> = Vec::new();
-    let last = payments.len().saturating_sub(1);
-    for (k, (p, r)) in payments.iter().zip(&rates).enumerate() {
-        if k == last && k > 0 {
+    // The steps: where a run of equal payments starts, or the rate changes,
+    // before the final payment (boundaries only, not payment by payment).
+    let mut bounds: Vec<u32> = Vec::with_capacity(plan.summary.runs.len() + changes.len() + 1);
+    let mut at = 1u32;
+    for r in &plan.summary.runs {
+        bounds.push(at);
+        at += r.count;
+    }
+    bounds.extend(changes.iter().map(|c| c.at));
+    bounds.sort_unstable();
+    bounds.dedup();
+    let mut steps: Vec<PathStep> = Vec::with_capacity(bounds.len());
+    for k in bounds {
+        if k > n || (k == n && n > 1) {
             break;
         }
+        let (p, r) = (payments[k as usize - 1], rates[k as usize - 1]);
         match steps.last() {
-            Some(s) if s.payment == *p && s.rate_percent == *r => {}
+            Some(s) if s.payment == p && s.rate_percent == r => {}
             _ => steps.push(PathStep {
-                from_payment: k as u32 + 1,
-                rate_percent: *r,
-                payment: *p,
+                from_payment: k,
+                rate_percent: r,
+                payment: p,
             }),
         }
     }
@@ -242,17 +273,6 @@ fn cents(terms: &LoanTerms, v: Decimal) -> Decimal {
         .round(v, RoundingStrategy::MidpointAwayFromZero)
 }
 
-/// The highest value of `values` and the first payment (1-based) it falls on.
-fn highest(values: &[Decimal]) -> Option<(Decimal, u32)> {
-    let mut best: Option<(Decimal, u32)> = None;
-    for (k, v) in values.iter().enumerate() {
-        if best.is_none_or(|(b, _)| *v > b) {
-            best = Some((*v, k as u32 + 1));
-        }
-    }
-    best
-}
-
 /// The level payment repaying `principal` over `n` payments at `percent` a
 /// year, cent-rounded.
 fn level_payment(
@@ -297,10 +317,15 @@ pub fn disclose_adjustable(
     let high = path_payments(terms, options, RatePath::Highest, false)?;
     let low = path_payments(terms, options, RatePath::Lowest, false)?;
 
-    let (highest_rate, highest_rate_at) = highest(&high.rates).unwrap_or((initial, 1));
+    let (highest_rate, highest_rate_at) = high.highest_rate().unwrap_or((initial, 1));
     let (highest_payment, highest_payment_at) =
-        highest(high.regular()).unwrap_or((Decimal::ZERO, 1));
-    let lowest_payment = low.regular().iter().copied().min().unwrap_or_default();
+        high.highest_payment().unwrap_or((Decimal::ZERO, 1));
+    let lowest_payment = low
+        .steps
+        .iter()
+        .map(|s| s.payment)
+        .min()
+        .unwrap_or_default();
     let summary = AdjustableSummary {
         fully_indexed_rate_percent: a.fully_indexed(),
         highest_rate_percent: highest_rate,
@@ -337,11 +362,11 @@ pub fn disclose_adjustable(
         ..PlanOptions::default()
     };
     let example = path_payments(&example_terms, &example_options, RatePath::Highest, false)?;
-    let (example_payment, example_at) = highest(example.regular()).unwrap_or((Decimal::ZERO, 1));
+    let (example_payment, example_at) = example.highest_payment().unwrap_or((Decimal::ZERO, 1));
     let program_example = ProgramExample {
         principal: example_terms.principal,
         initial_payment: example.payments.first().copied().unwrap_or_default(),
-        highest_rate_percent: example.rates.iter().copied().max().unwrap_or(initial),
+        highest_rate_percent: example.highest_rate().map_or(initial, |r| r.0),
         highest_payment: example_payment,
         highest_payment_year: year_of(example_at, per_year),
     };
@@ -356,12 +381,13 @@ pub fn disclose_adjustable(
     // the last falling due five years after the first.
     let five_years = 5 * per_year;
     let qm_rate = high
-        .rates
+        .steps
         .iter()
-        .take(five_years as usize + 1)
-        .copied()
+        .take_while(|s| s.from_payment <= five_years + 1)
+        .map(|s| s.rate_percent)
         .max()
-        .unwrap_or(initial);
+        .unwrap_or(initial)
+        .max(initial);
     // The balance after five years at the initial terms (before any change
     // that falls later): the highest path's, which agrees with every path
     // until its first change; the principal less what the first five years'

@@ -266,6 +266,8 @@ impl AdjustableRate {
     /// The rate (percent) at each change of `path` up to payment `n`, starting
     /// from `initial`: the target (index + margin, rounded; the maximum; the
     /// floor) limited by the change's cap, then kept within floor and maximum.
+    /// A path that has reached its fixed target and stayed there for a change
+    /// ends the list (every later change would keep the rate).
     ///
     /// # Errors
     /// An `index_values` path with no value.
@@ -308,7 +310,13 @@ impl AdjustableRate {
             }
             next = next.min(max).max(floor);
             out.push((at, next.normalize()));
+            // A path whose target does not move stays where it arrived: the
+            // changes left would all keep the rate.
+            let settled = next == rate && next == target.min(max).max(floor);
             rate = next;
+            if settled && !matches!(path, RatePath::IndexValues(_)) {
+                break;
+            }
         }
         Ok(out)
     }
@@ -445,8 +453,9 @@ mod tests {
         // Lowest: −5 would be 1.5, the floor is the margin 2.75.
         let l = a.path_rates(d("6.5"), &RatePath::Lowest, 360).unwrap();
         assert_eq!(l[0], (61, d("2.75")));
-        assert_eq!(h.len(), 25); // payments 61, 73, …, 349
-                                 // Only changes that move the rate become rate changes.
+        // 11.5 at payment 61, kept at 73: the path has settled, and the list ends.
+        assert_eq!(h.len(), 2);
+        // Only changes that move the rate become rate changes.
         assert_eq!(
             a.rate_changes(d("6.5"), &RatePath::Composite, 360)
                 .unwrap()

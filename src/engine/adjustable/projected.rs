@@ -100,34 +100,49 @@ pub fn projected_payments(
     let years = count.div_ceil(per_year);
     let balloon = paths.first().and_then(|p| p.balloon).is_some();
     let premium = insurance.map_or(Decimal::ZERO, |m| m.monthly);
-    let mut rows: Vec<Year> = Vec::with_capacity(years as usize);
-    for y in 0..years {
-        let (from, to) = (y * per_year + 1, ((y + 1) * per_year).min(count));
-        let (mut min, mut max) = (None::<Decimal>, None::<Decimal>);
-        for p in paths {
-            let last = p.payments.len() as u32;
-            for k in from..=to.min(last) {
-                // The final payment absorbs the rounding: not a change, unless
-                // it is the balloon (or the only payment of its year).
-                if k == last && last > 1 && !(balloon && p.balloon.is_some()) && k > from {
-                    continue;
-                }
-                let v = p.payments[k as usize - 1];
-                min = Some(min.map_or(v, |m| m.min(v)));
-                max = Some(max.map_or(v, |m| m.max(v)));
+    // Each year's lowest and highest payment on any path, from the paths'
+    // steps (runs of one payment), not payment by payment.
+    let mut range: Vec<Option<(Decimal, Decimal)>> = vec![None; years as usize];
+    let mut note = |y: u32, v: Decimal| {
+        let slot = &mut range[y as usize];
+        *slot = Some(slot.map_or((v, v), |(lo, hi)| (lo.min(v), hi.max(v))));
+    };
+    for p in paths {
+        let last = p.payments.len() as u32;
+        for (j, s) in p.steps.iter().enumerate() {
+            // The steps leave out the final payment, which absorbs the
+            // rounding: it is not a change.
+            let end = p
+                .steps
+                .get(j + 1)
+                .map_or(last.saturating_sub(1).max(1), |n| n.from_payment - 1);
+            for y in (s.from_payment - 1) / per_year..=(end.max(s.from_payment) - 1) / per_year {
+                note(y, s.payment);
             }
         }
-        rows.push(Year {
-            min: min.unwrap_or_default(),
-            max: max.unwrap_or_default(),
-            interest_only: from <= interest_only_payments,
-            insurance: if from <= insurance_until {
-                premium
-            } else {
-                Decimal::ZERO
-            },
-        });
+        // The final payment counts when it is a balloon, or the only payment of its year.
+        if last > 0 && (p.balloon.is_some() || (last - 1) % per_year == 0) {
+            note((last - 1) / per_year, p.payments[last as usize - 1]);
+        }
     }
+    let rows: Vec<Year> = range
+        .iter()
+        .enumerate()
+        .map(|(y, r)| {
+            let from = y as u32 * per_year + 1;
+            let (min, max) = r.unwrap_or_default();
+            Year {
+                min,
+                max,
+                interest_only: from <= interest_only_payments,
+                insurance: if from <= insurance_until {
+                    premium
+                } else {
+                    Decimal::ZERO
+                },
+            }
+        })
+        .collect();
     // Runs of equal years.
     let mut runs: Vec<(u32, u32, bool)> = Vec::new(); // (first year, last year, started by insurance alone)
     for (y, row) in rows.iter().enumerate() {

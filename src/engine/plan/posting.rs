@@ -387,17 +387,18 @@ fn post_inner(
     let (mut total_paid, mut total_interest, mut total_extra) = (0i128, 0i128, 0i128);
     let mut limit = n;
     let mut k = 0;
-    // A level loan posted for its totals alone (a check): the steps of the
-    // general loop below when nothing changes over time, without its per-payment
-    // tests (the property tests hold both to the same figures).
+    // A loan posted for its totals alone (a check), level or with rate steps
+    // that re-amortise (an adjustable rate's path): the steps of the general
+    // loop below when only the rate changes over time, without its
+    // per-payment tests (the property tests hold both to the same figures).
     let level = !with_segments
         && !keep_rows
         && extras.is_empty()
-        && rate_changes.is_empty()
+        && (rate_changes.is_empty() || o.rate_change_keeps == RateChangeKeeps::Term)
         && payment_cap.is_none()
         && o.interest_only_payments == 0
         && o.balloon_after_payments.is_none();
-    if level {
+    if level && rate_changes.is_empty() {
         // Only the balance is carried: every payment but the last is `pay`,
         // so the totals and the summary follow from the last payment, the
         // count and the balance after the first five years.
@@ -428,6 +429,78 @@ fn post_inner(
         // add up to the principal.
         total_interest = total_paid - start;
         tally.record_level(k, pay, last, odd_on_first, start - early_balance);
+    } else if level {
+        // Runs of one payment between rate changes: the balance is carried,
+        // and each run is recorded when the next change (or the end) closes it.
+        let start = balance;
+        let mut early_balance = None;
+        let early_limit = tally.early_limit;
+        let mut runs: Vec<(i128, u32)> = Vec::with_capacity(rate_changes.len() + 3);
+        let mut run_start = 1u32;
+        let mut next = 0usize;
+        let mut last = 0;
+        while k < limit {
+            k += 1;
+            if let Some(rc) = rate_changes.get(next).filter(|rc| rc.at == k) {
+                next += 1;
+                i = rate_of(&rc.rate)?;
+                poster = poster_for(&rc.rate, i);
+                let new_payment =
+                    rounded_payment(terms, from_minor(balance, e), i, &poster, n - (k - 1))?;
+                runs.push((pay, k - run_start));
+                run_start = k;
+                pay = to_minor(new_payment, e)?;
+            }
+            let interest = poster.interest(balance)?;
+            let owed = balance + interest;
+            if pay <= interest && owed > pay {
+                return Err(never_falls(k, terms, pay));
+            }
+            if owed <= pay || k == limit {
+                last = owed;
+                balance = 0;
+                break;
+            }
+            balance = owed - pay;
+            if k == early_limit {
+                early_balance = Some(balance);
+            }
+        }
+        runs.push((pay, k - run_start));
+        // The last payment takes what is owed; odd-days interest goes with the first.
+        runs.push((last, 1));
+        let mut count = 0u32;
+        let (mut early_payments, mut paid) = (odd_on_first, odd_on_first);
+        for (amount, n) in &runs {
+            let before = count;
+            count += n;
+            paid += amount * i128::from(*n);
+            let early = count
+                .min(early_limit)
+                .saturating_sub(before.min(early_limit));
+            early_payments += amount * i128::from(early);
+        }
+        // The runs as the general loop records them: each payment's scheduled
+        // amount, the first with its odd-days interest.
+        let mut first = true;
+        for (amount, n) in runs {
+            if n == 0 {
+                continue;
+            }
+            if first {
+                tally.push_run(amount + odd_on_first, 1);
+                tally.push_run(amount, n - 1);
+                first = false;
+            } else {
+                tally.push_run(amount, n);
+            }
+        }
+        tally.count = k;
+        tally.final_payment = if k == 1 { last + odd_on_first } else { last };
+        tally.early_payments = early_payments;
+        tally.early_principal = start - early_balance.unwrap_or(0);
+        total_paid = paid;
+        total_interest = total_paid - start;
     }
     let mut next_change = 0usize;
     while !level && k < limit {
