@@ -6,7 +6,8 @@
 #
 #   bash scripts/ab-batch.sh path/to/before/residue path/to/after/residue
 #
-# Not part of CI: it measures. BATCH_LINES (default 20000), ROUNDS (default 2).
+# Not part of CI: it measures. BATCH_LINES (default 20000), ROUNDS (default 2),
+# ADJUSTABLE=1 for adjustable-rate loans.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 before="$1"
@@ -15,7 +16,7 @@ lines="${BATCH_LINES:-20000}"
 rounds="${ROUNDS:-2}"
 work="$(mktemp -d -t residue-ab.XXXXXX)"
 trap 'rm -rf "$work"' EXIT
-awk -v n="$lines" -f scripts/check-batch.awk >"$work/batch.ndjson"
+awk -v n="$lines" -v adjustable="${ADJUSTABLE:-0}" -f scripts/check-batch.awk >"$work/batch.ndjson"
 ticks="$(getconf CLK_TCK)"
 
 run() {
