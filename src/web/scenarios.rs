@@ -3,7 +3,7 @@
 use crate::input::json::{self, Json};
 
 /// The scenario files, in the order the home page lists them.
-pub const FILES: [(&str, &str); 10] = [
+pub const FILES: [(&str, &str); 11] = [
     (
         "first-home-three-terms.json",
         include_str!("../../demo-scenarios/first-home-three-terms.json"),
@@ -15,6 +15,10 @@ pub const FILES: [(&str, &str); 10] = [
     (
         "bakery-balloon.json",
         include_str!("../../demo-scenarios/bakery-balloon.json"),
+    ),
+    (
+        "lakeside-adjustable-five-one.json",
+        include_str!("../../demo-scenarios/lakeside-adjustable-five-one.json"),
     ),
     (
         "quote-to-check.json",
@@ -65,6 +69,15 @@ impl Scenario {
             let text = match v {
                 Json::Number(n) | Json::String(n) => n.clone(),
                 Json::Bool(b) => b.to_string(),
+                // An object's members as prefix.NAME (the adjustable terms).
+                Json::Object(members) => {
+                    for (name, value) in members {
+                        if let Json::Number(t) | Json::String(t) = value {
+                            q.append_pair(&format!("{k}.{name}"), t);
+                        }
+                    }
+                    continue;
+                }
                 _ => continue,
             };
             q.append_pair(k, &text);
