@@ -358,6 +358,14 @@ impl InterestRounding {
     }
 }
 
+/// A dollar amount as a disclosure form shows it (§1026.37(o)(4)): to the
+/// nearest whole dollar (halves up: common practice, no source).
+pub fn form_dollars(amount: Decimal) -> Decimal {
+    let mut r = amount.round_dp_with_strategy(0, RoundingStrategy::MidpointAwayFromZero);
+    r.rescale(0);
+    r
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

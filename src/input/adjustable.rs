@@ -6,11 +6,10 @@
 use rust_decimal::Decimal;
 use serde_json::{json, Value};
 
-use super::fields::{Fields, Raw, Source};
+use super::fields::{money_in, Fields, Raw, Source};
 use super::json::Json;
-use super::loan::{money_in, MAX_LIST_ITEMS};
 use super::problem::FieldError;
-use super::table::{choice, Choice, Field, Kind, Table};
+use super::table::{choice, Choice, Field, Kind, Table, MAX_LIST_ITEMS};
 use crate::engine::adjustable::{AdjustableRate, MortgageInsurance, RatePath, RateRounding};
 use crate::engine::loan::MAX_PAYMENTS;
 use crate::engine::money::Currency;
@@ -328,13 +327,18 @@ pub fn read_adjustable(f: &mut Fields<'_>, o: &mut PlanOptions, currency: Curren
             f.error(name, "cannot be below zero, e.g. 410");
         }
     }
-    let path = f.pick(super::loan::PLAN, "rate_path", |s| match s {
-        "composite" => Some(RatePath::Composite),
-        "highest" => Some(RatePath::Highest),
-        "lowest" => Some(RatePath::Lowest),
-        "index_values" => Some(RatePath::IndexValues(Vec::new())),
-        _ => None,
-    });
+    let names: Vec<&str> = RATE_PATHS.iter().map(|c| c.value).collect();
+    let path = f.choice(
+        "rate_path",
+        |s| match s {
+            "composite" => Some(RatePath::Composite),
+            "highest" => Some(RatePath::Highest),
+            "lowest" => Some(RatePath::Lowest),
+            "index_values" => Some(RatePath::IndexValues(Vec::new())),
+            _ => None,
+        },
+        &names,
+    );
     let given_path = f.has("rate_path");
     let values = read_index_values(f);
     o.adjustable = read_terms(f);

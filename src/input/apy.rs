@@ -108,20 +108,8 @@ fn required<T>(f: &mut Fields<'_>, name: &'static str, value: Option<T>) -> Opti
 }
 
 fn money(f: &mut Fields<'_>, name: &'static str, currency: Currency) -> Option<Decimal> {
-    let v = f.decimal(name);
-    let v = required(f, name, v)?;
-    if !currency.fits(v) {
-        f.error(
-            name,
-            format!(
-                "{} amounts have at most {} decimals",
-                currency.code(),
-                currency.minor_units()
-            ),
-        );
-        return None;
-    }
-    Some(v)
+    let v = super::fields::money_in(f, name, currency);
+    required(f, name, v)
 }
 
 /// Reads the request's fields.

@@ -331,6 +331,27 @@ impl<'a> Fields<'a> {
     }
 }
 
+/// An amount of money in `currency`: at most its minor units of decimals.
+pub fn money_in(
+    f: &mut Fields<'_>,
+    name: &'static str,
+    currency: crate::engine::money::Currency,
+) -> Option<Decimal> {
+    let v = f.decimal(name)?;
+    if !currency.fits(v) {
+        f.error(
+            name,
+            format!(
+                "{} amounts have at most {} decimals",
+                currency.code(),
+                currency.minor_units()
+            ),
+        );
+        return None;
+    }
+    Some(v)
+}
+
 /// An example value of the field's own kind: a percentage for a rate, a whole
 /// number for a count, an amount of money otherwise.
 pub fn example_for(name: &str) -> &'static str {

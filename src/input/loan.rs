@@ -8,7 +8,7 @@ use crate::engine::rate::{AnnualRate, Frequency};
 use crate::engine::schedule::{
     check_payment, check_payment_count, check_principal, payments_in_months, LoanTerm, LoanTerms,
 };
-use crate::input::fields::{Fields, Raw, Source};
+use crate::input::fields::{money_in, Fields, Raw, Source};
 use crate::input::json::Json;
 use crate::input::problem::{ApiError, FieldError};
 use rust_decimal::Decimal;
@@ -343,9 +343,7 @@ enum ExtraAt {
     },
 }
 
-/// The most extra payments, and the most rate changes, a request may hold (in
-/// a JSON array or a query list alike).
-pub const MAX_LIST_ITEMS: usize = 120;
+pub use super::table::MAX_LIST_ITEMS;
 
 /// True when a query list of `len` items is within [`MAX_LIST_ITEMS`]; else
 /// records the error on `name` and answers false.
@@ -436,26 +434,6 @@ enum ExtraWhen {
     },
     At(u32),
     Date(jiff::civil::Date),
-}
-
-pub(crate) fn money_in(
-    f: &mut Fields<'_>,
-    name: &'static str,
-    currency: Currency,
-) -> Option<Decimal> {
-    let v = f.decimal(name)?;
-    if !currency.fits(v) {
-        f.error(
-            name,
-            format!(
-                "{} amounts have at most {} decimals",
-                currency.code(),
-                currency.minor_units()
-            ),
-        );
-        return None;
-    }
-    Some(v)
 }
 
 /// Reads the plan options (dates, extras, interest-only, balloon, rate steps, property value).

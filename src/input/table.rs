@@ -361,3 +361,7 @@ pub const CURRENCY: Field = Field::new(
     "ISO 4217 code: USD, EUR, GBP, CAD, AUD, NZD, CHF, SEK, NOK, DKK, MXN, INR, ZAR, JPY, KRW, ISK, CLP, KWD, BHD, JOD, OMR, TND.",
     "USD",
 );
+
+/// The most extra payments, and the most rate changes, a request may hold (in
+/// a JSON array or a query list alike).
+pub const MAX_LIST_ITEMS: usize = 120;

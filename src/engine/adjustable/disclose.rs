@@ -5,7 +5,7 @@
 
 use rust_decimal::{Decimal, RoundingStrategy};
 
-use super::RatePath;
+use super::terms::RatePath;
 use crate::engine::error::{EngineError, Result};
 use crate::engine::loan::payment_for_term;
 use crate::engine::plan::{post_summary, post_totals, PlanOptions};
@@ -110,14 +110,18 @@ pub fn path_payments(
     let initial = terms.rate.percent();
     let changes = match (&options.adjustable, terms.term) {
         (Some(a), LoanTerm::Payments(term)) => a.rate_changes(initial, &path, term)?,
-        _ => options.rate_changes.clone(),
+        _ => options
+            .rate_changes
+            .iter()
+            .map(|c| (c.at, c.rate))
+            .collect(),
     };
     let mut rates = Vec::with_capacity(payments.len());
     let mut rate = initial;
     let mut next = changes.iter().peekable();
     for k in 1..=n {
-        while let Some(c) = next.next_if(|c| c.at <= k) {
-            rate = c.rate.percent();
+        while let Some((_, r)) = next.next_if(|c| c.0 <= k) {
+            rate = r.percent();
         }
         rates.push(rate);
     }
@@ -129,7 +133,7 @@ pub fn path_payments(
         bounds.push(at);
         at += r.count;
     }
-    bounds.extend(changes.iter().map(|c| c.at));
+    bounds.extend(changes.iter().map(|c| c.0));
     bounds.sort_unstable();
     bounds.dedup();
     let mut steps: Vec<PathStep> = Vec::with_capacity(bounds.len());
@@ -417,7 +421,7 @@ pub fn disclose_adjustable(
 
 #[cfg(test)]
 mod tests {
-    use super::super::{AdjustableRate, RateRounding};
+    use super::super::terms::{AdjustableRate, RateRounding};
     use super::*;
     use crate::engine::testing::{d, level_loan};
 

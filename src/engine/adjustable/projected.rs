@@ -5,16 +5,8 @@
 use rust_decimal::Decimal;
 
 use super::disclose::PathPayments;
-use crate::engine::disclosure::form_dollars;
-
-/// Mortgage insurance paid with each payment.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct MortgageInsurance {
-    /// The premium with each payment.
-    pub monthly: Decimal,
-    /// The payments it is paid with (from payment 1); `None`: every payment.
-    pub payments: Option<u32>,
-}
+use super::terms::MortgageInsurance;
+use crate::engine::money::form_dollars;
 
 /// One column of projected payments, in whole dollars (§1026.37(o)(4)).
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -204,7 +196,8 @@ pub fn projected_payments(
 
 #[cfg(test)]
 mod tests {
-    use super::super::{disclose_adjustable, AdjustableRate, RateRounding};
+    use super::super::disclose::{disclose_adjustable, path_payments};
+    use super::super::terms::{AdjustableRate, RatePath, RateRounding};
     use super::*;
     use crate::engine::plan::PlanOptions;
     use crate::engine::testing::{d, level_loan};
@@ -258,8 +251,7 @@ mod tests {
     fn a_fixed_loan_with_insurance_ending_has_two_columns() {
         let terms = level_loan("200000", "6", 360);
         let o = PlanOptions::default();
-        let p = super::super::path_payments(&terms, &o, super::super::RatePath::Composite, false)
-            .unwrap();
+        let p = path_payments(&terms, &o, RatePath::Composite, false).unwrap();
         let cols = projected_payments(
             &[&p],
             12,

@@ -44,13 +44,7 @@ pub fn form_percent(percent: Decimal) -> Decimal {
         .normalize()
 }
 
-/// A dollar amount as a disclosure form shows it (§1026.37(o)(4)): to the
-/// nearest whole dollar (halves up: common practice, no source).
-pub fn form_dollars(amount: Decimal) -> Decimal {
-    let mut r = amount.round_dp_with_strategy(0, RoundingStrategy::MidpointAwayFromZero);
-    r.rescale(0);
-    r
-}
+pub use crate::engine::money::form_dollars;
 
 /// What is paid through the 60th month after the first payment (§1026.37(l)(1)).
 #[derive(Debug, Clone, PartialEq, Eq)]

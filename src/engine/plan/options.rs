@@ -5,7 +5,7 @@
 use jiff::civil::Date;
 use rust_decimal::Decimal;
 
-use crate::engine::adjustable::{AdjustableRate, MortgageInsurance, RatePath};
+use crate::engine::adjustable::terms::{AdjustableRate, MortgageInsurance, RatePath};
 use crate::engine::calendar::DayCount;
 use crate::engine::error::{EngineError, Result};
 use crate::engine::rate::AnnualRate;

@@ -9,7 +9,7 @@ use super::options::{
     check, extras_at, last_extra, Extra, OddDaysInterest, PlanOptions, RateChange, RateChangeKeeps,
 };
 use super::segments::{reconcile, solve_segments, Segment};
-use crate::engine::adjustable::RECAST_EVERY;
+use crate::engine::adjustable::terms::RECAST_EVERY;
 use crate::engine::calendar::{due_dates, period_before};
 use crate::engine::error::{EngineError, Result};
 use crate::engine::ledger::{from_minor, to_minor, InterestPoster};
@@ -322,7 +322,11 @@ fn post_inner(
     let derived;
     let rate_changes: &[RateChange] = match &o.adjustable {
         Some(a) => {
-            derived = a.rate_changes(terms.rate.percent(), &o.rate_path, n)?;
+            derived = a
+                .rate_changes(terms.rate.percent(), &o.rate_path, n)?
+                .into_iter()
+                .map(|(at, rate)| RateChange { at, rate })
+                .collect::<Vec<_>>();
             &derived
         }
         None => &o.rate_changes,
