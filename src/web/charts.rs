@@ -133,6 +133,30 @@ fn x_years(out: &mut String, periods: u32, per_year: u32) {
     );
 }
 
+/// The dash pattern of line `i`, as an attribute (none for the first).
+fn dash_attr(i: usize) -> String {
+    let dash = DASHES[i % DASHES.len()];
+    if dash.is_empty() {
+        String::new()
+    } else {
+        format!(r#" stroke-dasharray="{dash}""#)
+    }
+}
+
+/// One legend entry: a short sample of line `i` at (x, y) and its label.
+fn legend_entry(out: &mut String, i: usize, x: f64, y: f64, label: &str, max_chars: usize) {
+    let _ = write!(
+        out,
+        r#"<line class="line line-{}" x1="{x:.1}" x2="{:.1}" y1="{y:.1}" y2="{y:.1}"{}/><text class="legend" x="{:.1}" y="{:.1}">{}</text>"#,
+        i % 4,
+        x + 28.0,
+        dash_attr(i),
+        x + 34.0,
+        y + 4.0,
+        escape(&label.chars().take(max_chars).collect::<String>())
+    );
+}
+
 /// The balance over time, one line per series, against years.
 pub fn balance_chart(
     id: &str,
@@ -168,38 +192,18 @@ pub fn balance_chart(
             let y = TOP + plot_h * (1.0 - f(*b).max(0.0) / top);
             let _ = write!(pts, "{x:.1},{y:.1} ");
         }
-        let dash = DASHES[i % DASHES.len()];
         let _ = write!(
             out,
             r#"<polyline class="line line-{}" fill="none" points="{}"{}/>"#,
             i % 4,
             pts.trim_end(),
-            if dash.is_empty() {
-                String::new()
-            } else {
-                format!(r#" stroke-dasharray="{dash}""#)
-            }
+            dash_attr(i)
         );
     }
     if series.len() > 1 {
         for (i, s) in series.iter().enumerate() {
             let y = TOP + 12.0 + 16.0 * i as f64;
-            let x = WIDTH - RIGHT - 210.0;
-            let dash = DASHES[i % DASHES.len()];
-            let _ = write!(
-                out,
-                r#"<line class="line line-{}" x1="{x:.1}" x2="{:.1}" y1="{y:.1}" y2="{y:.1}"{}/><text class="legend" x="{:.1}" y="{:.1}">{}</text>"#,
-                i % 4,
-                x + 28.0,
-                if dash.is_empty() {
-                    String::new()
-                } else {
-                    format!(r#" stroke-dasharray="{dash}""#)
-                },
-                x + 34.0,
-                y + 4.0,
-                escape(&s.label.chars().take(32).collect::<String>())
-            );
+            legend_entry(&mut out, i, WIDTH - RIGHT - 210.0, y, &s.label, 32);
         }
     }
     out.push_str("</svg>");
@@ -333,17 +337,12 @@ fn step_panel(
             let x1 = LEFT + plot_w * f64::from(end) / f64::from(periods.max(1));
             let _ = write!(pts, "{x0:.1},{y:.1} {x1:.1},{y:.1} ");
         }
-        let dash = DASHES[i % DASHES.len()];
         let _ = write!(
             out,
             r#"<polyline class="line line-{}" fill="none" points="{}"{}/>"#,
             i % 4,
             pts.trim_end(),
-            if dash.is_empty() {
-                String::new()
-            } else {
-                format!(r#" stroke-dasharray="{dash}""#)
-            }
+            dash_attr(i)
         );
     }
 }
@@ -385,22 +384,7 @@ pub fn path_chart(
     out.push_str("</g>");
     let y = height - 14.0;
     for (i, s) in payments.iter().enumerate() {
-        let x = LEFT + 200.0 * i as f64;
-        let dash = DASHES[i % DASHES.len()];
-        let _ = write!(
-            out,
-            r#"<line class="line line-{}" x1="{x:.1}" x2="{:.1}" y1="{y:.1}" y2="{y:.1}"{}/><text class="legend" x="{:.1}" y="{:.1}">{}</text>"#,
-            i % 4,
-            x + 28.0,
-            if dash.is_empty() {
-                String::new()
-            } else {
-                format!(r#" stroke-dasharray="{dash}""#)
-            },
-            x + 34.0,
-            y + 4.0,
-            escape(&s.label.chars().take(24).collect::<String>())
-        );
+        legend_entry(&mut out, i, LEFT + 200.0 * i as f64, y, &s.label, 24);
     }
     out.push_str("</svg>");
     out

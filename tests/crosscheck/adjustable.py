@@ -34,8 +34,9 @@ that shares nothing with Residue:
 
 3. numpy-financial 1.0.0: at every rate change (loans without a payment cap)
    the posted payment equals `level_payment(rate / 12, payments left, −balance)`
-   (npf.pmt, called with decimal.Decimal arguments so it computes in 50-digit
-   decimals) rounded half up to the cent.
+   (numpy-financial's level-payment function, imported once below as
+   level_payment, called with decimal.Decimal arguments so it computes in
+   50-digit decimals) rounded half up to the cent.
 
 4. The four published examples of Regulation Z and its official commentary:
    Appendix H-14 (the $10,000 example of §1026.19(b)(2)(viii)(B)), comment
