@@ -6,8 +6,64 @@
 // 3. The pipeline page posts its file to the API and shows the verdicts as they
 //    stream in, with a progress bar; without this, its form posts to the page.
 // 4. The payment grid marks the column under the pointer.
+// 5. Repeatable rows get an "Add a row" button and a "Remove" button on each row.
 (function () {
   "use strict";
+  // 5. Repeatable rows: add and remove; without this the form shows blank rows.
+  var relabel = function (table) {
+    Array.prototype.forEach.call(table.tBodies[0].rows, function (tr, i) {
+      tr.querySelectorAll("input").forEach(function (input) {
+        var label = input.getAttribute("aria-label") || "";
+        input.setAttribute("aria-label", label.replace(/, row \d+$/, ", row " + (i + 1)));
+      });
+      var b = tr.querySelector("button.remove-row");
+      if (b) b.setAttribute("aria-label", "Remove row " + (i + 1));
+    });
+  };
+  var removable = function (table, tr) {
+    var td = document.createElement("td");
+    var b = document.createElement("button");
+    b.type = "button";
+    b.className = "remove-row";
+    b.textContent = "Remove";
+    b.addEventListener("click", function () {
+      var body = table.tBodies[0];
+      if (body.rows.length > 1) {
+        tr.parentNode.removeChild(tr);
+      } else {
+        tr.querySelectorAll("input").forEach(function (i) { i.value = ""; });
+      }
+      relabel(table);
+    });
+    td.appendChild(b);
+    tr.appendChild(td);
+  };
+  document.querySelectorAll("table[data-repeatable]").forEach(function (table) {
+    var th = document.createElement("th");
+    th.scope = "col";
+    th.innerHTML = '<span class="visually-hidden">Remove</span>';
+    table.tHead.rows[0].appendChild(th);
+    Array.prototype.forEach.call(table.tBodies[0].rows, function (tr) { removable(table, tr); });
+    var add = document.createElement("button");
+    add.type = "button";
+    add.className = "add-row";
+    add.textContent = "Add a row";
+    add.addEventListener("click", function () {
+      var body = table.tBodies[0];
+      var last = body.rows[body.rows.length - 1];
+      var tr = last.cloneNode(true);
+      tr.querySelectorAll("input").forEach(function (i) { i.value = ""; });
+      var old = tr.querySelector("td:last-child");
+      if (old && old.querySelector("button")) tr.removeChild(old);
+      body.appendChild(tr);
+      removable(table, tr);
+      relabel(table);
+      var first = tr.querySelector("input");
+      if (first) first.focus();
+    });
+    var wrap = table.closest(".table-wrap") || table;
+    wrap.parentNode.insertBefore(add, wrap.nextSibling);
+  });
   document.addEventListener("submit", function (event) {
     var form = event.target;
     if (!form || form.method.toLowerCase() !== "get") return;

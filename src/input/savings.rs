@@ -34,15 +34,15 @@ pub const SAVINGS_FIELDS: &[Field] = &[
     .example("1000")
     .form(
         "Opening balance",
-        "What is in the account today. Leave empty for none.",
-        "for example 1,000",
+        "What is in the account today, for example 1,000. Leave empty for none.",
+        "",
     ),
     Field::new("deposit", Kind::Money, "Each period's deposit.")
         .example("300")
         .form(
             "Deposit",
-            "Each period. Leave empty to work out the deposit that reaches the goal.",
-            "for example 300",
+            "Paid in each period, for example 300. Leave empty to work out the deposit that reaches the goal.",
+            "",
         ),
     Field::new(
         "withdrawal",
@@ -50,7 +50,11 @@ pub const SAVINGS_FIELDS: &[Field] = &[
         "Each period's withdrawal, for a drawdown (instead of a deposit).",
     )
     .example("2500")
-    .form("Withdrawal", "For a drawdown, instead of a deposit.", ""),
+    .form(
+        "Withdrawal",
+        "Taken out each period instead of a deposit, for example 1,400. Leave the term empty to see how long the balance lasts.",
+        "",
+    ),
     Field::new(
         "deposit_timing",
         Kind::Choice {
@@ -70,14 +74,22 @@ pub const SAVINGS_FIELDS: &[Field] = &[
         "How often deposits are made (default monthly).",
     )
     .example("monthly")
-    .form("Deposits every", "", ""),
+    .form(
+        "Deposits every",
+        "Also sets the length of a period, and how often withdrawals are made.",
+        "",
+    ),
     Field::new(
         "deposit_growth_percent",
         Kind::Percent,
         "Deposits grow by this percentage.",
     )
     .example("3")
-    .form("Deposit grows by (%)", "A fixed percentage.", ""),
+    .form(
+        "Deposit grows by (%)",
+        "For example 3, to raise the deposit by 3 % each time growth is applied.",
+        "",
+    ),
     Field::new(
         "deposit_growth_every",
         Kind::Choice {
@@ -94,7 +106,11 @@ pub const SAVINGS_FIELDS: &[Field] = &[
         "Deposits grow each year by this amount.",
     )
     .example("10")
-    .form("Deposit grows each year by", "A fixed amount.", ""),
+    .form(
+        "Deposit grows each year by",
+        "A fixed amount, for example 10 more each year.",
+        "",
+    ),
     Field::new(
         "annual_rate_percent",
         Kind::Percent,
@@ -104,8 +120,8 @@ pub const SAVINGS_FIELDS: &[Field] = &[
     .example("4")
     .form(
         "Interest rate (% a year)",
-        "The nominal annual rate the account pays.",
-        "for example 4",
+        "The nominal annual rate the account pays, for example 4.",
+        "",
     ),
     Field::new(
         "compounding",
@@ -125,8 +141,8 @@ pub const SAVINGS_FIELDS: &[Field] = &[
     .example("120")
     .form(
         "Term in months",
-        "120 is 10 years. Give the term, the goal or both: see what is worked out.",
-        "for example 120",
+        "For example 120 for 10 years. Leave empty to see when the goal is reached, or how long the balance lasts.",
+        "",
     ),
     Field::new(
         "term_periods",
@@ -134,13 +150,25 @@ pub const SAVINGS_FIELDS: &[Field] = &[
         "The term in periods of the deposit frequency.",
     )
     .example("120")
-    .form("Number of periods", "Instead of the term in months.", ""),
+    .form(
+        "Number of periods",
+        "Instead of the term in months: how many deposits or withdrawals, for example 40 for 10 years of quarterly deposits.",
+        "",
+    ),
     Field::new("goal", Kind::Money, "The balance to reach.")
         .example("25000")
-        .form("Goal", "The balance to reach.", "for example 25,000"),
+        .form(
+            "Goal",
+            "The balance to reach, for example 25,000. Leave the deposit or the term empty to have it worked out.",
+            "",
+        ),
     Field::new("start_date", Kind::Date, "ISO 8601; dates every period.")
         .example("2027-01-04")
-        .form("Start date", "Dates every period (YYYY-MM-DD).", ""),
+        .form(
+            "Start date",
+            "Optional: gives every period a date (YYYY-MM-DD, for example 2027-01-04).",
+            "",
+        ),
     CURRENCY,
 ];
 

@@ -1,5 +1,6 @@
-//! `/about`: the method in plain words, with one worked example computed live
-//! by the engine (so the page cannot drift from what the service does).
+//! `/about`: how the figures are worked out, in plain words, with one worked
+//! example computed live by the engine (so the page cannot drift from what the
+//! service does), and a glossary.
 
 use askama::Template;
 use axum::response::Response;
@@ -87,7 +88,7 @@ fn example(s: &LoanSchedule) -> Example {
 /// `GET /about`
 pub async fn page() -> Response {
     render(&AboutPage {
-        layout: Layout::new("The method", "/about"),
+        layout: Layout::new("How the figures are worked out", "/about"),
         example: schedule(&example_terms())
             .map(|s| example(&s))
             .map_err(|e| e.to_string()),

@@ -33,7 +33,6 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 6] = [
             "quoted_payment",
             "quoted_apr_percent",
             "quoted_finance_charge",
-            "prepaid_finance_charges",
             "mortgage",
         ],
     ),
@@ -58,7 +57,6 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 6] = [
             "odd_days_interest",
             "interest_only_payments",
             "balloon_after_payments",
-            "rate_changes",
             "rate_change_keeps",
         ],
     ),
@@ -92,9 +90,11 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 6] = [
 const CHECK_DEFAULTS: [(&str, &str); 2] =
     [("term_months", "360"), ("payment_frequency", "monthly")];
 
-/// A verdict: a headline, whether the quote holds, and the reasoning.
+/// A verdict: what it is about, whether the quote matches, and why.
 pub struct Verdict {
     pub title: &'static str,
+    /// "Matches the quote", "Differs from the quote by 15.70", "Within the tolerance"…
+    pub status: String,
     pub headline: String,
     /// `Some(true)` within tolerance (or matching), `Some(false)` not, `None` nothing quoted.
     pub holds: Option<bool>,
@@ -109,6 +109,15 @@ impl Verdict {
             None => "verdict",
         }
     }
+
+    /// The mark before the status, so a verdict is told by more than colour.
+    pub fn mark(&self) -> &'static str {
+        match self.holds {
+            Some(true) => "✓",
+            Some(false) => "✗",
+            None => "",
+        }
+    }
 }
 
 /// A computed check.
@@ -116,8 +125,10 @@ pub struct CheckResult {
     pub currency: &'static str,
     pub verdicts: Vec<Verdict>,
     pub figures: Vec<Figure>,
-    /// (figure, value, as disclosed, rule).
+    /// (figure, value, as disclosed, rule), for "How this was worked out".
     pub rounding: Vec<(String, String, String, String)>,
+    /// The working behind the verdicts, in words (unrounded figures included).
+    pub working: Vec<String>,
     pub notes: Vec<String>,
     pub json_url: String,
     pub loan_url: String,
@@ -139,15 +150,58 @@ fn r4(text: &str) -> String {
         .unwrap_or_else(|_| text.to_string())
 }
 
+/// A difference in percentage points, to three decimals as the APR is shown.
+fn points(text: &str) -> String {
+    text.parse::<rust_decimal::Decimal>()
+        .map(|d| crate::engine::disclosure::form_percent(d.abs()).to_string())
+        .unwrap_or_else(|_| text.to_string())
+}
+
+/// The APR as a disclosure shows it: three decimals, trailing zeros dropped (§1026.37(o)(4)).
+fn shown_apr(a: &CheckAnswer) -> String {
+    a.apr_percent_full
+        .parse::<rust_decimal::Decimal>()
+        .map(|d| crate::engine::disclosure::form_percent(d).to_string())
+        .unwrap_or_else(|_| a.apr_percent.clone())
+}
+
+/// A disclosure figure's name as the form prints it.
+fn disclosure_name(figure: &str) -> &str {
+    match figure {
+        "apr_percent" => "Annual percentage rate",
+        "total_interest_percentage" => "Total interest percentage",
+        "in_five_years.total_paid" => "In 5 years: total paid",
+        "in_five_years.principal_paid" => "In 5 years: principal paid",
+        "amount_financed" => "Amount financed",
+        "finance_charge" => "Finance charge",
+        "total_of_payments" => "Total of payments",
+        other => other,
+    }
+}
+
+/// A disclosure figure written for reading: money grouped by thousands, percentages with "%".
+fn readable(figure: &str, value: &str) -> String {
+    if figure.ends_with("percent") || figure.ends_with("percentage") {
+        format!("{value} %")
+    } else {
+        g(value)
+    }
+}
+
 fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
     let cur = a.currency;
+    let apr = shown_apr(a);
     let mut v = Vec::new();
     let mut payment = Verdict {
         title: "The payment",
-        headline: format!("The computed payment is {} {cur}.", g(&a.computed_payment)),
+        status: String::new(),
+        headline: format!(
+            "The monthly principal and interest come to {} {cur} a payment.",
+            g(&a.computed_payment)
+        ),
         holds: a.payment_matches,
         reasoning: vec![format!(
-            "Solved in closed form for {} payments and rounded to the cent; the posted ledger then repays the loan exactly, the last payment being {}.",
+            "Over {} payments, rounded to the cent; the last payment, {}, takes up what the rounding leaves.",
             a.number_of_payments,
             g(&a.final_payment)
         )],
@@ -155,22 +209,25 @@ fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
     if let (Some(q), Some(d), Some(m)) =
         (&a.quoted_payment, &a.payment_difference, a.payment_matches)
     {
-        payment.headline = if m {
-            format!(
-                "The quoted payment of {} matches the computed payment to the cent.",
+        if m {
+            payment.status = "Matches the quote".into();
+            payment.headline = format!(
+                "The quoted payment of {} is the payment worked out here, to the cent.",
                 g(q)
-            )
+            );
         } else {
-            format!(
-                "The quoted payment of {} differs from the computed {} by {} (quote minus computed).",
+            let by = g(d.trim_start_matches('-'));
+            payment.status = format!("Differs from the quote by {by}");
+            payment.headline = format!(
+                "The quote says {}; worked out here it is {}, so the quote is {by} {}.",
                 g(q),
                 g(&a.computed_payment),
-                g(d)
-            )
-        };
+                if d.starts_with('-') { "low" } else { "high" }
+            );
+        }
         match &a.implied_annual_rate_percent {
             Some(r) => payment.reasoning.push(format!(
-                "Over the same term, the quoted payment implies a note rate of {} % a year (found by root finding on the closed form).",
+                "The quoted payment fits a note rate of {} % a year over the same term.",
                 r4(r)
             )),
             None => payment.reasoning.push(
@@ -179,19 +236,19 @@ fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
         }
     }
     v.push(payment);
-    let mut apr = Verdict {
+    let mut apr_verdict = Verdict {
         title: "The APR",
-        headline: format!("The computed APR is {} %.", a.apr_percent),
+        status: String::new(),
+        headline: format!("The APR is {apr} %."),
         holds: a.apr_within_tolerance,
         reasoning: vec![
             format!(
-                "The APR is the rate at which the payments repay the amount financed, {} (the loan less the prepaid finance charges of {}), by the actuarial method of Regulation Z, Appendix J. Unrounded it is {} %.",
+                "The APR is the yearly rate at which the payments repay the amount financed, {} (the loan less the prepaid finance charges of {}), by the actuarial method of Regulation Z, Appendix J.",
                 g(&a.amount_financed),
                 g(&a.prepaid_finance_charges_total),
-                r4(&a.apr_percent_full)
             ),
             format!(
-                "The tolerance is {} of a percentage point (Regulation Z, §1026.22(a)(2) for a regular transaction, §1026.22(a)(3) for an irregular one): the transaction is {}. {}",
+                "A quoted APR may differ by up to {} of a percentage point (Regulation Z, §1026.22(a)(2) for a regular transaction, §1026.22(a)(3) for an irregular one); this transaction is {}. {}",
                 a.apr_tolerance_points, a.apr_transaction, a.apr_tolerance_reason
             ),
         ],
@@ -201,24 +258,31 @@ fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
         &a.apr_difference_points,
         a.apr_within_tolerance,
     ) {
-        apr.headline = format!(
-            "The quoted APR of {q} % is {} the tolerance: it differs from the computed {} % by {} points, against a tolerance of {} points.",
-            if ok { "within" } else { "outside" },
-            r4(&a.apr_percent_full),
-            r4(d),
+        apr_verdict.status = if ok {
+            "Within the tolerance of the quote".into()
+        } else {
+            "Outside the tolerance of the quote".into()
+        };
+        apr_verdict.headline = format!(
+            "The APR is {apr} %. The quote says {q} %, a difference of {} of a percentage point, against a tolerance of {}.",
+            points(d),
             a.apr_tolerance_points
         );
     }
-    v.push(apr);
+    v.push(apr_verdict);
     if let Some(t) = &a.finance_charge_tolerance {
         v.push(Verdict {
             title: "The finance charge",
+            status: if t.within_tolerance {
+                "Within the tolerance of the quote".into()
+            } else {
+                "Outside the tolerance of the quote".into()
+            },
             headline: format!(
-                "The quoted finance charge of {} is {} the tolerance: it differs from the computed {} by {}, against a tolerance of {}.",
-                g(&t.quoted_finance_charge),
-                if t.within_tolerance { "within" } else { "outside" },
+                "The finance charge is {}. The quote says {}, a difference of {}, against a tolerance of {}.",
                 g(&t.finance_charge),
-                g(&t.difference),
+                g(&t.quoted_finance_charge),
+                g(t.difference.trim_start_matches('-')),
                 g(&t.tolerance)
             ),
             holds: Some(t.within_tolerance),
@@ -226,6 +290,36 @@ fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
         });
     }
     v
+}
+
+/// The working behind the verdicts: how the payment and the APR were found,
+/// with the unrounded figures.
+fn working(a: &CheckAnswer) -> Vec<String> {
+    let mut w = vec![
+        format!(
+            "The payment is solved exactly from the loan's period-to-period rule (in closed form) for {} payments and rounded to the cent; the schedule is then posted as a servicing system books it, each period's interest rounded to the cent, and the last payment ({}) repays what is left.",
+            a.number_of_payments,
+            g(&a.final_payment)
+        ),
+        format!(
+            "Unrounded, the APR is {} %; a disclosure shows it to three decimals, {} %.",
+            a.apr_percent_full,
+            shown_apr(a)
+        ),
+    ];
+    if let (Some(q), Some(d)) = (&a.quoted_apr_percent, &a.apr_difference_points) {
+        w.push(format!(
+            "The quoted {q} % less the unrounded APR is {} of a percentage point.",
+            r4(d)
+        ));
+    }
+    if let Some(r) = &a.implied_annual_rate_percent {
+        w.push(format!(
+            "The rate that gives the quoted payment, {} % a year, is found by root finding on the closed form.",
+            r
+        ));
+    }
+    w
 }
 
 /// Reads and computes with the check API's reader and computation.
@@ -249,7 +343,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
             "Payment",
             g(&a.computed_payment),
             a.computed_payment.clone(),
-            a.currency,
+            format!("{}, principal and interest", a.currency),
         )
         .keyed("computed_payment"),
         Figure::new(
@@ -261,9 +355,9 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
         .keyed("number_of_payments"),
         Figure::new(
             "APR",
-            format!("{} %", a.apr_percent),
+            format!("{} %", shown_apr(&a)),
             a.apr_percent.clone(),
-            format!("unrounded {} %", a.apr_percent_full),
+            "",
         )
         .keyed("apr_percent"),
         Figure::new(
@@ -302,7 +396,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
         )
         .keyed("total_interest_percentage"),
         Figure::new(
-            "In five years",
+            "In 5 years: total paid",
             g(&five.total_paid),
             five.total_paid.clone(),
             format!(
@@ -327,20 +421,24 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
     Ok(CheckResult {
         currency: a.currency,
         verdicts: verdicts(&a),
+        working: working(&a),
         figures,
         rounding: a
             .disclosure_rounding
             .iter()
             .map(|r| {
                 (
-                    r.figure.to_string(),
-                    r.value.clone(),
-                    r.disclosed.clone(),
+                    disclosure_name(r.figure).to_string(),
+                    readable(r.figure, &r.value),
+                    readable(r.figure, &r.disclosed),
                     r.rule.to_string(),
                 )
             })
             .collect(),
-        notes: a.notes.iter().skip(1).cloned().collect(),
+        notes: super::view::page_notes(&a.notes)
+            .into_iter()
+            .filter(|n| !n.starts_with("This check is a tool"))
+            .collect(),
         json_url: format!("/api/v1/loans/check?{query}"),
         loan_url: format!("/loan?{}", query_string(&loan)),
     })
@@ -352,14 +450,9 @@ pub fn build(q: Option<&str>) -> CheckPage {
         Ok(p) => (p, None),
         Err(e) => (vec![], Some(e)),
     };
-    let (result, problem) = if pairs.is_empty() {
-        (None, problem)
-    } else {
-        match compute(&pairs) {
-            Ok(r) => (Some(r), None),
-            Err(e) => (None, Some(e)),
-        }
-    };
+    let (pairs, rows, refused) =
+        super::rows::expand(&pairs, &[&super::rows::CHARGES, &super::rows::RATE_CHANGES]);
+    let (result, problem) = super::rows::computed(&pairs, refused, problem, compute);
     CheckPage {
         layout: Layout::new("Check a quote", "/check"),
         form: Form::new(
@@ -373,7 +466,8 @@ pub fn build(q: Option<&str>) -> CheckPage {
             &pairs,
             &CHECK_DEFAULTS,
             problem.as_ref(),
-        ),
+        )
+        .with_all_rows(rows),
         result,
     }
 }

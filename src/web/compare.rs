@@ -131,7 +131,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CompareResult, ApiError> {
             &series,
             per_year,
         ),
-        notes: dto.notes.iter().skip(1).cloned().collect(),
+        notes: super::view::page_notes(&dto.notes),
         json_url: format!("/api/v1/loans/compare?{query}"),
         csv_url: format!("/api/v1/loans/compare.csv?{query}"),
     })
@@ -171,14 +171,9 @@ pub fn build(q: Option<&str>) -> ComparePage {
         Ok(p) => (p, None),
         Err(e) => (vec![], Some(e)),
     };
-    let (result, problem) = if pairs.is_empty() {
-        (None, problem)
-    } else {
-        match compute(&pairs) {
-            Ok(r) => (Some(r), None),
-            Err(e) => (None, Some(e)),
-        }
-    };
+    let (pairs, rows, refused) =
+        super::rows::expand(&pairs, &[&super::rows::EXTRAS, &super::rows::RATE_CHANGES]);
+    let (result, problem) = super::rows::computed(&pairs, refused, problem, compute);
     ComparePage {
         layout: Layout::new("Compare plans", "/compare"),
         form: Form::new(
@@ -188,7 +183,8 @@ pub fn build(q: Option<&str>) -> ComparePage {
             &pairs,
             &COMPARE_DEFAULTS,
             problem.as_ref(),
-        ),
+        )
+        .with_all_rows(rows),
         result,
     }
 }

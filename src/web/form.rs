@@ -206,6 +206,8 @@ impl Group {
 /// list, each column a field repeated once a row). Without a script the form
 /// shows a fixed number of rows; blank rows are ignored by the reader.
 pub struct Rows {
+    /// The fieldset's id (the error summary links to it).
+    pub id: &'static str,
     pub legend: &'static str,
     /// (parameter name, column heading, `inputmode`).
     pub columns: Vec<(&'static str, &'static str, &'static str)>,
@@ -214,9 +216,26 @@ pub struct Rows {
     /// What is wrong with the rows, in words.
     pub errors: Vec<String>,
     pub hint: &'static str,
+    /// The API's list parameter the rows become, when they become one ("" when
+    /// each column is a parameter of its own).
+    pub param: &'static str,
+    /// Each row's item of that list, as the API's reader quotes it in a problem.
+    pub items: Vec<String>,
 }
 
 impl Rows {
+    /// A problem that quotes an item ("\"150@x\": …") told by its row instead.
+    fn row_named(&self, text: &str) -> String {
+        let quoted = text
+            .strip_prefix('"')
+            .and_then(|t| t.split_once("\": "))
+            .and_then(|(item, rest)| {
+                let row = self.items.iter().position(|i| i.starts_with(item))?;
+                Some(format!("row {}: {rest}", row + 1))
+            });
+        quoted.unwrap_or_else(|| text.to_string())
+    }
+
     /// The rows of `columns` from the query: as many as typed, then blank ones up to `shown`.
     pub fn from_query(
         legend: &'static str,
@@ -226,43 +245,56 @@ impl Rows {
         defaults: &[&[&str]],
         shown: usize,
     ) -> Self {
-        let cols: Vec<Vec<&str>> = columns
-            .iter()
-            .map(|(n, _, _)| {
-                pairs
-                    .iter()
-                    .filter(|(k, _)| k == n)
-                    .map(|(_, v)| v.as_str())
-                    .collect()
-            })
-            .collect();
-        let typed = cols.iter().map(Vec::len).max().unwrap_or(0);
+        let names: Vec<&str> = columns.iter().map(|(n, _, _)| *n).collect();
         let mut values: Vec<Vec<String>> = if pairs.is_empty() {
             defaults
                 .iter()
                 .map(|r| r.iter().map(|v| (*v).to_string()).collect())
                 .collect()
         } else {
-            (0..typed)
-                .map(|r| {
-                    cols.iter()
-                        .map(|c| c.get(r).copied().unwrap_or("").to_string())
-                        .collect()
-                })
-                .filter(|row: &Vec<String>| row.iter().any(|v| !v.trim().is_empty()))
+            typed_rows(&names, pairs)
+                .into_iter()
+                .map(|r| r.into_iter().map(str::to_string).collect())
                 .collect()
         };
         while values.len() < shown {
             values.push(vec![String::new(); columns.len()]);
         }
         Self {
+            id: "rows",
             legend,
             columns,
             values,
             errors: Vec::new(),
             hint,
+            param: "",
+            items: Vec::new(),
         }
     }
+}
+
+/// The rows typed in the fields `names`, read by position (the n-th value of
+/// each field makes row n), values trimmed, wholly blank rows left out.
+pub fn typed_rows<'a>(names: &[&str], pairs: &'a [(String, String)]) -> Vec<Vec<&'a str>> {
+    let cols: Vec<Vec<&str>> = names
+        .iter()
+        .map(|n| {
+            pairs
+                .iter()
+                .filter(|(k, _)| k == n)
+                .map(|(_, v)| v.trim())
+                .collect()
+        })
+        .collect();
+    let count = cols.iter().map(Vec::len).max().unwrap_or(0);
+    (0..count)
+        .map(|r| {
+            cols.iter()
+                .map(|c| c.get(r).copied().unwrap_or(""))
+                .collect()
+        })
+        .filter(|row: &Vec<&str>| row.iter().any(|v| !v.is_empty()))
+        .collect()
 }
 
 /// A page's form: its groups, and the errors that belong to no field.
@@ -270,7 +302,7 @@ pub struct Form {
     pub action: &'static str,
     pub groups: Vec<Group>,
     /// Repeatable rows, after the groups.
-    pub rows: Option<Rows>,
+    pub rows: Vec<Rows>,
     /// Problems not tied to a shown field (an unknown parameter, a malformed query).
     pub general_errors: Vec<String>,
     /// Every error, for the summary at the top of the form: (field id or "", words).
@@ -381,7 +413,7 @@ impl Form {
         Form {
             action,
             groups,
-            rows: None,
+            rows: Vec::new(),
             general_errors,
             summary,
             status: problem.map_or(axum::http::StatusCode::OK, |p| p.kind.status()),
@@ -390,26 +422,47 @@ impl Form {
 }
 
 impl Form {
-    /// The form with repeatable rows; errors on the rows' columns move from the
-    /// general errors to the rows.
+    /// The form with repeatable rows; errors on the rows' columns (or on the
+    /// list they become) move from the general errors to the rows.
     #[must_use]
     pub fn with_rows(mut self, mut rows: Rows) -> Self {
-        let names: Vec<&str> = rows.columns.iter().map(|(n, _, _)| *n).collect();
-        self.general_errors.retain(|e| {
-            let mine = names.iter().any(|n| e.starts_with(&format!("{n}: ")));
-            if mine {
-                let text = e.split_once(": ").map_or(e.as_str(), |(_, m)| m);
-                rows.errors.push(capitalized(text));
-            }
-            !mine
-        });
-        self.summary
-            .retain(|(_, m)| !names.iter().any(|n| m.starts_with(&format!("{n}: "))));
-        for e in &rows.errors {
-            self.summary.push(("rows".to_string(), e.clone()));
+        let mut names: Vec<&str> = rows.columns.iter().map(|(n, _, _)| *n).collect();
+        if !rows.param.is_empty() {
+            names.push(rows.param);
         }
-        self.rows = Some(rows);
+        let mine = |e: &str| {
+            names
+                .iter()
+                .any(|n| e.starts_with(&format!("{n}: ")) || e.starts_with(&format!("{n}/")))
+        };
+        let legend = rows.legend;
+        self.general_errors.retain(|e| {
+            if mine(e) {
+                let text = e.split_once(": ").map_or(e.as_str(), |(_, m)| m);
+                let words = if rows.param.is_empty() {
+                    capitalized(text)
+                } else {
+                    format!("{legend}: {}", rows.row_named(text))
+                };
+                rows.errors.push(words);
+            }
+            !mine(e)
+        });
+        self.summary.retain(|(_, m)| !mine(m));
+        if !rows.errors.is_empty() && self.status == axum::http::StatusCode::OK {
+            self.status = axum::http::StatusCode::UNPROCESSABLE_ENTITY;
+        }
+        for e in &rows.errors {
+            self.summary.push((rows.id.to_string(), e.clone()));
+        }
+        self.rows.push(rows);
         self
+    }
+
+    /// The form with each of `rows` (see [`Form::with_rows`]).
+    #[must_use]
+    pub fn with_all_rows(self, rows: Vec<Rows>) -> Self {
+        rows.into_iter().fold(self, Self::with_rows)
     }
 }
 
@@ -504,7 +557,7 @@ fn grouped_by_thousands(v: &str) -> bool {
             .all(|g| g.len() == 3 && g.bytes().all(|b| b.is_ascii_digit()))
 }
 
-fn tidy_number(v: &str) -> String {
+pub(super) fn tidy_number(v: &str) -> String {
     match crate::input::fields::parse_decimal(v, true) {
         Ok(d) => d.to_string(),
         Err(_) => v.trim().to_string(),
@@ -514,7 +567,7 @@ fn tidy_number(v: &str) -> String {
 /// A list of `name:amount` written as a person types it: "origination:2,500,
 /// points:$1,250.50" as "origination:2500,points:1250.50". A piece of exactly three
 /// digits (no name) after an amount is that amount's next group of thousands.
-fn tidy_named_amounts(v: &str) -> String {
+pub(super) fn tidy_named_amounts(v: &str) -> String {
     let mut pieces: Vec<String> = Vec::new();
     for piece in v.split(',') {
         let t = piece.trim();

@@ -181,7 +181,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<GridResult, ApiError> {
     Ok(GridResult {
         currency: dto.currency,
         tables,
-        notes: dto.notes.iter().skip(1).cloned().collect(),
+        notes: super::view::page_notes(&dto.notes),
         json_url: format!("/api/v1/loans/grid?{query}"),
         csv_url: format!("/api/v1/loans/grid.csv?{query}"),
     })

@@ -28,12 +28,12 @@ pub const JOBS: [Job; 7] = [
     Job {
         title: "Weigh a refinance",
         path: "/refinance",
-        words: "Does refinancing pay, and when? Both payments, the months to recover the costs (with and without the balances counted), and each way's cost at 5, 7 and 10 years.",
+        words: "Does refinancing pay, and when? Both payments, how many months the savings take to repay the costs (simply, and counting what is still owed on each loan), and what each way costs after 5, 7 and 10 years.",
     },
     Job {
         title: "Weigh rate and points",
         path: "/options",
-        words: "Two to six rate-and-points options on one loan: each payment, when paying points pays for itself, and which option costs least at each horizon.",
+        words: "Two to six rate-and-points options on one loan: each payment, the months until paying points pays for itself, and which option costs least, depending on how long the loan is kept.",
     },
     Job {
         title: "Print a payment grid",
@@ -43,12 +43,12 @@ pub const JOBS: [Job; 7] = [
     Job {
         title: "Check a quote",
         path: "/check",
-        words: "Is a quoted payment right to the cent, and a disclosed APR within its tolerance? With the implied rate and the reasoning.",
+        words: "Is a quoted payment right to the cent, and a disclosed APR within the allowed tolerance? With the rate the quoted payment implies, and how each figure was worked out.",
     },
     Job {
         title: "Plan savings",
         path: "/savings",
-        words: "Deposits toward a goal, growing each year if need be; when the goal is met, or the deposit that meets it; drawdowns too.",
+        words: "Deposits toward a goal, rising each year if need be; when the goal is reached, or the deposit that reaches it; and how long regular withdrawals will last.",
     },
 ];
 

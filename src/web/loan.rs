@@ -42,10 +42,8 @@ pub const LOAN_FORM: [(&str, bool, &[&str]); 5] = [
             "first_payment_date",
             "day_count",
             "odd_days_interest",
-            "extra_payments",
             "interest_only_payments",
             "balloon_after_payments",
-            "rate_changes",
             "rate_change_keeps",
             "property_value",
             "payment_rounding",
@@ -569,7 +567,7 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
         derivation: derivation(s),
         adjustable: super::adjustable::adjustable_view(s),
         projected: super::adjustable::projected_view(s.full_payment.as_ref()),
-        notes: s.notes.iter().skip(1).cloned().collect(),
+        notes: super::view::page_notes(&s.notes),
         json_url: format!("/api/v1/loans/schedule?{query}"),
         csv_url: format!("/api/v1/loans/schedule.csv?{query}"),
     }
@@ -602,14 +600,9 @@ pub fn build(q: Option<&str>) -> LoanPage {
         Ok(p) => (p, None),
         Err(e) => (vec![], Some(e)),
     };
-    let (result, problem) = if pairs.is_empty() {
-        (None, problem)
-    } else {
-        match compute(&pairs) {
-            Ok(r) => (Some(r), None),
-            Err(e) => (None, Some(e)),
-        }
-    };
+    let (pairs, rows, refused) =
+        super::rows::expand(&pairs, &[&super::rows::EXTRAS, &super::rows::RATE_CHANGES]);
+    let (result, problem) = super::rows::computed(&pairs, refused, problem, compute);
     let title = match &result {
         Some(r) => format!("Loan schedule: {}", r.heading),
         None => "Loan schedule".to_string(),
@@ -623,7 +616,8 @@ pub fn build(q: Option<&str>) -> LoanPage {
             &pairs,
             &LOAN_DEFAULTS,
             problem.as_ref(),
-        ),
+        )
+        .with_all_rows(rows),
         result,
     }
 }

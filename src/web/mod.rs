@@ -26,6 +26,7 @@ pub mod page;
 pub mod pipeline;
 pub mod points;
 pub mod refinance;
+pub mod rows;
 pub mod savings;
 pub mod scenarios;
 pub mod view;

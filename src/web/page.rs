@@ -17,7 +17,7 @@ pub const NAV: [(&str, &str); 11] = [
     ("/check", "Check a quote"),
     ("/pipeline", "Check a pipeline"),
     ("/savings", "Savings plan"),
-    ("/about", "The method"),
+    ("/about", "How the figures are worked out"),
     ("/api", "API guide"),
 ];
 

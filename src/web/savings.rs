@@ -324,7 +324,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
             if drawdown { "withdrawal" } else { "deposit" },
         ),
         more_steps: dto.derivation.steps.clone(),
-        notes: dto.notes.iter().skip(1).cloned().collect(),
+        notes: super::view::page_notes(&dto.notes),
         json_url: format!("/api/v1/savings/plan?{query}"),
         csv_url: format!("/api/v1/savings/plan.csv?{query}"),
     })

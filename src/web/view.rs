@@ -31,6 +31,55 @@ pub fn group_thousands(text: &str) -> String {
     out
 }
 
+/// Running text with its amounts grouped by thousands: "the final payment is
+/// 1679.59" as "… 1,679.59". An amount is a number with a decimal point and at
+/// least four digits before it; a section of a regulation ("§1026.22",
+/// "12 CFR 1026.18(d)") is left alone, as are whole numbers (payment numbers, years).
+pub fn grouped_in_text(text: &str) -> String {
+    let bytes = text.as_bytes();
+    let mut out = String::with_capacity(text.len() + 8);
+    let mut i = 0;
+    while i < bytes.len() {
+        if !bytes[i].is_ascii_digit()
+            || (i > 0 && (bytes[i - 1].is_ascii_digit() || bytes[i - 1] == b'.'))
+        {
+            let ch = text[i..].chars().next().unwrap_or(' ');
+            out.push(ch);
+            i += ch.len_utf8();
+            continue;
+        }
+        let start = i;
+        while i < bytes.len() && bytes[i].is_ascii_digit() {
+            i += 1;
+        }
+        let int_end = i;
+        let mut end = i;
+        if i + 1 < bytes.len() && bytes[i] == b'.' && bytes[i + 1].is_ascii_digit() {
+            end = i + 1;
+            while end < bytes.len() && bytes[end].is_ascii_digit() {
+                end += 1;
+            }
+        }
+        let before = &text[..start];
+        let section =
+            before.ends_with('§') || before.ends_with("CFR ") || before.ends_with("Part ");
+        let cited = bytes.get(end) == Some(&b'(');
+        if end > int_end && int_end - start >= 4 && !section && !cited {
+            out.push_str(&group_thousands(&text[start..end]));
+        } else {
+            out.push_str(&text[start..end]);
+        }
+        i = end;
+    }
+    out
+}
+
+/// The engine's notes for a page: the caution (the first note) left out, as the
+/// page shows it on its own, and amounts grouped for reading.
+pub fn page_notes(notes: &[String]) -> Vec<String> {
+    notes.iter().skip(1).map(|n| grouped_in_text(n)).collect()
+}
+
 /// An amount with the currency's minor units, grouped by thousands.
 pub fn money(c: Currency, d: Decimal) -> String {
     group_thousands(&c.format(d))
@@ -127,4 +176,27 @@ pub fn span(
         }
     }
     s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn amounts_in_running_text_are_grouped_and_citations_are_not() {
+        assert_eq!(
+            grouped_in_text(
+                "The final payment is 1679.59; 360 payments from 2027; total 497225.73."
+            ),
+            "The final payment is 1,679.59; 360 payments from 2027; total 497,225.73."
+        );
+        assert_eq!(
+            grouped_in_text(
+                "By §1026.22(a)(2) and 12 CFR 1026.18, the amount financed (197000.00)."
+            ),
+            "By §1026.22(a)(2) and 12 CFR 1026.18, the amount financed (197,000.00)."
+        );
+        assert_eq!(grouped_in_text("a rate of 6.6203 %"), "a rate of 6.6203 %");
+        assert_eq!(grouped_in_text("−1234.5 and 999.99"), "−1,234.5 and 999.99");
+    }
 }

@@ -24,7 +24,9 @@ test('check: type a quote, submit, the payment, APR, implied rate and verdict ma
     await typeInto(form, 'term_months', '360');
     await typeInto(form, 'quoted_payment', '1,580.17');
     await typeInto(form, 'quoted_apr_percent', '6.75%');
-    await typeInto(form, 'prepaid_finance_charges', 'origination:2,500');
+    // The charge as rows of ordinary fields: its name and its amount.
+    await form.locator('input[name="charge_name"]').first().fill('origination');
+    await form.locator('input[name="charge_amount"]').first().fill('2,500');
     const { response, url } = await submit(w.page, form, '/check');
     assert.equal(response.status(), 200, `the check answers 200 (${url})`);
 

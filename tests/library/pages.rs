@@ -261,21 +261,21 @@ async fn the_check_page_gives_the_verdicts_of_the_check_api() {
     let api = json(&format!("/api/v1/loans/check?{q}")).await;
     let html = page(&format!("/check?{q}")).await;
     assert_eq!(api["payment_matches"], true);
-    assert!(html.contains("matches the computed payment to the cent"));
+    assert!(html.contains("Matches the quote"));
     let apr = api["apr_percent"].as_str().unwrap();
     assert!(html.contains(&format!("data-value=\"{apr}\"")));
     let within = api["apr_within_tolerance"].as_bool().unwrap();
     assert!(html.contains(if within {
-        "is within the tolerance"
+        "Within the tolerance"
     } else {
-        "is outside the tolerance"
+        "Outside the tolerance"
     }));
     assert!(html.contains(&grouped(api["amount_financed"].as_str().unwrap())));
     let html = page(
         "/check?principal=250000&annual_rate_percent=7.125&term_months=360&quoted_payment=1700",
     )
     .await;
-    assert!(html.contains("implies a note rate of"));
+    assert!(html.contains("fits a note rate of"));
     let html = refused_page(
         "/check?principal=250000&annual_rate_percent=7.125&term_months=360&mortgage=maybe",
     )
