@@ -454,7 +454,7 @@ pub fn build(q: Option<&str>) -> CheckPage {
         super::rows::expand(&pairs, &[&super::rows::CHARGES, &super::rows::RATE_CHANGES]);
     let (result, problem) = super::rows::computed(&pairs, refused, problem, compute);
     CheckPage {
-        layout: Layout::new("Check a quote", "/check"),
+        layout: Layout::new("Check a quote", "/check").with_result(result.is_some()),
         form: Form::new(
             "/check",
             &[

@@ -91,10 +91,14 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CompareResult, ApiError> {
                 number_of_payments: r.number_of_payments,
                 total_interest: super::view::group_thousands(&r.total_interest),
                 total_paid: super::view::group_thousands(&r.total_paid),
-                payoff: r
-                    .payoff_date
-                    .clone()
-                    .unwrap_or_else(|| format!("with payment {}", r.number_of_payments)),
+                payoff: match s.payoff_date {
+                    Some(d) => format!(
+                        "payment {} ({})",
+                        r.number_of_payments,
+                        super::loan::month_year(d)
+                    ),
+                    None => format!("payment {}", r.number_of_payments),
+                },
                 interest_saved: super::view::group_thousands(&r.interest_saved),
                 payments_saved: r.payments_saved.map_or_else(
                     || "not counted (another frequency)".to_string(),
@@ -175,7 +179,7 @@ pub fn build(q: Option<&str>) -> ComparePage {
         super::rows::expand(&pairs, &[&super::rows::EXTRAS, &super::rows::RATE_CHANGES]);
     let (result, problem) = super::rows::computed(&pairs, refused, problem, compute);
     ComparePage {
-        layout: Layout::new("Compare plans", "/compare"),
+        layout: Layout::new("Compare plans", "/compare").with_result(result.is_some()),
         form: Form::new(
             "/compare",
             &[crate::input::loan::LOAN, crate::input::loan::PLAN],

@@ -273,6 +273,42 @@ impl Rows {
     }
 }
 
+impl Form {
+    /// The terms a person entered, for the top of a printout: (label, value as
+    /// typed, a choice in its words), then each row of the repeatable rows.
+    pub fn entered(&self) -> Vec<(String, String)> {
+        let mut out = Vec::new();
+        for g in &self.groups {
+            for f in &g.fields {
+                if f.value.trim().is_empty() {
+                    continue;
+                }
+                let value = f
+                    .choices()
+                    .into_iter()
+                    .find(|(v, _)| f.selected(v))
+                    .map_or_else(|| f.value.clone(), |(_, words)| words.to_string());
+                out.push((f.spec.label.to_string(), value));
+            }
+        }
+        for rows in &self.rows {
+            for (i, row) in rows.values.iter().enumerate() {
+                let cells: Vec<String> = rows
+                    .columns
+                    .iter()
+                    .zip(row)
+                    .filter(|(_, v)| !v.trim().is_empty())
+                    .map(|((_, heading, _), v)| format!("{heading}: {v}"))
+                    .collect();
+                if !cells.is_empty() {
+                    out.push((format!("{}, row {}", rows.legend, i + 1), cells.join("; ")));
+                }
+            }
+        }
+        out
+    }
+}
+
 /// The rows typed in the fields `names`, read by position (the n-th value of
 /// each field makes row n), values trimmed, wholly blank rows left out.
 pub fn typed_rows<'a>(names: &[&str], pairs: &'a [(String, String)]) -> Vec<Vec<&'a str>> {

@@ -5,7 +5,7 @@ use axum::extract::RawQuery;
 use axum::response::Response;
 use rust_decimal::Decimal;
 
-use super::charts::{balance_chart, stacked_bars, Bar, Series};
+use super::charts::{balance_chart, stacked_bars, Bar, BarWords, Series};
 use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
 use super::page::{render_form, Layout};
@@ -371,7 +371,11 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             "Payment",
             money(c, s.payment),
             c.format(s.payment),
-            format!("{} {}", s.terms.payment_frequency.name(), c.code()),
+            format!(
+                "{} {}, principal and interest",
+                s.terms.payment_frequency.name(),
+                c.code()
+            ),
         )
         .keyed("payment"),
         Figure::new(
@@ -398,15 +402,15 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
     ];
     figures.push(match s.payoff_date {
         Some(d) => Figure::new(
-            "Payoff date",
+            "Pays off with",
+            format!("payment {} ({})", s.number_of_payments, month_year(d)),
             d.to_string(),
-            d.to_string(),
-            "the last payment",
+            format!("due {d}"),
         )
         .keyed("payoff_date"),
         None => Figure::new(
-            "Payoff",
-            format!("with payment {}", s.number_of_payments),
+            "Pays off with",
+            format!("payment {}", s.number_of_payments),
             String::new(),
             "give a first payment date to date the schedule",
         ),
@@ -428,7 +432,7 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             } else if level {
                 "the same as the others"
             } else {
-                "adjusted to close the balance to the cent"
+                "adjusted by the cents rounding leaves, so the loan ends at exactly zero"
             },
         )
         .keyed("final_payment"),
@@ -553,7 +557,11 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
             money(c, s.ledger.total_interest)
         ),
         &bars,
-        ("Principal", "Interest"),
+        &BarWords {
+            lower: "Principal",
+            upper: "Interest",
+            axis: "paid in the year",
+        },
     );
     LoanResult {
         heading,
@@ -571,6 +579,26 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
         json_url: format!("/api/v1/loans/schedule?{query}"),
         csv_url: format!("/api/v1/loans/schedule.csv?{query}"),
     }
+}
+
+/// "March 2057".
+pub fn month_year(d: jiff::civil::Date) -> String {
+    const MONTHS: [&str; 12] = [
+        "January",
+        "February",
+        "March",
+        "April",
+        "May",
+        "June",
+        "July",
+        "August",
+        "September",
+        "October",
+        "November",
+        "December",
+    ];
+    let m = usize::try_from(d.month()).unwrap_or(1).clamp(1, 12);
+    format!("{} {}", MONTHS[m - 1], d.year())
 }
 
 /// Reads the query with the API's reader and computes with the API's engine call.
@@ -608,7 +636,7 @@ pub fn build(q: Option<&str>) -> LoanPage {
         None => "Loan schedule".to_string(),
     };
     LoanPage {
-        layout: Layout::new(title, "/loan"),
+        layout: Layout::new(title, "/loan").with_result(result.is_some()),
         form: Form::new(
             "/loan",
             &[crate::input::loan::LOAN, crate::input::loan::PLAN],

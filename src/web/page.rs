@@ -32,6 +32,9 @@ pub struct Layout {
     /// Today's date (UTC) for the printed "prepared on" line; the figures themselves
     /// never depend on the clock.
     pub prepared_on: String,
+    /// The page shows a result, with the caution at its head: the page's own
+    /// caution at the foot is then left out, so it is read once.
+    pub result_shown: bool,
 }
 
 impl Layout {
@@ -41,7 +44,15 @@ impl Layout {
             current,
             caution: CAUTION,
             prepared_on: today(),
+            result_shown: false,
         }
+    }
+
+    /// The layout of a page that may show a result.
+    #[must_use]
+    pub fn with_result(mut self, shown: bool) -> Self {
+        self.result_shown = shown;
+        self
     }
 
     /// The navigation entries: (path, name, is this page).

@@ -5,7 +5,7 @@ use axum::extract::RawQuery;
 use axum::response::Response;
 use rust_decimal::Decimal;
 
-use super::charts::{balance_chart, stacked_bars, Bar, Series};
+use super::charts::{balance_chart, stacked_bars, Bar, BarWords, Series};
 use super::form::{normalize, query_string, Form};
 use super::mathml::{self, Step};
 use super::page::{render_form, Layout};
@@ -310,7 +310,15 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
             flow_name.to_lowercase()
         ),
         &bars,
-        (if drawdown { "Withdrawals" } else { "Deposits" }, "Interest"),
+        &BarWords {
+            lower: if drawdown { "Withdrawals" } else { "Deposits" },
+            upper: "Interest earned",
+            axis: if drawdown {
+                "withdrawn and earned in the year"
+            } else {
+                "deposited and earned in the year"
+            },
+        },
     );
     let query = query_string(&normalized);
     Ok(SavingsResult {
@@ -345,7 +353,7 @@ pub fn build(q: Option<&str>) -> SavingsPage {
         }
     };
     SavingsPage {
-        layout: Layout::new("Savings plan", "/savings"),
+        layout: Layout::new("Savings plan", "/savings").with_result(result.is_some()),
         form: Form::new(
             "/savings",
             &[crate::input::savings::SAVINGS_FIELDS],

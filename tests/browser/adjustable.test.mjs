@@ -269,8 +269,9 @@ test('adjustable: typed with escrow and mortgage insurance, the figures, tables,
     await expectProjected(w.page, a.projected_payments, '/loan adjustable (typed)');
 
     // The chart: server-rendered SVG with a title, payment and rate on the three paths.
-    const chart = section.locator('svg').first();
-    assert.equal(await section.locator('svg').count(), 1, 'the section has one chart');
+    // One chart, drawn twice (wide for a desk, narrow for a phone; the page shows one).
+    const chart = section.locator('svg.chart.wide');
+    assert.equal(await section.locator('svg.chart').count(), 2, 'the section has one chart, drawn wide and narrow');
     const c = await chart.evaluate((svg) => {
       const labelled = (svg.getAttribute('aria-labelledby') || '').split(/\s+/).filter(Boolean);
       const title = svg.querySelector(':scope > title');
@@ -492,7 +493,8 @@ test('adjustable at 390 px: the chart text stays readable', async () => {
     const r = await visit(w.page, `/loan?${LOAN_QUERY}`);
     assert.equal(r.status(), 200);
     // The chart's text as drawn: font size times the SVG's scale on screen.
-    const sizes = await adjustableSection(w.page).locator('svg').first().evaluate((svg) =>
+    // At this width the page shows the narrow drawing of the chart.
+    const sizes = await adjustableSection(w.page).locator('svg.chart.narrow').evaluate((svg) =>
       [...svg.querySelectorAll('text')].map((t) => {
         const m = t.getScreenCTM();
         const scale = Math.sqrt(m.a * m.a + m.b * m.b);

@@ -142,8 +142,10 @@ async fn the_loan_page_shows_what_the_schedule_api_answers() {
     assert!(html.contains(&grouped(last["payment"].as_str().unwrap())));
     assert!(html.matches(&caution_html()).count() >= 2);
     // Charts with text alternatives, the derivation in MathML, and the links.
-    assert!(html.contains("<svg") && html.contains("<title id=\"balance-t\">"));
-    assert!(html.contains("<desc id=\"yearly-d\">"));
+    // Each chart is drawn wide (desk) and narrow (phone); the stylesheet shows one.
+    assert!(html.contains("<svg") && html.contains("<title id=\"balance-wide-t\">"));
+    assert!(html.contains("<title id=\"balance-narrow-t\">"));
+    assert!(html.contains("<desc id=\"yearly-wide-d\">"));
     assert!(html.contains("<math display=\"block\">"));
     assert!(html.contains("<details class=\"year\""));
     let hrefs = links(&html);
@@ -226,7 +228,11 @@ async fn the_compare_page_shows_what_the_compare_api_answers() {
         );
         assert!(html.contains(&grouped(r["total_interest"].as_str().unwrap())));
     }
-    assert_eq!(html.matches("<polyline").count(), 3, "one line per plan");
+    assert_eq!(
+        html.matches("<polyline").count(),
+        6,
+        "one line per plan, in the wide and the narrow drawing"
+    );
     assert!(links(&html).contains(&format!("/api/v1/loans/compare.csv?{q}")));
     // Typed as a person types, with thousands separators.
     let typed = page(
