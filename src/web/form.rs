@@ -343,6 +343,8 @@ pub struct Form {
     pub general_errors: Vec<String>,
     /// Every error, for the summary at the top of the form: (field id or "", words).
     pub summary: Vec<(String, String)>,
+    /// The query held terms (the form is not the empty one with its defaults).
+    pub typed: bool,
     /// The page's HTTP status: 200, or the problem's (400 for a query that cannot
     /// be read, 422 for fields that are invalid or terms with no solution).
     pub status: axum::http::StatusCode,
@@ -450,6 +452,7 @@ impl Form {
             action,
             groups,
             rows: Vec::new(),
+            typed: !empty,
             general_errors,
             summary,
             status: problem.map_or(axum::http::StatusCode::OK, |p| p.kind.status()),
@@ -530,8 +533,20 @@ pub fn in_words(spec: &Spec, message: &str) -> String {
     } else {
         capitalized(&m)
     };
-    if sentence.ends_with('.') {
-        sentence
+    let sentence = sentence.trim_end_matches('.');
+    // An example of the field's own kind, unless the message gives one.
+    let example = if !spec.placeholder.is_empty() {
+        spec.placeholder
+    } else {
+        spec.example
+    };
+    let typed = matches!(kind_of(spec), Kind::Number | Kind::Whole | Kind::Date)
+        || spec.name == "term_months";
+    let has_example = ["for example", "such as", "e.g."]
+        .iter()
+        .any(|p| sentence.contains(p));
+    if typed && !example.is_empty() && !has_example {
+        format!("{sentence} (for example {example}).")
     } else {
         format!("{sentence}.")
     }

@@ -187,7 +187,7 @@ async fn errors_are_shown_next_to_their_field_with_the_form_kept() {
     assert!(html.contains("error-summary"));
     assert!(html.contains("id=\"e-annual_rate_percent\""));
     assert!(html.contains("id=\"e-principal\""));
-    assert!(html.contains("Loan amount is required."));
+    assert!(html.contains("Loan amount is required (for example 250,000)."));
     assert!(html.contains("value=\"six\""), "the typed value is kept");
     assert!(html.contains("aria-invalid=\"true\""));
     assert!(!html.contains("data-value"), "no result is shown");
