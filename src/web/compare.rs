@@ -122,7 +122,13 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CompareResult, ApiError> {
     let desc = c
         .plans
         .iter()
-        .map(|(label, s)| format!("{label}: {} payments", s.number_of_payments))
+        .map(|(label, s)| {
+            format!(
+                "{}: {} payments",
+                readable_label(label, listed.as_deref()),
+                s.number_of_payments
+            )
+        })
         .collect::<Vec<_>>()
         .join("; ");
     Ok(CompareResult {

@@ -331,7 +331,13 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
             &p.form.period,
             if drawdown { "withdrawal" } else { "deposit" },
         ),
-        more_steps: dto.derivation.steps.clone(),
+        // The year's deposit c_y written c(y): a subscript in running text.
+        more_steps: dto
+            .derivation
+            .steps
+            .iter()
+            .map(|t| t.replace("c_y", "c(y)"))
+            .collect(),
         notes: super::view::page_notes(&dto.notes),
         json_url: format!("/api/v1/savings/plan?{query}"),
         csv_url: format!("/api/v1/savings/plan.csv?{query}"),

@@ -113,11 +113,17 @@ function sidewaysScroll() {
     const text = (el.textContent || '').replace(/\s+/g, ' ').trim().slice(0, 40);
     return text ? `${s} "${text}"` : s;
   };
-  // An element clipped by a scrolling (or clipping) box that itself fits does not widen the page.
+  // An element clipped by a scrolling (or clipping) box that itself fits does not
+  // widen the page. An absolutely positioned element escapes every such box
+  // between it and its containing block (its nearest positioned ancestor).
   const clipped = (el) => {
+    let escaping = getComputedStyle(el).position === 'absolute';
     for (let a = el.parentElement; a && a !== document.body && a !== de; a = a.parentElement) {
-      const ox = getComputedStyle(a).overflowX;
-      if (ox !== 'visible' && a.getBoundingClientRect().right <= cw + 0.5) return true;
+      const cs = getComputedStyle(a);
+      const containing = cs.position !== 'static' || cs.transform !== 'none';
+      if (escaping && !containing) continue;
+      if (cs.overflowX !== 'visible' && a.getBoundingClientRect().right <= cw + 0.5) return true;
+      escaping = cs.position === 'absolute';
     }
     return false;
   };
@@ -147,7 +153,7 @@ function sidewaysScroll() {
       leaf: leaves[0] ? `${name(leaves[0])} (right edge ${Math.round(leaves[0].getBoundingClientRect().right)} px)` : '',
     });
   }
-  const out = [...byName.values()].sort((a, b) => b.width - a.width || b.right - a.right);
+  const out = [...byName.values()].sort((a, b) => b.right - a.right || b.width - a.width);
   return { scrollWidth: de.scrollWidth, clientWidth: cw, offenders: out.slice(0, 8), count: sticking.size };
 }
 
@@ -278,7 +284,7 @@ for (const vp of VIEWPORTS) {
         const s = await page.evaluate(sidewaysScroll);
         if (s) {
           const list = s.offenders.map((o) => `  ${o.times > 1 ? `${o.times}× ` : ''}${o.el}: right edge ${o.right} px, width ${o.width} px${o.leaf ? `; innermost: ${o.leaf}` : ''}`).join('\n');
-          assert.fail(`${where}: the page scrolls sideways (scrollWidth ${s.scrollWidth} > clientWidth ${s.clientWidth}); ${s.count} element(s) stick out, the widest:\n${list}`);
+          assert.fail(`${where}: the page scrolls sideways (scrollWidth ${s.scrollWidth} > clientWidth ${s.clientWidth}); ${s.count} element(s) stick out, the farthest first:\n${list}`);
         }
       });
 
