@@ -742,7 +742,23 @@ mod tests {
     #[test]
     fn messages_name_fields_by_their_labels() {
         let s = spec("principal").unwrap();
-        assert_eq!(in_words(s, "is required"), "Loan amount is required.");
+        // With an example of the field's own kind (its placeholder).
+        assert_eq!(
+            in_words(s, "is required"),
+            "Loan amount is required (for example 250,000)."
+        );
+        // A message that gives its own example gets no second one; a choice none.
+        assert_eq!(
+            in_words(
+                spec("annual_rate_percent").unwrap(),
+                "must be a number, e.g. 6.5"
+            ),
+            "Interest rate (% a year) must be a number, e.g. 6.5."
+        );
+        assert_eq!(
+            in_words(spec("payment_frequency").unwrap(), "is not a frequency"),
+            "Payments made is not a frequency."
+        );
         let m = in_words(
             spec("term_months").unwrap(),
             "give one of term_months, term_payments or payment (the other is solved)",
