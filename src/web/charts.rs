@@ -260,7 +260,7 @@ fn x_years(out: &mut String, fr: &Frame, base: f64, periods: u32, per_year: u32)
     }
     let _ = write!(
         out,
-        r#"<text class="axis-label" x="{:.1}" y="{:.1}" text-anchor="middle">years from the first payment</text>"#,
+        r#"<text class="axis-label" x="{:.1}" y="{:.1}" text-anchor="middle">years from the start</text>"#,
         fr.left + plot_w / 2.0,
         base + 34.0
     );

@@ -64,6 +64,8 @@ pub struct SavingsResult {
     pub figures: Vec<Figure>,
     pub balance_chart: String,
     pub yearly_chart: String,
+    /// "deposits" or "withdrawals", for the yearly chart's caption.
+    pub flows: &'static str,
     pub schedule: Schedule,
     pub steps: Vec<Step>,
     /// The engine's further steps in words (the yearly recurrence, the solved deposit, the reconciliation).
@@ -326,6 +328,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
         figures,
         balance_chart: balance,
         yearly_chart: yearly,
+        flows: if drawdown { "withdrawals" } else { "deposits" },
         schedule,
         steps: mathml::steps(
             &p.form.period,
