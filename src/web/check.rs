@@ -48,7 +48,7 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 6] = [
         ],
     ),
     (
-        "Dates (an odd first period) and changes over time",
+        super::rows::DATES_GROUP,
         true,
         &[
             "funding_date",

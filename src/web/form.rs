@@ -215,6 +215,9 @@ pub struct Rows {
     pub values: Vec<Vec<String>>,
     /// What is wrong with the rows, in words.
     pub errors: Vec<String>,
+    /// The legend of the group the rows follow in the form (after the last
+    /// group when no group has it).
+    pub after: &'static str,
     pub hint: &'static str,
     /// The API's list parameter the rows become, when they become one ("" when
     /// each column is a parameter of its own).
@@ -269,11 +272,40 @@ impl Rows {
             hint,
             param: "",
             items: Vec::new(),
+            after: "",
         }
     }
 }
 
+/// A part of a form, in the order shown: a group of fields or repeatable rows.
+pub enum Block<'a> {
+    Group(&'a Group),
+    Rows(&'a Rows),
+}
+
 impl Form {
+    /// The groups and the rows in the order shown: each set of rows after the
+    /// group it names, the others at the end.
+    pub fn blocks(&self) -> Vec<Block<'_>> {
+        let mut out = Vec::new();
+        for g in &self.groups {
+            out.push(Block::Group(g));
+            out.extend(
+                self.rows
+                    .iter()
+                    .filter(|r| r.after == g.legend)
+                    .map(Block::Rows),
+            );
+        }
+        out.extend(
+            self.rows
+                .iter()
+                .filter(|r| !self.groups.iter().any(|g| g.legend == r.after))
+                .map(Block::Rows),
+        );
+        out
+    }
+
     /// The terms a person entered, for the top of a printout: (label, value as
     /// typed, a choice in its words), then each row of the repeatable rows.
     pub fn entered(&self) -> Vec<(String, String)> {

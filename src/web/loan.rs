@@ -35,7 +35,7 @@ pub const LOAN_FORM: [(&str, bool, &[&str]); 5] = [
         &["payment_frequency", "compounding", "currency"],
     ),
     (
-        "Dates, extra payments and changes over time",
+        super::rows::DATES_GROUP,
         true,
         &[
             "funding_date",

@@ -22,11 +22,17 @@ pub struct RowKind {
     pub columns: &'static [(&'static str, &'static str, &'static str)],
     /// Blank rows shown when none is typed (a form without a script adds no rows).
     pub shown: usize,
+    /// The legend of the form group the rows follow.
+    pub after: &'static str,
     /// One row's cells as one item of the compact list, or what is wrong.
     pub to_item: fn(&[&str]) -> Result<String, String>,
     /// One item of the compact list as a row's cells.
     pub from_item: fn(&str) -> Option<Vec<String>>,
 }
+
+/// The legend of the form group of dates and the loan's shape, which the
+/// extra payments and rate changes follow.
+pub const DATES_GROUP: &str = "Dates and the shape of the loan";
 
 /// Extra payments: an amount, the first payment (a number or a date), how
 /// often, and the last payment.
@@ -42,6 +48,7 @@ pub const EXTRAS: RowKind = RowKind {
         ("extra_until", "Last payment (blank: to the end)", "numeric"),
     ],
     shown: 2,
+    after: DATES_GROUP,
     to_item: extra_item,
     from_item: extra_cells,
 };
@@ -57,6 +64,7 @@ pub const RATE_CHANGES: RowKind = RowKind {
         ("change_rate", "New annual rate (%)", "decimal"),
     ],
     shown: 2,
+    after: DATES_GROUP,
     to_item: change_item,
     from_item: change_cells,
 };
@@ -72,6 +80,7 @@ pub const CHARGES: RowKind = RowKind {
         ("charge_amount", "Amount", "decimal"),
     ],
     shown: 3,
+    after: "The quote",
     to_item: charge_item,
     from_item: charge_cells,
 };
@@ -303,6 +312,7 @@ fn rows_of(
         hint: kind.hint,
         param: kind.param,
         items,
+        after: kind.after,
     }
 }
 
