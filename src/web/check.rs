@@ -77,7 +77,7 @@ pub const CHECK_FORM: [(&str, bool, &[&str]); 6] = [
         ],
     ),
     (
-        "Mortgage insurance (for In 5 years)",
+        "Mortgage insurance (counted in the In 5 years figures)",
         true,
         &[
             "mortgage_insurance_monthly",
@@ -148,6 +148,14 @@ fn r4(text: &str) -> String {
     text.parse::<rust_decimal::Decimal>()
         .map(|d| d.round_dp(4).normalize().to_string())
         .unwrap_or_else(|_| text.to_string())
+}
+
+/// A long figure to ten decimals, for a table (the JSON keeps it whole).
+fn r10(text: &str) -> String {
+    match text.parse::<rust_decimal::Decimal>() {
+        Ok(d) if d.scale() > 10 => d.round_dp(10).normalize().to_string(),
+        _ => text.to_string(),
+    }
 }
 
 /// A difference in percentage points, to three decimals as the APR is shown.
@@ -249,7 +257,9 @@ fn verdicts(a: &CheckAnswer) -> Vec<Verdict> {
             ),
             format!(
                 "A quoted APR may differ by up to {} of a percentage point (Regulation Z, §1026.22(a)(2) for a regular transaction, §1026.22(a)(3) for an irregular one); this transaction is {}. {}",
-                a.apr_tolerance_points, a.apr_transaction, a.apr_tolerance_reason
+                a.apr_tolerance_points,
+                a.apr_transaction,
+                super::view::grouped_in_text(&a.apr_tolerance_reason)
             ),
         ],
     };
@@ -302,8 +312,8 @@ fn working(a: &CheckAnswer) -> Vec<String> {
             g(&a.final_payment)
         ),
         format!(
-            "Unrounded, the APR is {} %; a disclosure shows it to three decimals, {} %.",
-            a.apr_percent_full,
+            "Unrounded, the APR is {} % (to ten decimals; the JSON answer gives every digit); a disclosure shows it to three decimals, {} %.",
+            r10(&a.apr_percent_full),
             shown_apr(a)
         ),
     ];
@@ -316,7 +326,7 @@ fn working(a: &CheckAnswer) -> Vec<String> {
     if let Some(r) = &a.implied_annual_rate_percent {
         w.push(format!(
             "The rate that gives the quoted payment, {} % a year, is found by root finding on the closed form.",
-            r
+            r10(r)
         ));
     }
     w
@@ -429,13 +439,13 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CheckResult, ApiError> {
             .map(|r| {
                 (
                     disclosure_name(r.figure).to_string(),
-                    readable(r.figure, &r.value),
+                    readable(r.figure, &r10(&r.value)),
                     readable(r.figure, &r.disclosed),
                     r.rule.to_string(),
                 )
             })
             .collect(),
-        notes: super::view::page_notes(&a.notes)
+        notes: super::form::page_notes(&a.notes)
             .into_iter()
             .filter(|n| !n.starts_with("This check is a tool"))
             .collect(),

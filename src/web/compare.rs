@@ -141,7 +141,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<CompareResult, ApiError> {
             &series,
             per_year,
         ),
-        notes: super::view::page_notes(&dto.notes),
+        notes: super::form::page_notes(&dto.notes),
         json_url: format!("/api/v1/loans/compare?{query}"),
         csv_url: format!("/api/v1/loans/compare.csv?{query}"),
     })

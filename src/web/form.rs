@@ -320,6 +320,16 @@ impl Form {
                     .into_iter()
                     .find(|(v, _)| f.selected(v))
                     .map_or_else(|| f.value.clone(), |(_, words)| words.to_string());
+                // Amounts grouped by thousands and rates with their sign, as on paper.
+                let value = match f.spec.kind {
+                    FieldKind::Money if !f.value.contains(',') => {
+                        super::view::group_thousands(&tidy_number(&value))
+                    }
+                    FieldKind::Percent if !value.contains('%') && !value.contains(',') => {
+                        format!("{} %", value.trim())
+                    }
+                    _ => value,
+                };
                 out.push((f.spec.label.to_string(), value));
             }
         }
@@ -582,6 +592,17 @@ pub fn in_words(spec: &Spec, message: &str) -> String {
     } else {
         format!("{sentence}.")
     }
+}
+
+/// The engine's notes for a page: the caution (the first note) left out, as the
+/// page shows it on its own, field names told by their labels, and amounts
+/// grouped for reading.
+pub fn page_notes(notes: &[String]) -> Vec<String> {
+    notes
+        .iter()
+        .skip(1)
+        .map(|n| super::view::grouped_in_text(&plain(n)))
+        .collect()
 }
 
 /// Field names in a message replaced by their labels (longest names first, so

@@ -181,7 +181,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<GridResult, ApiError> {
     Ok(GridResult {
         currency: dto.currency,
         tables,
-        notes: super::view::page_notes(&dto.notes),
+        notes: super::form::page_notes(&dto.notes),
         json_url: format!("/api/v1/loans/grid?{query}"),
         csv_url: format!("/api/v1/loans/grid.csv?{query}"),
     })

@@ -575,7 +575,7 @@ pub fn result(s: &LoanSchedule, label: Option<&str>, query: &str) -> LoanResult 
         derivation: derivation(s),
         adjustable: super::adjustable::adjustable_view(s),
         projected: super::adjustable::projected_view(s.full_payment.as_ref()),
-        notes: super::view::page_notes(&s.notes),
+        notes: super::form::page_notes(&s.notes),
         json_url: format!("/api/v1/loans/schedule?{query}"),
         csv_url: format!("/api/v1/loans/schedule.csv?{query}"),
     }

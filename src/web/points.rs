@@ -168,7 +168,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<OptionsResult, ApiError> {
         cheapest,
         changes,
         derivation: dto.derivation.clone(),
-        notes: super::view::page_notes(&dto.notes),
+        notes: super::form::page_notes(&dto.notes),
         json_url: format!("/api/v1/loans/options?{query}"),
         csv_url: format!("/api/v1/loans/options.csv?{query}"),
     })

@@ -243,7 +243,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<RefinanceResult, ApiError> 
         horizons,
         five_years,
         derivation: dto.derivation.clone(),
-        notes: super::view::page_notes(&dto.notes),
+        notes: super::form::page_notes(&dto.notes),
         json_url: format!("/api/v1/refinance?{query}"),
         csv_url: format!("/api/v1/refinance.csv?{query}"),
         new_loan_url: format!("/loan?{}", query_string(&new_loan)),

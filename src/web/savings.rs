@@ -341,7 +341,7 @@ pub fn compute(pairs: &[(String, String)]) -> Result<SavingsResult, ApiError> {
             .iter()
             .map(|t| t.replace("c_y", "c(y)"))
             .collect(),
-        notes: super::view::page_notes(&dto.notes),
+        notes: super::form::page_notes(&dto.notes),
         json_url: format!("/api/v1/savings/plan?{query}"),
         csv_url: format!("/api/v1/savings/plan.csv?{query}"),
     })

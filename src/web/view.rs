@@ -74,17 +74,6 @@ pub fn grouped_in_text(text: &str) -> String {
     out
 }
 
-/// The engine's notes for a page: the caution (the first note) left out, as the
-/// page shows it on its own, field names told by their labels, and amounts
-/// grouped for reading.
-pub fn page_notes(notes: &[String]) -> Vec<String> {
-    notes
-        .iter()
-        .skip(1)
-        .map(|n| grouped_in_text(&super::form::plain(n)))
-        .collect()
-}
-
 /// An amount with the currency's minor units, grouped by thousands.
 pub fn money(c: Currency, d: Decimal) -> String {
     group_thousands(&c.format(d))
